@@ -1,0 +1,104 @@
+"""The one exception hierarchy of handcheck.
+
+Every error a user can cause derives from :class:`HandcheckError`. Each concrete
+error also inherits the matching builtin (a parse error is a ``ValueError``), keeps
+structured fields, and builds its message for the engineer: what is wrong, where,
+and how to fix it. The command line maps every one of them to exit status 2 and a
+single line on stderr.
+"""
+
+from __future__ import annotations
+
+__all__ = [
+    "CircuitError",
+    "HandcheckError",
+    "LimitError",
+    "ParseError",
+    "UnitError",
+    "WorksheetError",
+]
+
+
+class HandcheckError(Exception):
+    """Root of every error handcheck raises for bad input."""
+
+    def __init__(self, message: str, *, file: str | None = None, line: int | None = None) -> None:
+        super().__init__(message)
+        self.message = message
+        self.file = file
+        self.line = line
+
+    def where(self) -> str:
+        """The location prefix, ``file:line: `` or ``file: ``, or empty."""
+        if self.file and self.line:
+            return f"{self.file}:{self.line}: "
+        if self.file:
+            return f"{self.file}: "
+        return ""
+
+    def located(self, file: str | None = None, line: int | None = None) -> HandcheckError:
+        """Fill in the file and line where they are not known yet; return self."""
+        if self.file is None:
+            self.file = file
+        if self.line is None:
+            self.line = line
+        return self
+
+    def __str__(self) -> str:
+        return f"{self.where()}{self.message}"
+
+
+class WorksheetError(HandcheckError, ValueError):
+    """The worksheet file is malformed: bad TOML, a missing or unknown key, a bad value."""
+
+
+class ParseError(HandcheckError, ValueError):
+    """A formula, claim, value or quantity could not be read.
+
+    ``text`` is the text that was being read and ``column`` the 1-based position of
+    the trouble in it.
+    """
+
+    def __init__(
+        self,
+        message: str,
+        text: str = "",
+        column: int | None = None,
+        *,
+        file: str | None = None,
+        line: int | None = None,
+    ) -> None:
+        super().__init__(message, file=file, line=line)
+        self.text = text
+        self.column = column
+
+    def __str__(self) -> str:
+        text = f"{self.where()}{self.message}"
+        if self.text:
+            text += f' in "{self.text}"'
+            if self.column is not None:
+                text += f" at column {self.column}"
+        return text
+
+
+class UnitError(HandcheckError, TypeError):
+    """Quantities of different dimensions were combined, or a unit is unknown."""
+
+
+class CircuitError(HandcheckError, ValueError):
+    """The circuit cannot be solved as drawn; ``parts`` names the parts involved."""
+
+    def __init__(
+        self,
+        message: str,
+        parts: tuple[str, ...] = (),
+        *,
+        file: str | None = None,
+        line: int | None = None,
+    ) -> None:
+        super().__init__(message, file=file, line=line)
+        self.parts = tuple(parts)
+
+
+class LimitError(HandcheckError, ValueError):
+    """An input goes beyond a limit that keeps handcheck from hanging."""

@@ -1,0 +1,1 @@
+"""Presentation of findings: terminal table, JSON (check output format 1)."""

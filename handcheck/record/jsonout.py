@@ -1,0 +1,56 @@
+"""Check output format 1: one JSON object (see DESIGN.md, "Check output format 1")."""
+
+from __future__ import annotations
+
+import json
+import math
+from typing import Any
+
+from handcheck.verify.findings import Report, StepFinding
+
+__all__ = ["report_dict", "to_json"]
+
+
+def _number(x: float | None) -> float | None:
+    if x is None or not math.isfinite(x):
+        return None
+    return float(f"{x:.15g}")
+
+
+def _step(step: StepFinding) -> dict[str, Any]:
+    return {
+        "name": step.name,
+        "verdict": step.verdict,
+        "claimed": step.claimed,
+        "expected": step.expected,
+        "expected_si": [_number(v) for v in step.expected_si] if step.expected_si else None,
+        "error": _number(step.error),
+        "caused_by": step.caused_by,
+        "diagnosis": [{"mistake": d.mistake, "detail": d.detail} for d in step.diagnosis],
+        # Extensions of format 1 (new keys only):
+        "quantity": step.quantity,
+        "formula": step.formula,
+        "recomputed": step.recomputed,
+        "message": step.message,
+        "line": step.line,
+    }
+
+
+def report_dict(report: Report, version: str) -> dict[str, Any]:
+    """The report as check output format 1 (plus extension keys)."""
+    return {
+        "handcheck": version,
+        "worksheet": report.path,
+        "sha256": report.sha256,
+        "ok": report.ok,
+        "first_divergence": report.first_divergence,
+        "steps": [_step(step) for step in report.steps],
+        "title": report.title,
+        "analysis": report.analysis,
+        "cautions": list(report.cautions),
+    }
+
+
+def to_json(report: Report, version: str) -> str:
+    """The report as one line of JSON."""
+    return json.dumps(report_dict(report, version), ensure_ascii=False)

@@ -1,0 +1,65 @@
+"""The terminal report: a table of steps, the diagnosis under each, one summary line."""
+
+from __future__ import annotations
+
+import textwrap
+from collections import Counter
+
+from handcheck.verify.findings import Report, StepFinding
+
+__all__ = ["render"]
+
+_MARK = {"agrees": "ok", "unchecked": "--"}
+
+
+def _verdict(step: StepFinding) -> str:
+    if step.verdict == "carried" and step.caused_by:
+        return f"carried from {step.caused_by}"
+    return step.verdict
+
+
+def _wrap(text: str, indent: int, width: int = 100) -> list[str]:
+    return textwrap.wrap(text, width=width, initial_indent=" " * indent, subsequent_indent=" " * (indent + 2))
+
+
+def render(report: Report, version: str) -> str:
+    """The whole report as text for a terminal."""
+    lines = [f"handcheck {version}: {report.title}", f"worksheet {report.path} (sha256 {report.sha256[:16]})"]
+    if report.reference:
+        lines.append(f"reference {report.reference}")
+    if report.analysis:
+        lines.append(f"analysis  {report.analysis}")
+    lines.append("")
+    rows = [("", "step", "claimed", "exact", "verdict")]
+    first = report.first_divergence
+    for step in report.steps:
+        marker = ">>" if step.name == first else _MARK.get(step.verdict, "!!")
+        rows.append((marker, step.name, step.claimed, step.expected or "", _verdict(step)))
+    widths = [max(len(row[k]) for row in rows) for k in range(5)]
+    for index, row in enumerate(rows):
+        lines.append("  ".join(cell.ljust(widths[k]) for k, cell in enumerate(row)).rstrip())
+        if index == 0:
+            continue
+        step = report.steps[index - 1]
+        indent = widths[0] + 2
+        if step.name == first:
+            lines.extend(_wrap("first divergence: the hand calculation goes wrong here", indent))
+        if step.recomputed and step.verdict in ("arithmetic", "formula", "carried"):
+            lines.extend(_wrap(f"from the author's own formula and numbers: {step.recomputed}", indent))
+        if step.message and step.verdict != "agrees":
+            lines.extend(_wrap(step.message, indent))
+        for diagnosis in step.diagnosis:
+            lines.extend(_wrap(f"likely mistake ({diagnosis.mistake}): {diagnosis.detail}", indent))
+        carried = [s.name for s in report.steps if s.caused_by == step.name and s.verdict == "carried"]
+        if carried:
+            lines.extend(_wrap(f"carried into: {', '.join(carried)}", indent))
+    for caution in report.cautions:
+        lines.append("")
+        lines.extend(_wrap("CAUTION: " + caution, 0))
+    counts = Counter(step.verdict for step in report.steps)
+    summary = ", ".join(f"{n} {verdict}" for verdict, n in counts.items())
+    lines.append("")
+    status = "OK" if report.ok else "NOT OK"
+    tail = f"; first divergence: {first}" if first else ""
+    lines.append(f"{status}: {len(report.steps)} steps ({summary}){tail}")
+    return "\n".join(lines)

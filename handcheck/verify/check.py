@@ -1,0 +1,240 @@
+"""Check every step of a worksheet: three exact evaluations and a verdict.
+
+For each step (worksheet format 1, check output format 1):
+
+- the *true value*: the declared ``quantity`` in the solved circuit or, without
+  one, the step's formula evaluated on true inputs (true part values and the true
+  values of earlier steps);
+- the *recomputation*: the formula evaluated on the author's own claimed numbers of
+  earlier steps, which separates an arithmetic slip from a conceptual error;
+- the formula on true inputs compared with the quantity's true value, which tells a
+  wrong formula.
+
+From these: ``agrees``; ``arithmetic`` (the claim does not follow from the formula
+and the author's earlier numbers); ``formula`` (right arithmetic, but the formula is
+not the quantity); ``carried`` (right formula, right arithmetic, wrong inputs from an
+earlier step, named in ``caused_by``); ``differs`` (no formula, wrong claim);
+``unit`` (dimensions do not match); ``unchecked`` (nothing to check against).
+"""
+
+from __future__ import annotations
+
+from handcheck.circuit.build import build
+from handcheck.circuit.model import Circuit
+from handcheck.errors import HandcheckError, UnitError, WorksheetError
+from handcheck.solve.phasor import Solution, solve
+from handcheck.solve.quantities import evaluate_quantity, parse_quantity
+from handcheck.verify.claims import (
+    Claim,
+    Tolerance,
+    agrees,
+    read_claim,
+    read_tolerance,
+    relative_error,
+    to_complex,
+)
+from handcheck.verify.findings import Diagnosis, Report, StepFinding
+from handcheck.verify.present import describe_frequency, format_value
+from handcheck.verify.safety import cautions
+from handcheck.worksheet.evaluate import Value, evaluate
+from handcheck.worksheet.expr import Node, names_in, parse
+from handcheck.worksheet.model import StepSpec, Worksheet
+from handcheck.worksheet.units import DIMENSIONLESS, dim_of
+
+__all__ = ["check", "part_environment"]
+
+
+def part_environment(circuit: Circuit) -> dict[str, Value]:
+    """The values a formula sees for part ids, ``f`` and ``w``."""
+    env: dict[str, Value] = {
+        "f": Value(circuit.frequency, dim_of("Hz")),
+        "w": Value(circuit.omega, dim_of("Hz")),
+    }
+    units = {"resistor": "ohm", "inductor": "H", "capacitor": "F", "vccs": "S", "ccvs": "ohm"}
+    for part in circuit.parts:
+        if part.source is not None:
+            unit = "V" if part.kind == "voltage" else "A"
+            env[part.id] = Value(part.source.phasor(circuit.phasors), dim_of(unit))
+        elif part.kind in units:
+            env[part.id] = Value(part.value, dim_of(units[part.kind]))
+        elif part.kind in ("vcvs", "cccs", "coupling", "transformer"):
+            env[part.id] = Value(part.value, DIMENSIONLESS)
+    return env
+
+
+class _Checker:
+    def __init__(self, worksheet: Worksheet, circuit: Circuit) -> None:
+        self.worksheet = worksheet
+        self.circuit = circuit
+        self._solution: Solution | None = None
+        base = part_environment(circuit)
+        self.true_env: dict[str, Value] = dict(base)
+        self.claimed_env: dict[str, Value] = dict(base)
+        self.findings: dict[str, StepFinding] = {}
+        self.default_tolerance = read_tolerance(
+            worksheet.tolerance, file=worksheet.path, line=worksheet.line_of("tolerance")
+        )
+        self.step_names = {step.name for step in worksheet.steps}
+        self.names = set(base) | self.step_names
+
+    @property
+    def solution(self) -> Solution:
+        if self._solution is None:
+            self._solution = solve(self.circuit)
+        return self._solution
+
+    def located(self, exc: HandcheckError, step: StepSpec) -> HandcheckError:
+        return exc.located(self.worksheet.path, step.line)
+
+    def parse_formula(self, step: StepSpec) -> Node:
+        assert step.formula is not None
+        try:
+            tree = parse(step.formula, self.names)
+        except HandcheckError as exc:
+            raise self.located(exc, step) from None
+        for name in names_in(tree):
+            if name == step.name:
+                raise WorksheetError(f'the formula of step "{step.name}" uses the step itself', file=self.worksheet.path, line=step.line)
+            if name in self.step_names and name not in self.findings:
+                raise WorksheetError(
+                    f'the formula of step "{step.name}" uses "{name}", which is a later step; '
+                    "a formula may use only earlier steps",
+                    file=self.worksheet.path,
+                    line=step.line,
+                )
+        return tree
+
+    def run(self) -> Report:
+        for step in self.worksheet.steps:
+            finding = self.check_step(step)
+            self.findings[step.name] = finding
+        solved = self._solution
+        return Report(
+            path=self.worksheet.path,
+            sha256=self.worksheet.sha256,
+            title=self.worksheet.title,
+            reference=self.worksheet.reference,
+            steps=tuple(self.findings.values()),
+            cautions=cautions(self.circuit, solved),
+            analysis=describe_frequency(self.circuit),
+        )
+
+    def check_step(self, step: StepSpec) -> StepFinding:
+        path = self.worksheet.path
+        claim = read_claim(step.claim, file=path, line=step.line)
+        tolerance = (
+            read_tolerance(step.tolerance, file=path, line=step.line) if step.tolerance else self.default_tolerance
+        )
+        self.claimed_env[step.name] = claim.value
+        tree = self.parse_formula(step) if step.formula else None
+        base = {"name": step.name, "claimed": step.claim, "quantity": step.quantity, "formula": step.formula, "line": step.line}
+
+        truth: Value | None = None
+        if step.quantity:
+            try:
+                quantity = parse_quantity(step.quantity)
+                truth = evaluate_quantity(self.solution, quantity)
+            except NotImplementedError as exc:
+                self.true_env[step.name] = claim.value
+                return StepFinding(
+                    **base,
+                    verdict="unchecked",
+                    message=f"the time-domain quantity {exc}() is not evaluated by this version; the claim is taken as written",
+                )
+            except HandcheckError as exc:
+                raise self.located(exc, step) from None
+
+        formula_true: Value | None = None
+        if tree is not None:
+            try:
+                formula_true = evaluate(tree, self.true_env, step.formula or "")
+            except UnitError as exc:
+                self.true_env[step.name] = truth or claim.value
+                return StepFinding(**base, verdict="unit", message=f"the formula is not consistent in its units: {exc.message}")
+            except HandcheckError as exc:
+                raise self.located(exc, step) from None
+        if truth is None:
+            truth = formula_true
+        if truth is None:
+            self.true_env[step.name] = claim.value
+            return StepFinding(**base, verdict="unchecked", message="no quantity and no formula: nothing to check the claim against")
+        self.true_env[step.name] = truth
+
+        reference = to_complex(truth.expr)
+        shown = {
+            "expected": format_value(truth, claim),
+            "expected_si": (reference.real, reference.imag),
+            "exact": truth.expr,
+        }
+        if claim.dim != truth.dim:
+            return StepFinding(
+                **base,
+                **shown,
+                verdict="unit",
+                message=f"the claim is in {claim.dim or 'no unit'}, but the quantity is in {truth.dim or 'no unit'}",
+            )
+        if formula_true is not None and formula_true.dim != truth.dim:
+            return StepFinding(
+                **base,
+                **shown,
+                verdict="unit",
+                message=f"the formula gives {formula_true.dim or 'no unit'}, but the quantity is in {truth.dim or 'no unit'}",
+            )
+        error = relative_error(claim, reference)
+        shown["error"] = error
+        if agrees(claim, reference, tolerance):
+            return StepFinding(**base, **shown, verdict="agrees")
+
+        if tree is None:
+            return self.diagnosed(StepFinding(**base, **shown, verdict="differs"), step, claim, tolerance)
+
+        try:
+            recomputed = evaluate(tree, self.claimed_env, step.formula or "")
+        except HandcheckError as exc:
+            raise self.located(exc, step) from None
+        recomputed_value = to_complex(recomputed.expr)
+        shown["recomputed"] = format_value(recomputed, claim)
+        if not agrees(claim, recomputed_value, tolerance):
+            return self.diagnosed(StepFinding(**base, **shown, verdict="arithmetic"), step, claim, tolerance)
+        assert formula_true is not None
+        if step.quantity and not agrees(claim, reference, tolerance, value=to_complex(formula_true.expr)):
+            return self.diagnosed(StepFinding(**base, **shown, verdict="formula"), step, claim, tolerance)
+        cause = self.root_cause(tree)
+        if cause is None:
+            return StepFinding(
+                **base,
+                **shown,
+                verdict="agrees",
+                message="follows from the rounded values of earlier steps",
+            )
+        return StepFinding(**base, **shown, verdict="carried", caused_by=cause)
+
+    def root_cause(self, tree: Node) -> str | None:
+        for name in names_in(tree):
+            finding = self.findings.get(name)
+            if finding is None or finding.verdict in ("agrees", "unchecked"):
+                continue
+            return finding.caused_by if finding.verdict == "carried" and finding.caused_by else name
+        return None
+
+    def diagnosed(self, finding: StepFinding, step: StepSpec, claim: Claim, tolerance: Tolerance) -> StepFinding:
+        from dataclasses import replace
+
+        from handcheck.verify.mistakes import diagnose
+
+        found = diagnose(self, step, claim, tolerance)
+        return replace(finding, diagnosis=tuple(Diagnosis(code, detail) for code, detail in found)) if found else finding
+
+
+def check(worksheet: Worksheet) -> Report:
+    """Check every step of a loaded worksheet.
+
+    Raises
+    ------
+    HandcheckError
+        For a worksheet that cannot be checked (malformed values or formulas, a
+        circuit that cannot be solved); the error names the file and line.
+    """
+    circuit = build(worksheet)
+    return _Checker(worksheet, circuit).run()
+

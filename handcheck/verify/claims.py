@@ -1,0 +1,265 @@
+"""Claims as written, and tolerances.
+
+A claim is a number with a unit (``35.81 ohm``), a rectangular value
+(``12.3 - 4.5j ohm``: the trailing unit applies to both parts) or a polar value
+(``0.63 A ∠ -22.1 deg``, ASCII ``/_`` for ∠; an angle with no unit is in degrees).
+
+The "digits" tolerance is half a unit in the last digit written, applied to each
+written number separately: real and imaginary part of a rectangular claim,
+magnitude and angle of a polar one (the usual reading of a rounded figure, common
+practice). A percentage tolerance bounds the relative error of the whole value.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass
+from fractions import Fraction
+from typing import Literal
+
+import mpmath
+import sympy
+
+from handcheck.errors import HandcheckError, ParseError, UnitError
+from handcheck.worksheet.evaluate import Value, evaluate, unit_of
+from handcheck.worksheet.expr import Binary, Number, Unary, parse, walk
+from handcheck.worksheet.units import DIMENSIONLESS, Dim
+
+__all__ = ["Claim", "Tolerance", "agrees", "read_claim", "read_tolerance", "to_complex"]
+
+#: Working precision (decimal digits) of every numerical comparison.
+DIGITS = 30
+#: Relative slack for comparisons, far below any written digit.
+SLACK = 1e-12
+
+Form = Literal["real", "rect", "polar"]
+
+
+@dataclass(frozen=True)
+class Tolerance:
+    """Either "digits" (half a unit in the last digit written) or a relative bound."""
+
+    relative: float | None = None  # None means "digits"
+
+    def __str__(self) -> str:
+        return "digits" if self.relative is None else f"{self.relative * 100:g}%"
+
+
+def read_tolerance(text: str, *, file: str | None = None, line: int | None = None) -> Tolerance:
+    """Read ``"digits"`` or a percentage such as ``"0.5%"``."""
+    cleaned = text.strip()
+    if cleaned == "digits":
+        return Tolerance()
+    match = re.fullmatch(r"(\d+(?:\.\d*)?|\.\d+)\s*%", cleaned)
+    if not match:
+        raise HandcheckError(f'tolerance "{text}" must be "digits" or a percentage like "0.5%"', file=file, line=line)
+    value = float(match.group(1)) / 100
+    if not 0 < value < 1:
+        raise HandcheckError(f'tolerance "{text}" must be more than 0% and less than 100%', file=file, line=line)
+    return Tolerance(value)
+
+
+@dataclass(frozen=True)
+class Claim:
+    """A claimed value: exact, with the resolution of each written number.
+
+    ``resolution`` is (real, imaginary) for real and rectangular claims and
+    (magnitude, angle in radians) for polar ones, in SI units; a real claim has 0 for
+    the imaginary resolution. ``unit_text`` and ``unit_factor`` describe the unit
+    the author wrote, to show expected values in it.
+    """
+
+    text: str
+    value: Value
+    form: Form
+    resolution: tuple[float, float]
+    unit_text: str
+    unit_factor: sympy.Expr
+    angle_unit: str = "deg"
+
+    @property
+    def dim(self) -> Dim:
+        return self.value.dim
+
+
+def _resolution(digits: str) -> Fraction:
+    """Half a unit in the last digit of a literal such as ``"35.81"`` or ``"2.2e-6"``."""
+    mantissa, _, exponent = digits.lower().partition("e")
+    decimals = len(mantissa.partition(".")[2])
+    power = -decimals + (int(exponent) if exponent else 0)
+    return Fraction(1, 2) * Fraction(10) ** power
+
+
+_TRAILING_UNIT = re.compile(r"^(.*?[\d.)jJ])\s*([A-Za-zΩµμ°][A-Za-z0-9_Ωµμ/*^]*)\s*$", re.S)
+
+
+def _split_unit(text: str) -> tuple[str, str]:
+    """Split ``"12.3 - 4.5j ohm"`` into ``("12.3 - 4.5j", "ohm")``; no unit gives ``""``."""
+    match = _TRAILING_UNIT.match(text)
+    if not match:
+        return text, ""
+    body, unit = match.group(1), match.group(2)
+    if unit == "j":
+        return text, ""
+    try:
+        tree = parse("1 " + unit)
+    except HandcheckError:
+        return text, ""
+    if isinstance(tree, Number) and tree.unit:
+        return body, unit
+    return text, ""
+
+
+def _numbers_only(text: str, tree: object) -> None:
+    for node in walk(tree):  # type: ignore[arg-type]
+        if not isinstance(node, (Number, Binary, Unary)) or (isinstance(node, Binary) and node.op not in "+-"):
+            raise ParseError(
+                "a claim is a number with its unit, a rectangular value like \"12.3 - 4.5j ohm\", "
+                "or a polar value like \"0.63 A ∠ -22.1 deg\"",
+                text,
+                getattr(node, "start", 0) + 1,
+            )
+
+
+def _component_resolutions(tree: object) -> tuple[Fraction, Fraction]:
+    real = imag = Fraction(0)
+    for node in walk(tree):  # type: ignore[arg-type]
+        if isinstance(node, Number):
+            res = _resolution(node.digits)
+            if node.imaginary:
+                imag = max(imag, res)
+            else:
+                real = max(real, res)
+    return real, imag
+
+
+def read_claim(text: str, *, file: str | None = None, line: int | None = None) -> Claim:
+    """Read a claim.
+
+    Raises
+    ------
+    ParseError, UnitError
+        If the text is not a number, rectangular or polar value with a unit.
+    """
+    try:
+        return _read_claim(text.strip())
+    except HandcheckError as exc:
+        raise exc.located(file, line) from None
+
+
+def _read_claim(text: str) -> Claim:
+    if "∠" in text or "/_" in text:
+        return _read_polar(text)
+    body, unit = _split_unit(text)
+    tree = parse(body)
+    _numbers_only(body, tree)
+    if any(isinstance(n, Number) and n.unit for n in walk(tree)):
+        raise ParseError("a claim takes one unit, written once at the end", text, None)
+    factor: sympy.Expr = sympy.Integer(1)
+    dim = DIMENSIONLESS
+    if unit:
+        factor, dim = unit_of(_unit_words(unit))
+    value = evaluate(tree, {}, body)
+    real, imag = _component_resolutions(tree)
+    imaginary = any(isinstance(n, Number) and n.imaginary for n in walk(tree))
+    scale = float(factor)
+    return Claim(
+        text=text,
+        value=Value(value.expr * factor, dim),
+        form="rect" if imaginary else "real",
+        resolution=(float(real) * scale, float(imag) * scale),
+        unit_text=unit,
+        unit_factor=factor,
+    )
+
+
+def _unit_words(unit: str) -> tuple[tuple[str, int], ...]:
+    tree = parse("1 " + unit)
+    assert isinstance(tree, Number)
+    return tree.unit
+
+
+def _read_polar(text: str) -> Claim:
+    mark = "∠" if "∠" in text else "/_"
+    magnitude_text, _, angle_text = text.partition(mark)
+    if not magnitude_text.strip() or not angle_text.strip():
+        raise ParseError("a polar claim needs a magnitude and an angle, like \"0.63 A ∠ -22.1 deg\"", text, None)
+    magnitude = _read_claim(magnitude_text.strip())
+    if magnitude.form != "real" or not magnitude.value.expr.is_nonnegative:
+        raise ParseError("the magnitude of a polar claim must be a number that is not negative", text, None)
+    angle_body, angle_unit = _split_unit(angle_text.strip())
+    angle_tree = parse(angle_body)
+    _numbers_only(angle_body, angle_tree)
+    if angle_unit and angle_unit not in ("deg", "degree", "degrees", "°", "rad", "radian", "radians"):
+        raise UnitError(f'the angle of a polar claim is in deg or rad, not "{angle_unit}"')
+    angle_unit = angle_unit or "deg"
+    factor, _ = unit_of(_unit_words(angle_unit))
+    angle = evaluate(angle_tree, {}, angle_body).expr * factor
+    angle_res, _ = _component_resolutions(angle_tree)
+    return Claim(
+        text=text,
+        value=Value(magnitude.value.expr * sympy.exp(sympy.I * angle), magnitude.dim),
+        form="polar",
+        resolution=(magnitude.resolution[0], float(angle_res) * float(factor)),
+        unit_text=magnitude.unit_text,
+        unit_factor=magnitude.unit_factor,
+        angle_unit="deg" if angle_unit in ("deg", "degree", "degrees", "°") else "rad",
+    )
+
+
+def to_complex(expr: sympy.Expr) -> complex:
+    """An exact value evaluated to a Python complex, via 30-digit arithmetic."""
+    value = sympy.N(expr, DIGITS)
+    re_part, im_part = value.as_real_imag()
+    try:
+        return complex(float(re_part), float(im_part))
+    except TypeError as exc:
+        raise ParseError(f"the value {expr} is not a finite number", "", None) from exc
+
+
+def _wrap(angle: float) -> float:
+    return (angle + math.pi) % (2 * math.pi) - math.pi
+
+
+def compared(claim: Claim, reference: complex) -> complex:
+    """The reference value as the claim is read: its magnitude when a plain real
+    number is claimed for a complex quantity."""
+    if claim.form == "real" and reference.imag != 0 and abs(reference.imag) > SLACK * abs(reference):
+        return complex(abs(reference), 0)
+    return reference
+
+
+def relative_error(claim: Claim, reference: complex) -> float | None:
+    """The claim's relative error against ``reference`` (absolute when the reference is 0)."""
+    target = compared(claim, reference)
+    value = to_complex(claim.value.expr)
+    if target == 0:
+        return abs(value)
+    return abs(value - target) / abs(target)
+
+
+def agrees(claim: Claim, reference: complex, tolerance: Tolerance, *, value: complex | None = None) -> bool:
+    """True when the claim agrees with ``reference`` within the tolerance.
+
+    With ``value``, judge that number instead of the claim's own, read with the
+    claim's form and resolution (used to compare a recomputation with the truth).
+    """
+    target = compared(claim, reference)
+    if value is None:
+        value = to_complex(claim.value.expr)
+    elif claim.form == "real" and value.imag != 0 and abs(value.imag) > SLACK * abs(value):
+        value = complex(abs(value), 0)
+    scale = max(abs(target), abs(value))
+    slack = SLACK * scale + 1e-300
+    if tolerance.relative is not None:
+        return abs(value - target) <= tolerance.relative * abs(target) + slack
+    res_a, res_b = claim.resolution
+    if claim.form == "polar":
+        if abs(abs(value) - abs(target)) > res_a + slack:
+            return False
+        if abs(target) <= res_a or abs(value) == 0:
+            return True  # an angle means nothing for a value that rounds to zero
+        angle_error = abs(_wrap(mpmath.arg(target) - mpmath.arg(value)))
+        return bool(angle_error <= res_b + 1e-12)
+    return abs(value.real - target.real) <= res_a + slack and abs(value.imag - target.imag) <= res_b + slack

@@ -1,0 +1,68 @@
+"""What a check finds: one :class:`StepFinding` per step and a :class:`Report`."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Literal
+
+import sympy
+
+__all__ = ["VERDICTS", "Diagnosis", "Report", "StepFinding", "Verdict"]
+
+Verdict = Literal["agrees", "arithmetic", "formula", "carried", "differs", "unit", "unchecked"]
+VERDICTS: tuple[Verdict, ...] = ("agrees", "arithmetic", "formula", "carried", "differs", "unit", "unchecked")
+#: Verdicts that do not make a worksheet fail.
+PASSING: frozenset[str] = frozenset({"agrees", "unchecked"})
+
+
+@dataclass(frozen=True)
+class Diagnosis:
+    """A catalogued mistake that reproduces the claimed number."""
+
+    mistake: str
+    detail: str
+
+
+@dataclass(frozen=True)
+class StepFinding:
+    """The verdict on one step, with the values behind it."""
+
+    name: str
+    verdict: Verdict
+    claimed: str
+    expected: str | None = None
+    expected_si: tuple[float, float] | None = None
+    error: float | None = None
+    caused_by: str | None = None
+    diagnosis: tuple[Diagnosis, ...] = ()
+    message: str | None = None
+    quantity: str | None = None
+    formula: str | None = None
+    line: int | None = None
+    exact: sympy.Expr | None = field(default=None, compare=False)
+    recomputed: str | None = None
+
+
+@dataclass(frozen=True)
+class Report:
+    """The findings for a whole worksheet."""
+
+    path: str
+    sha256: str
+    title: str
+    steps: tuple[StepFinding, ...]
+    reference: str | None = None
+    cautions: tuple[str, ...] = ()
+    notes: tuple[str, ...] = ()
+    analysis: str = ""
+
+    @property
+    def ok(self) -> bool:
+        return all(step.verdict in PASSING for step in self.steps)
+
+    @property
+    def first_divergence(self) -> str | None:
+        for step in self.steps:
+            if step.verdict not in ("agrees", "carried", "unchecked"):
+                return step.name
+        return None

@@ -1,0 +1,68 @@
+"""Numbers as an engineer reads them: in the claim's own unit and form."""
+
+from __future__ import annotations
+
+import math
+import re
+
+import sympy
+
+from handcheck.circuit.model import Circuit
+from handcheck.verify.claims import Claim, to_complex
+from handcheck.worksheet.evaluate import Value
+from handcheck.worksheet.units import dim_name
+
+__all__ = ["describe_frequency", "format_number", "format_value"]
+
+_NUMBER = re.compile(r"(\d+\.?\d*|\.\d+)")
+
+
+def _significant(claim: Claim) -> int:
+    """One digit more than the longest number the author wrote, at least 4."""
+    written = [m.group(1).lstrip("0.") for m in _NUMBER.finditer(claim.text)]
+    digits = max((len(w.replace(".", "")) for w in written), default=3)
+    return max(4, min(digits + 1, 10))
+
+
+def format_number(x: float, digits: int = 5) -> str:
+    """``x`` to ``digits`` significant digits, without trailing noise."""
+    if x == 0 or not math.isfinite(x):
+        return "0" if x == 0 else str(x)
+    text = f"{x:.{digits}g}"
+    if "e" in text:
+        mantissa, exponent = text.split("e")
+        return f"{mantissa}e{int(exponent)}"
+    return text
+
+
+def format_value(value: Value, claim: Claim) -> str:
+    """``value`` written in the claim's unit and form (real, rectangular or polar)."""
+    if value.dim == claim.dim and claim.unit_text:
+        factor, unit = float(claim.unit_factor), claim.unit_text
+    else:
+        factor, unit = 1.0, dim_name(value.dim)
+    number = to_complex(value.expr) / factor
+    digits = _significant(claim)
+    suffix = f" {unit}" if unit else ""
+    is_complex = number.imag != 0 and abs(number.imag) > 1e-12 * abs(number)
+    if claim.form == "polar" or (claim.form == "real" and is_complex):
+        angle = math.atan2(number.imag, number.real)
+        angle_text = (
+            f"{format_number(math.degrees(angle), digits)} deg"
+            if claim.angle_unit == "deg"
+            else f"{format_number(angle, digits)} rad"
+        )
+        return f"{format_number(abs(number), digits)}{suffix} ∠ {angle_text}"
+    if claim.form == "rect" or is_complex:
+        sign = "-" if number.imag < 0 else "+"
+        return f"{format_number(number.real, digits)} {sign} {format_number(abs(number.imag), digits)}j{suffix}"
+    return f"{format_number(number.real, digits)}{suffix}"
+
+
+def describe_frequency(circuit: Circuit) -> str:
+    """``"60 Hz (w = 376.99 rad/s)"`` or ``"DC"``."""
+    if circuit.omega == 0:
+        return "DC"
+    f = float(sympy.N(circuit.frequency, 15))
+    w = float(sympy.N(circuit.omega, 15))
+    return f"{format_number(f, 8)} Hz (w = {format_number(w, 8)} rad/s)"

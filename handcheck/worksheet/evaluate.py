@@ -1,0 +1,229 @@
+"""Evaluate an expression tree to an exact sympy value with its dimension.
+
+Every value is a :class:`Value`: an exact sympy expression in coherent SI units and
+a :class:`~handcheck.worksheet.units.Dim`. Dimensions are checked as the tree is
+evaluated; a mismatch raises :class:`~handcheck.errors.UnitError` quoting the
+sub-expression at fault.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass
+from fractions import Fraction
+
+import sympy
+
+from handcheck.errors import HandcheckError, LimitError, ParseError, UnitError
+from handcheck.worksheet.expr import Binary, Call, Name, Node, Number, Unary, parse
+from handcheck.worksheet.units import DIMENSIONLESS, Dim, lookup_unit
+
+__all__ = ["FUNCTIONS", "Value", "evaluate", "evaluate_text", "unit_of"]
+
+#: Largest whole power accepted (keeps exact arithmetic from exploding).
+MAX_POWER = 64
+
+
+@dataclass(frozen=True)
+class Value:
+    """An exact value in coherent SI units, and its dimension."""
+
+    expr: sympy.Expr
+    dim: Dim = DIMENSIONLESS
+
+
+def unit_of(words: tuple[tuple[str, int], ...]) -> tuple[sympy.Expr, Dim]:
+    """The exact factor and dimension of a compound unit."""
+    factor: sympy.Expr = sympy.Integer(1)
+    dim = DIMENSIONLESS
+    for word, exponent in words:
+        unit = lookup_unit(word)
+        factor *= unit.factor**exponent
+        dim = dim * unit.dim**exponent
+    return factor, dim
+
+
+def _rational(value: Fraction) -> sympy.Rational:
+    return sympy.Rational(value.numerator, value.denominator)
+
+
+def _dimensionless(name: str, value: Value, text: str, node: Node) -> None:
+    if not value.dim.dimensionless:
+        raise UnitError(
+            f'{name} needs a dimensionless argument, but "{text[node.start:node.end]}" is in {value.dim}'
+        )
+
+
+def _parallel(a: sympy.Expr, b: sympy.Expr) -> sympy.Expr:
+    if a == 0 and b == 0:
+        return sympy.Integer(0)
+    return a * b / (a + b)
+
+
+def _abs(v: sympy.Expr) -> sympy.Expr:
+    return sympy.sqrt(sympy.re(v) ** 2 + sympy.im(v) ** 2)
+
+
+@dataclass(frozen=True)
+class Function:
+    """A function a formula may call: arity, how dimensions pass, and the exact rule."""
+
+    arity: int
+    rule: Callable[..., sympy.Expr]
+    dims: str  # "none": all args dimensionless, result too; "keep": result has arg 0's dim;
+    # "sqrt": half the dim; "same2": both args same dim, result dimensionless;
+    # "polar": (any, dimensionless) -> dim of arg 0; "ratio": any -> dimensionless
+
+
+FUNCTIONS: dict[str, Function] = {
+    "sqrt": Function(1, sympy.sqrt, "sqrt"),
+    "exp": Function(1, sympy.exp, "none"),
+    "ln": Function(1, sympy.log, "none"),
+    "log10": Function(1, lambda x: sympy.log(x, 10), "none"),
+    "sin": Function(1, sympy.sin, "none"),
+    "cos": Function(1, sympy.cos, "none"),
+    "tan": Function(1, sympy.tan, "none"),
+    "atan": Function(1, sympy.atan, "none"),
+    "atan2": Function(2, sympy.atan2, "same2"),
+    "abs": Function(1, _abs, "keep"),
+    "arg": Function(1, sympy.arg, "ratio"),
+    "re": Function(1, sympy.re, "keep"),
+    "im": Function(1, sympy.im, "keep"),
+    "conj": Function(1, sympy.conjugate, "keep"),
+    "polar": Function(2, lambda m, a: m * sympy.exp(sympy.I * a), "polar"),
+    "db": Function(1, lambda x: 20 * sympy.log(_abs(x), 10), "none"),
+}
+
+
+class _Evaluator:
+    def __init__(self, text: str, env: Mapping[str, Value]) -> None:
+        self.text = text
+        self.env = env
+
+    def quote(self, node: Node) -> str:
+        return self.text[node.start : node.end].strip()
+
+    def run(self, node: Node) -> Value:
+        if isinstance(node, Number):
+            return self.number(node)
+        if isinstance(node, Name):
+            return self.name(node)
+        if isinstance(node, Unary):
+            inner = self.run(node.operand)
+            return Value(-inner.expr, inner.dim)
+        if isinstance(node, Binary):
+            return self.binary(node)
+        if isinstance(node, Call):
+            return self.call(node)
+        raise TypeError(f"unknown node {node!r}")  # pragma: no cover - the parser makes no others
+
+    def number(self, node: Number) -> Value:
+        value: sympy.Expr = _rational(node.value)
+        if node.imaginary:
+            value = value * sympy.I
+        factor, dim = unit_of(node.unit)
+        return Value(value * factor, dim)
+
+    def name(self, node: Name) -> Value:
+        ident = node.ident
+        if ident in self.env:
+            return self.env[ident]
+        if ident == "pi":
+            return Value(sympy.pi)
+        if ident == "j":
+            return Value(sympy.I)
+        known = ", ".join(sorted(k for k in self.env if not k.startswith("_")))
+        hint = f"; known names: {known}" if known else ""
+        raise ParseError(f'unknown name "{ident}"{hint}', self.text, node.start + 1)
+
+    def binary(self, node: Binary) -> Value:
+        left = self.run(node.left)
+        right = self.run(node.right)
+        op = node.op
+        if op in ("+", "-", "||"):
+            if left.dim != right.dim:
+                what = {"+": "add", "-": "subtract", "||": "combine in parallel"}[op]
+                raise UnitError(
+                    f'cannot {what} "{self.quote(node.left)}" ({left.dim or "no unit"}) and '
+                    f'"{self.quote(node.right)}" ({right.dim or "no unit"}) in "{self.quote(node)}"'
+                )
+            if op == "+":
+                return Value(left.expr + right.expr, left.dim)
+            if op == "-":
+                return Value(left.expr - right.expr, left.dim)
+            return Value(_parallel(left.expr, right.expr), left.dim)
+        if op == "*":
+            return Value(left.expr * right.expr, left.dim * right.dim)
+        if op == "/":
+            if right.expr == 0:
+                raise ParseError(f'division by zero: "{self.quote(node.right)}" is exactly 0', self.text, node.right.start + 1)
+            return Value(left.expr / right.expr, left.dim / right.dim)
+        if op == "^":
+            return self.power(node, left, right)
+        if op == "angle":
+            if not right.dim.dimensionless:
+                raise UnitError(f'the angle "{self.quote(node.right)}" must be in deg or rad, not {right.dim}')
+            return Value(left.expr * sympy.exp(sympy.I * right.expr), left.dim)
+        raise TypeError(op)  # pragma: no cover
+
+    def power(self, node: Binary, base: Value, exponent: Value) -> Value:
+        if not exponent.dim.dimensionless:
+            raise UnitError(f'the exponent "{self.quote(node.right)}" must have no unit, but is in {exponent.dim}')
+        if exponent.expr.is_Rational:
+            if abs(exponent.expr) > MAX_POWER:
+                raise LimitError(f'the power "{self.quote(node)}" is too large (at most {MAX_POWER})')
+            dim = base.dim ** Fraction(int(exponent.expr.p), int(exponent.expr.q))
+        elif base.dim.dimensionless:
+            dim = DIMENSIONLESS
+        else:
+            raise UnitError(f'"{self.quote(node.left)}" has a unit, so its exponent must be a plain number')
+        if base.expr == 0 and exponent.expr.is_negative:
+            raise ParseError(f'division by zero: "{self.quote(node)}" raises 0 to a negative power', self.text, node.start + 1)
+        return Value(base.expr**exponent.expr, dim)
+
+    def call(self, node: Call) -> Value:
+        fn = FUNCTIONS.get(node.function)
+        if fn is None:
+            known = " ".join(FUNCTIONS)
+            raise ParseError(f'unknown function "{node.function}"; known functions: {known}', self.text, node.start + 1)
+        if len(node.args) != fn.arity:
+            plural = "s" if fn.arity > 1 else ""
+            raise ParseError(
+                f'{node.function}() takes {fn.arity} argument{plural}, not {len(node.args)}', self.text, node.start + 1
+            )
+        args = [self.run(arg) for arg in node.args]
+        name = f"{node.function}()"
+        dim = DIMENSIONLESS
+        if fn.dims == "none":
+            for arg, sub in zip(args, node.args, strict=True):
+                _dimensionless(name, arg, self.text, sub)
+        elif fn.dims == "keep":
+            dim = args[0].dim
+        elif fn.dims == "sqrt":
+            dim = args[0].dim ** Fraction(1, 2)
+        elif fn.dims == "same2":
+            if args[0].dim != args[1].dim:
+                raise UnitError(f'{name} needs two arguments of one unit, not {args[0].dim} and {args[1].dim}')
+        elif fn.dims == "polar":
+            _dimensionless(name + " angle", args[1], self.text, node.args[1])
+            dim = args[0].dim
+        if node.function == "ln" or node.function == "log10":
+            if args[0].expr == 0:
+                raise ParseError(f'{name} of exactly 0 is not defined', self.text, node.start + 1)
+        return Value(fn.rule(*(a.expr for a in args)), dim)
+
+
+def evaluate(node: Node, env: Mapping[str, Value], text: str) -> Value:
+    """Evaluate a parsed tree in an environment of named values."""
+    try:
+        return _Evaluator(text, env).run(node)
+    except HandcheckError:
+        raise
+    except (ValueError, TypeError, ZeroDivisionError, OverflowError, RecursionError) as exc:
+        raise ParseError(f"cannot evaluate: {exc}", text, None) from exc
+
+
+def evaluate_text(text: str, env: Mapping[str, Value] | None = None) -> Value:
+    """Parse and evaluate ``text`` in one call."""
+    env = env or {}
+    return evaluate(parse(text, set(env)), env, text)

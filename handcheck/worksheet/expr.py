@@ -1,0 +1,397 @@
+"""A small, safe parser for formulas, claims and values.
+
+The text a user writes is read by a tokenizer and a precedence-climbing parser that
+build a tree of frozen dataclasses; nothing is ever passed to ``eval``, ``exec``,
+``sympify`` or ``parse_expr``. Evaluation of the tree is in
+:mod:`handcheck.worksheet.evaluate`.
+
+Grammar, loosest binding first::
+
+    polar   := sum [ ("∠" | "/_") sum ]
+    sum     := par { ("+" | "-") par }
+    par     := product { "||" product }
+    product := unary { ("*" | "/") unary }
+    unary   := ("-" | "+") unary | power
+    power   := atom [ ("^" | "**") unary ]
+    atom    := number [unit] | name | name "(" args ")" | "(" polar ")"
+    unit    := word ["^" int] { ("/" | "*") word ["^" int] }
+
+A number and the unit after it bind as one value, so ``t/3.2 ms`` divides by
+3.2 ms. A number written with a trailing ``j`` (``4.5j``) is imaginary.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Callable, Iterator
+from dataclasses import dataclass
+from fractions import Fraction
+
+from handcheck.errors import LimitError, ParseError
+from handcheck.worksheet.units import UnitError, lookup_unit
+
+__all__ = [
+    "Binary",
+    "Call",
+    "Name",
+    "Node",
+    "Number",
+    "Unary",
+    "parse",
+    "tokenize",
+]
+
+#: Deepest nesting of parentheses and operators accepted.
+MAX_DEPTH = 60
+#: Longest text accepted for one formula or claim.
+MAX_LENGTH = 2000
+#: Largest power of ten accepted in a number (the range of IEEE doubles, and then some).
+MAX_EXPONENT = 400
+
+RESERVED = frozenset({"j", "f", "w", "t", "pi"})
+
+
+@dataclass(frozen=True)
+class Token:
+    kind: str  # "num", "name", "op", "end"
+    text: str
+    start: int  # 0-based offset in the text
+    glued: bool = False  # no space between this token and the previous one
+
+
+@dataclass(frozen=True)
+class Node:
+    start: int
+    end: int
+
+
+@dataclass(frozen=True)
+class Number(Node):
+    """A literal: exact value, unit words (possibly empty) and whether it is imaginary."""
+
+    value: Fraction
+    digits: str  # the number as written, without unit
+    unit: tuple[tuple[str, int], ...] = ()  # (unit word, exponent) pairs
+    imaginary: bool = False
+
+
+@dataclass(frozen=True)
+class Name(Node):
+    ident: str
+
+
+@dataclass(frozen=True)
+class Unary(Node):
+    op: str
+    operand: Node
+
+
+@dataclass(frozen=True)
+class Binary(Node):
+    op: str  # + - * / ^ || angle
+    left: Node
+    right: Node
+
+
+@dataclass(frozen=True)
+class Call(Node):
+    function: str
+    args: tuple[Node, ...]
+
+
+_NUMBER = re.compile(r"(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?")
+_NAME = re.compile(r"[A-Za-z_Ωµμ°][A-Za-z0-9_Ωµμ]*")
+_OPS = ("**", "||", "/_", "∠", "+", "-", "*", "/", "^", "(", ")", ",")
+
+
+def tokenize(text: str) -> list[Token]:
+    """Split ``text`` into tokens; raise :class:`ParseError` on a character that has no place."""
+    if len(text) > MAX_LENGTH:
+        raise LimitError(f"the text is {len(text)} characters long; handcheck reads at most {MAX_LENGTH}")
+    tokens: list[Token] = []
+    pos = 0
+    glued = False
+    while pos < len(text):
+        ch = text[pos]
+        if ch.isspace():
+            pos += 1
+            glued = False
+            continue
+        match = _NUMBER.match(text, pos)
+        if match:
+            tokens.append(Token("num", match.group(), pos, glued))
+            pos = match.end()
+            glued = True
+            continue
+        match = _NAME.match(text, pos)
+        if match:
+            tokens.append(Token("name", match.group(), pos, glued))
+            pos = match.end()
+            glued = True
+            continue
+        for op in _OPS:
+            if text.startswith(op, pos):
+                tokens.append(Token("op", op, pos, glued))
+                pos += len(op)
+                glued = True
+                break
+        else:
+            hint = ""
+            if ch in "`$;\"'[]{}=!<>&|@#\\":
+                hint = ": formulas hold only numbers, units, names, operators + - * / ^ || and parentheses"
+            raise ParseError(f'unexpected character "{ch}"{hint}', text, pos + 1)
+    tokens.append(Token("end", "", len(text), False))
+    return tokens
+
+
+def parse_number(digits: str, text: str = "", start: int = 0) -> Fraction:
+    """The exact value of a decimal literal such as ``"2.2e-6"``."""
+    mantissa, _, exponent = digits.lower().partition("e")
+    if exponent and abs(int(exponent)) > MAX_EXPONENT:
+        raise LimitError(f'the number "{digits}" is out of range (powers of ten up to {MAX_EXPONENT} are accepted)')
+    value = Fraction(mantissa)
+    if exponent:
+        value *= Fraction(10) ** int(exponent)
+    return value
+
+
+class _Parser:
+    def __init__(self, text: str, names: frozenset[str]) -> None:
+        self.text = text
+        self.names = names
+        self.tokens = tokenize(text)
+        self.index = 0
+        self.depth = 0
+
+    # -- helpers ---------------------------------------------------------------
+    @property
+    def tok(self) -> Token:
+        return self.tokens[self.index]
+
+    def peek(self, offset: int = 1) -> Token:
+        return self.tokens[min(self.index + offset, len(self.tokens) - 1)]
+
+    def advance(self) -> Token:
+        tok = self.tok
+        self.index += 1
+        return tok
+
+    def error(self, message: str, tok: Token | None = None) -> ParseError:
+        tok = tok or self.tok
+        return ParseError(message, self.text, tok.start + 1)
+
+    def expect(self, op: str) -> Token:
+        if self.tok.kind == "op" and self.tok.text == op:
+            return self.advance()
+        found = f'"{self.tok.text}"' if self.tok.kind != "end" else "the end"
+        raise self.error(f'expected "{op}" but found {found}')
+
+    def at_op(self, *ops: str) -> bool:
+        return self.tok.kind == "op" and self.tok.text in ops
+
+    def deeper(self) -> None:
+        self.depth += 1
+        if self.depth > MAX_DEPTH:
+            raise LimitError(f"the expression is nested more than {MAX_DEPTH} levels deep")
+
+    # -- grammar ---------------------------------------------------------------
+    def parse(self) -> Node:
+        if self.tok.kind == "end":
+            raise ParseError("the text is empty; write a number or a formula", self.text, None)
+        node = self.polar()
+        if self.tok.kind != "end":
+            tok = self.tok
+            if tok.kind in ("num", "name"):
+                raise self.error(
+                    f'"{tok.text}" follows a complete expression; write "*" to multiply'
+                    if tok.kind == "name" or not tok.glued
+                    else f'unexpected "{tok.text}"'
+                )
+            raise self.error(f'unexpected "{tok.text}"')
+        return node
+
+    def _binary_chain(self, ops: tuple[str, ...], operand: Callable[[], Node], name: Callable[[str], str]) -> Node:
+        left = operand()
+        while self.at_op(*ops):
+            op = self.advance().text
+            self.deeper()
+            right = operand()
+            self.depth -= 1
+            left = Binary(left.start, right.end, name(op), left, right)
+        return left
+
+    def polar(self) -> Node:
+        left = self.sum()
+        if self.at_op("∠", "/_"):
+            self.advance()
+            right = self.sum()
+            return Binary(left.start, right.end, "angle", left, right)
+        return left
+
+    def sum(self) -> Node:
+        return self._binary_chain(("+", "-"), self.par, lambda op: op)
+
+    def par(self) -> Node:
+        return self._binary_chain(("||",), self.product, lambda op: op)
+
+    def product(self) -> Node:
+        return self._binary_chain(("*", "/"), self.unary, lambda op: op)
+
+    def unary(self) -> Node:
+        if self.at_op("-", "+"):
+            tok = self.advance()
+            self.deeper()
+            operand = self.unary()
+            self.depth -= 1
+            return operand if tok.text == "+" else Unary(tok.start, operand.end, "-", operand)
+        return self.power()
+
+    def power(self) -> Node:
+        base = self.atom()
+        if self.at_op("^", "**"):
+            self.advance()
+            self.deeper()
+            exponent = self.unary()
+            self.depth -= 1
+            return Binary(base.start, exponent.end, "^", base, exponent)
+        return base
+
+    def atom(self) -> Node:
+        tok = self.tok
+        if tok.kind == "num":
+            return self.number()
+        if tok.kind == "name":
+            self.advance()
+            if self.at_op("("):
+                return self.call(tok)
+            return Name(tok.start, tok.start + len(tok.text), tok.text)
+        if self.at_op("("):
+            self.advance()
+            self.deeper()
+            inner = self.polar()
+            self.depth -= 1
+            close = self.expect(")")
+            return _regionalise(inner, tok.start, close.start + 1)
+        if tok.kind == "end":
+            raise self.error("the formula ends too early; a number or name is missing")
+        raise self.error(f'unexpected "{tok.text}"')
+
+    def call(self, name_tok: Token) -> Node:
+        self.expect("(")
+        self.deeper()
+        args: list[Node] = []
+        if not self.at_op(")"):
+            args.append(self.polar())
+            while self.at_op(","):
+                self.advance()
+                args.append(self.polar())
+        close = self.expect(")")
+        self.depth -= 1
+        return Call(name_tok.start, close.start + 1, name_tok.text, tuple(args))
+
+    def number(self) -> Node:
+        tok = self.advance()
+        value = parse_number(tok.text, self.text, tok.start)
+        end = tok.start + len(tok.text)
+        imaginary = False
+        if self.tok.kind == "name" and self.tok.glued and self.tok.text == "j":
+            imaginary = True
+            end = self.advance().start + 1
+        elif self.tok.kind == "name" and self.tok.glued and self.tok.text.startswith("j") and self.tok.text[1:].isalpha():
+            # "4.5jkohm" is not a thing; let the unit reader complain about it.
+            pass
+        unit, end = self.unit(end)
+        return Number(tok.start, end, value, tok.text, unit, imaginary)
+
+    def _unit_word(self, tok: Token) -> bool:
+        if tok.kind != "name" or tok.text in RESERVED or tok.text in self.names:
+            return False
+        try:
+            lookup_unit(tok.text)
+        except UnitError:
+            return False
+        return True
+
+    def _exponent(self) -> int:
+        if self.at_op("^", "**") and (self.peek().kind == "num" or (self.peek().text == "-" and self.peek(2).kind == "num")):
+            self.advance()
+            sign = -1 if self.at_op("-") else 1
+            if sign < 0:
+                self.advance()
+            tok = self.advance()
+            if not tok.text.isdigit() or int(tok.text) > 4:
+                raise self.error(f'a unit power must be a whole number from 1 to 4, not "{tok.text}"', tok)
+            return sign * int(tok.text)
+        return 1
+
+    def unit(self, end: int) -> tuple[tuple[tuple[str, int], ...], int]:
+        tok = self.tok
+        if tok.kind != "name":
+            return (), end
+        if not self._unit_word(tok):
+            if tok.glued and tok.text not in self.names and tok.text not in RESERVED:
+                raise self.error(f'"{tok.text}" is not a unit handcheck knows (for example ohm, kohm, uF, mH, V, mA, Hz, rad/s, deg)')
+            return (), end
+        words: list[tuple[str, int]] = []
+        self.advance()
+        words.append((tok.text, self._exponent()))
+        end = self.tokens[self.index - 1].start + len(self.tokens[self.index - 1].text)
+        while self.at_op("/", "*") and self._unit_word(self.peek()):
+            sign = -1 if self.advance().text == "/" else 1
+            word = self.advance()
+            words.append((word.text, sign * self._exponent()))
+            end = self.tokens[self.index - 1].start + len(self.tokens[self.index - 1].text)
+        return tuple(words), end
+
+
+def _regionalise(node: Node, start: int, end: int) -> Node:
+    """Widen a parenthesised node's span to include its parentheses (for quoting)."""
+    fields = dict(node.__dict__)
+    fields["start"], fields["end"] = start, end
+    return type(node)(**fields)
+
+
+def parse(text: str, names: frozenset[str] | set[str] = frozenset()) -> Node:
+    """Parse ``text`` into an expression tree.
+
+    Parameters
+    ----------
+    text
+        A formula, value or claim as the user wrote it.
+    names
+        Names defined in the worksheet (parts, steps); a word after a number that is
+        one of these is never read as a unit.
+
+    Raises
+    ------
+    ParseError
+        With the text and the column of the trouble.
+    """
+    try:
+        return _Parser(text, frozenset(names)).parse()
+    except ParseError as exc:
+        if not exc.text:
+            exc.text = text
+        raise
+
+
+def walk(node: Node) -> Iterator[Node]:
+    """Every node of the tree, parents first."""
+    yield node
+    if isinstance(node, Unary):
+        yield from walk(node.operand)
+    elif isinstance(node, Binary):
+        yield from walk(node.left)
+        yield from walk(node.right)
+    elif isinstance(node, Call):
+        for arg in node.args:
+            yield from walk(arg)
+
+
+def names_in(node: Node) -> list[str]:
+    """The names a tree refers to, in order of first appearance."""
+    seen: dict[str, None] = {}
+    for sub in walk(node):
+        if isinstance(sub, Name):
+            seen.setdefault(sub.ident, None)
+    return list(seen)

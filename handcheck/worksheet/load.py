@@ -1,0 +1,361 @@
+"""Read a worksheet file (TOML, format 1) into a :class:`Worksheet`.
+
+Only the shape of the file is checked here: required keys, known keys, types, names.
+Values are read in :mod:`handcheck.circuit.build` and :mod:`handcheck.verify`.
+Errors name the file, the part or step, and the line.
+"""
+
+from __future__ import annotations
+
+import difflib
+import hashlib
+import re
+import tomllib
+from pathlib import Path
+from typing import Any
+
+from handcheck.errors import LimitError, WorksheetError
+from handcheck.worksheet.expr import RESERVED
+from handcheck.worksheet.model import PART_KINDS, PartSpec, StepSpec, Worksheet
+
+__all__ = ["MAX_BYTES", "load", "loads"]
+
+#: Largest worksheet file read, in bytes.
+MAX_BYTES = 1_000_000
+
+_IDENT = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
+_NODE = re.compile(r"[A-Za-z0-9_]+\Z")
+
+_WORKSHEET_KEYS = ("format", "title", "reference", "phasors", "frequency", "tolerance")
+_STEP_KEYS = ("name", "quantity", "formula", "claim", "tolerance")
+_PART_KEYS = {
+    "resistor": ("nodes", "initial"),
+    "inductor": ("nodes", "initial"),
+    "capacitor": ("nodes", "initial"),
+    "voltage": ("nodes", "frequency", "phase"),
+    "current": ("nodes", "frequency", "phase"),
+    "vcvs": ("nodes", "control"),
+    "vccs": ("nodes", "control"),
+    "cccs": ("nodes", "control"),
+    "ccvs": ("nodes", "control"),
+    "opamp": ("nodes",),
+    "coupling": ("inductors",),
+    "transformer": ("nodes",),
+}
+_TERMINALS = {"opamp": 3, "transformer": 4, "coupling": 0}
+
+
+def _suggest(word: str, choices: list[str] | tuple[str, ...]) -> str:
+    close = difflib.get_close_matches(word, list(choices), n=1)
+    return f' (did you mean "{close[0]}"?)' if close else ""
+
+
+class _Locator:
+    """Line numbers of tables and keys, found by reading the text line by line."""
+
+    _HEADER = re.compile(r"\s*(\[\[?)\s*([^\]]+?)\s*\]\]?")
+    _KEY = re.compile(r"\s*([A-Za-z0-9_\"'.-]+)\s*=")
+
+    def __init__(self, text: str) -> None:
+        self.tables: dict[str, int] = {}
+        self.keys: dict[tuple[str, str], int] = {}
+        steps = 0
+        table = ""
+        for number, line in enumerate(text.splitlines(), start=1):
+            header = self._HEADER.match(line)
+            if header and not self._KEY.match(line):
+                name = header.group(2).strip().strip('"')
+                if header.group(1) == "[[" and name == "step":
+                    table = f"step.{steps}"
+                    steps += 1
+                else:
+                    table = name
+                self.tables.setdefault(table, number)
+                continue
+            key = self._KEY.match(line)
+            if key:
+                name = key.group(1).strip("\"'")
+                self.keys.setdefault((table, name), number)
+
+    def key(self, table: str, key: str) -> int | None:
+        return self.keys.get((table, key)) or self.tables.get(table)
+
+    def part(self, ident: str) -> int | None:
+        return self.keys.get(("parts", ident)) or self.tables.get(f"parts.{ident}")
+
+
+def load(path: str | Path) -> Worksheet:
+    """Read the worksheet at ``path``.
+
+    Raises
+    ------
+    WorksheetError
+        If the file cannot be read or is not a worksheet of format 1.
+    """
+    name = str(path)
+    try:
+        size = Path(path).stat().st_size
+        if size > MAX_BYTES:
+            raise LimitError(
+                f"the file is {size:,} bytes; a worksheet may be at most {MAX_BYTES:,} bytes", file=name
+            )
+        data = Path(path).read_bytes()
+    except FileNotFoundError:
+        raise WorksheetError("no such file", file=name) from None
+    except IsADirectoryError:
+        raise WorksheetError("this is a folder, not a worksheet file", file=name) from None
+    except OSError as exc:
+        raise WorksheetError(f"cannot read the file: {exc.strerror}", file=name) from None
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        line = data[: exc.start].count(b"\n") + 1
+        raise WorksheetError(
+            f"the file is not UTF-8 text (byte 0x{data[exc.start]:02x}); save it as UTF-8", file=name, line=line
+        ) from None
+    return loads(text, name, sha256=hashlib.sha256(data).hexdigest())
+
+
+def loads(text: str, path: str = "<worksheet>", *, sha256: str | None = None) -> Worksheet:
+    """Read a worksheet from its text; ``path`` is used in messages."""
+    if len(text.encode("utf-8")) > MAX_BYTES:
+        raise LimitError(f"the worksheet is larger than {MAX_BYTES:,} bytes", file=path)
+    if sha256 is None:
+        sha256 = hashlib.sha256(text.encode("utf-8")).hexdigest()
+    if not text.strip():
+        raise WorksheetError("the file is empty; a worksheet starts with a [worksheet] table", file=path)
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        match = re.search(r"\(at line (\d+), column (\d+)\)", str(exc))
+        reason = re.sub(r"\s*\(at line \d+, column \d+\)", "", str(exc)).rstrip(".")
+        line = int(match.group(1)) if match else None
+        raise WorksheetError(f"not valid TOML: {reason}", file=path, line=line) from None
+    return _Reader(path, text, sha256, data).worksheet()
+
+
+class _Reader:
+    def __init__(self, path: str, text: str, sha256: str, data: dict[str, Any]) -> None:
+        self.path = path
+        self.text = text
+        self.sha256 = sha256
+        self.data = data
+        self.where = _Locator(text)
+
+    def fail(self, message: str, line: int | None = None) -> WorksheetError:
+        return WorksheetError(message, file=self.path, line=line)
+
+    # -- [worksheet] -----------------------------------------------------------
+    def worksheet(self) -> Worksheet:
+        for key in self.data:
+            if key not in ("worksheet", "parts", "step", "transient"):
+                raise self.fail(
+                    f'unknown table [{key}]{_suggest(key, ["worksheet", "parts", "step", "transient"])}; '
+                    "a worksheet has [worksheet], [parts], [[step]] and [transient]",
+                    self.where.tables.get(key) or self.where.key("", key),
+                )
+        head = self.data.get("worksheet")
+        if not isinstance(head, dict):
+            raise self.fail('the [worksheet] table is missing; start the file with [worksheet] and format = 1')
+        for key in head:
+            if key not in _WORKSHEET_KEYS:
+                raise self.fail(
+                    f'unknown key "{key}" in [worksheet]{_suggest(key, _WORKSHEET_KEYS)}',
+                    self.where.key("worksheet", key),
+                )
+        if "format" not in head:
+            raise self.fail("[worksheet] needs format = 1", self.where.tables.get("worksheet"))
+        if head["format"] != 1 or isinstance(head["format"], bool):
+            raise self.fail(
+                f"format = {head['format']!r} is not a format this version reads; write format = 1",
+                self.where.key("worksheet", "format"),
+            )
+        title = self.string(head, "title", "worksheet", required=True)
+        phasors = self.string(head, "phasors", "worksheet") or "peak"
+        if phasors not in ("peak", "rms"):
+            raise self.fail(
+                f'phasors = "{phasors}" must be "peak" or "rms"', self.where.key("worksheet", "phasors")
+            )
+        lines = tuple((key, line) for (table, key), line in self.where.keys.items() if table == "worksheet")
+        transient = self.data.get("transient", {})
+        if not isinstance(transient, dict):
+            raise self.fail("[transient] must be a table", self.where.tables.get("transient"))
+        return Worksheet(
+            path=self.path,
+            text=self.text,
+            sha256=self.sha256,
+            title=title or "",
+            reference=self.string(head, "reference", "worksheet"),
+            phasors=phasors,  # type: ignore[arg-type]
+            frequency=self.string(head, "frequency", "worksheet"),
+            tolerance=self.string(head, "tolerance", "worksheet") or "digits",
+            parts=self.parts(),
+            steps=self.steps(),
+            transient=tuple((str(k), str(v)) for k, v in transient.items()),
+            lines=lines,
+        )
+
+    def string(self, table: dict[str, Any], key: str, where: str, *, required: bool = False, line: int | None = None) -> str | None:
+        if key not in table:
+            if required:
+                raise self.fail(f'{self.describe(where)} needs a "{key}"', line or self.where.tables.get(where))
+            return None
+        value = table[key]
+        if isinstance(value, bool) or not isinstance(value, (str, int, float)):
+            raise self.fail(
+                f'{key} in {self.describe(where)} must be text in quotes, like {key} = "..."',
+                line or self.where.key(where, key),
+            )
+        if isinstance(value, float):
+            value = repr(value)
+        return str(value).strip()
+
+    @staticmethod
+    def describe(where: str) -> str:
+        if where.startswith("step."):
+            return f"step {int(where[5:]) + 1}"
+        if where.startswith("parts."):
+            return f'part "{where[6:]}"'
+        return f"[{where}]"
+
+    # -- [parts] ---------------------------------------------------------------
+    def parts(self) -> tuple[PartSpec, ...]:
+        table = self.data.get("parts")
+        if not isinstance(table, dict) or not table:
+            raise self.fail(
+                'the [parts] table is missing or empty; list the circuit\'s parts, like R1 = { resistor = "1 kohm", nodes = ["a", "gnd"] }',
+                self.where.tables.get("parts"),
+            )
+        specs = []
+        seen: dict[str, str] = {}
+        for ident, body in table.items():
+            line = self.where.part(ident)
+            if not _IDENT.match(ident):
+                raise self.fail(f'the part name "{ident}" must start with a letter and hold only letters, digits and _', line)
+            if ident in RESERVED:
+                raise self.fail(f'"{ident}" is reserved in formulas (f, w, j, t, pi); name the part differently', line)
+            folded = ident.lower()
+            if folded in seen:
+                raise self.fail(f'parts "{seen[folded]}" and "{ident}" differ only in case; give them distinct names', line)
+            seen[folded] = ident
+            specs.append(self.part(ident, body, line))
+        return tuple(specs)
+
+    def part(self, ident: str, body: Any, line: int | None) -> PartSpec:
+        if not isinstance(body, dict):
+            raise self.fail(f'part "{ident}" must be a table, like {ident} = {{ resistor = "1 kohm", nodes = ["a", "b"] }}', line)
+        kinds = [key for key in body if key in PART_KINDS]
+        if not kinds:
+            others = [key for key in body if key not in ("nodes", "frequency", "phase", "initial", "control", "inductors")]
+            hint = _suggest(others[0], tuple(PART_KINDS)) if others else ""
+            raise self.fail(
+                f'part "{ident}" has no kind{hint}; give one of: {", ".join(PART_KINDS)}', line
+            )
+        if len(kinds) > 1:
+            raise self.fail(f'part "{ident}" has two kinds, {kinds[0]} and {kinds[1]}; give it one', line)
+        kind = kinds[0]
+        allowed = _PART_KEYS[kind]
+        for key in body:
+            if key != kind and key not in allowed:
+                raise self.fail(
+                    f'part "{ident}" ({kind}) has an unknown key "{key}"{_suggest(key, allowed)}; '
+                    f'a {kind} takes: {", ".join((kind, *allowed))}',
+                    line,
+                )
+        where = f"parts.{ident}"
+        value = self.string(body, kind, where, required=True, line=line) or ""
+        nodes: tuple[str, ...] = ()
+        inductors: tuple[str, ...] = ()
+        if kind == "coupling":
+            inductors = self.names(body, "inductors", ident, 2, line)
+        else:
+            nodes = self.names(body, "nodes", ident, _TERMINALS.get(kind, 2), line)
+            if kind not in ("opamp", "transformer") and nodes[0] == nodes[1]:
+                raise self.fail(
+                    f'part "{ident}" has both ends on node "{nodes[0]}"; connect it between two different nodes', line
+                )
+        control: tuple[str, ...] | str | None = None
+        if kind in ("vcvs", "vccs"):
+            control = self.names(body, "control", ident, 2, line)
+        elif kind in ("cccs", "ccvs"):
+            control = self.string(body, "control", where, line=line)
+            if not control:
+                raise self.fail(f'part "{ident}" ({kind}) needs control = "<part id>", the part whose current controls it', line)
+        return PartSpec(
+            id=ident,
+            kind=kind,
+            value=value,
+            nodes=nodes,
+            frequency=self.string(body, "frequency", where, line=line),
+            phase=self.string(body, "phase", where, line=line),
+            initial=self.string(body, "initial", where, line=line),
+            control=control,
+            inductors=inductors,
+            line=line,
+        )
+
+    def names(self, body: dict[str, Any], key: str, ident: str, count: int, line: int | None) -> tuple[str, ...]:
+        what = "inductor ids" if key == "inductors" else "node names"
+        if key not in body:
+            raise self.fail(f'part "{ident}" needs {key} = [...], a list of {count} {what}', line)
+        value = body[key]
+        if not isinstance(value, list) or not all(isinstance(v, (str, int)) and not isinstance(v, bool) for v in value):
+            raise self.fail(f'{key} of part "{ident}" must be a list of {what} in quotes', line)
+        items = tuple(str(v).strip() for v in value)
+        if len(items) != count:
+            raise self.fail(f'part "{ident}" needs {count} entries in {key}, not {len(items)}', line)
+        for item in items:
+            if not _NODE.match(item):
+                raise self.fail(f'"{item}" in {key} of part "{ident}" must hold only letters, digits and _', line)
+        return items
+
+    # -- [[step]] --------------------------------------------------------------
+    def steps(self) -> tuple[StepSpec, ...]:
+        raw = self.data.get("step", [])
+        if not isinstance(raw, list):
+            raise self.fail("steps are written as [[step]] tables (double brackets)", self.where.tables.get("step"))
+        specs: list[StepSpec] = []
+        seen: dict[str, int] = {}
+        parts = {p.lower() for p in self.data.get("parts", {})}
+        for index, body in enumerate(raw):
+            where = f"step.{index}"
+            line = self.where.tables.get(where)
+            if not isinstance(body, dict):
+                raise self.fail(f"step {index + 1} must be a table", line)
+            for key in body:
+                if key not in _STEP_KEYS:
+                    raise self.fail(
+                        f'step {index + 1} has an unknown key "{key}"{_suggest(key, _STEP_KEYS)}; '
+                        f'a step takes: {", ".join(_STEP_KEYS)}',
+                        self.where.key(where, key),
+                    )
+            name = self.string(body, "name", where, required=True, line=line) or ""
+            if not _IDENT.match(name):
+                raise self.fail(
+                    f'step name "{name}" must start with a letter and hold only letters, digits and _',
+                    self.where.key(where, "name"),
+                )
+            if name in RESERVED:
+                raise self.fail(f'step name "{name}" is reserved in formulas (f, w, j, t, pi)', self.where.key(where, "name"))
+            if name.lower() in parts:
+                raise self.fail(f'step name "{name}" is also a part name; give the step another name', self.where.key(where, "name"))
+            if name.lower() in seen:
+                raise self.fail(
+                    f'step name "{name}" is used twice (steps {seen[name.lower()] + 1} and {index + 1}); names must be unique',
+                    self.where.key(where, "name"),
+                )
+            seen[name.lower()] = index
+            if "claim" not in body:
+                raise self.fail(f'step "{name}" needs a claim, the number the author wrote', line)
+            specs.append(
+                StepSpec(
+                    name=name,
+                    claim=self.string(body, "claim", where) or "",
+                    quantity=self.string(body, "quantity", where),
+                    formula=self.string(body, "formula", where),
+                    tolerance=self.string(body, "tolerance", where),
+                    line=line,
+                    index=index,
+                )
+            )
+        return tuple(specs)
