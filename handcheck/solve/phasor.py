@@ -84,7 +84,9 @@ def _solve_direct(system: MnaSystem, circuit: Circuit, s: sympy.Expr, columns: S
     n = system.size
     matrix = [[system.G[r][c] + s * system.C[r][c] for c in range(n)] for r in range(n)]
     rhs = [[columns[k][r] for k in range(len(columns))] for r in range(n)]
-    both = DomainMatrix.from_list_sympy(n, n + len(columns), [row + rhs[r] for r, row in enumerate(matrix)], extension=True)
+    both = DomainMatrix.from_list_sympy(
+        n, n + len(columns), [row + rhs[r] for r, row in enumerate(matrix)], extension=True
+    ).to_field()
     a = both.extract(list(range(n)), list(range(n)))
     b = both.extract(list(range(n)), list(range(n, n + len(columns))))
     try:

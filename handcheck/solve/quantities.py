@@ -8,7 +8,8 @@ frequency, in the worksheet's peak/rms phasor convention.
 Power with phasors (any circuit-analysis textbook, e.g. Alexander & Sadiku,
 *Fundamentals of Electric Circuits*, 5th ed., section 11.8, from memory): with peak
 phasors S = V I* / 2, with rms phasors S = V I*; P = Re S, Q = Im S, the apparent
-power is |S| and the power factor P/|S|. At DC (w = 0) the phasor is the value
+power is |S| and the power factor |P|/|S| (never negative, whether the part
+absorbs or delivers the power). At DC (w = 0) the phasor is the value
 itself and S = V I.
 """
 
@@ -212,7 +213,7 @@ class _Evaluator:
                 return Value(apparent, dim_of("W"))
             if apparent == 0:
                 raise self.fail(f"{ident} carries no power at the analysis frequency, so it has no power factor")
-            return Value(sympy.re(complex_power) / apparent, DIMENSIONLESS)
+            return Value(sympy.Abs(sympy.re(complex_power)) / apparent, DIMENSIONLESS)
         raise self.fail(f'unknown quantity "{name}"')  # pragma: no cover - the parser rejects it first
 
     def impedance(self, args: tuple[str, ...]) -> sympy.Expr:

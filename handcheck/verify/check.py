@@ -19,14 +19,14 @@ earlier step, named in ``caused_by``); ``differs`` (no formula, wrong claim);
 
 from __future__ import annotations
 
+import dataclasses
+
 from handcheck.circuit.build import build
 from handcheck.circuit.model import Circuit
 from handcheck.errors import HandcheckError, UnitError, WorksheetError
 from handcheck.solve.phasor import Solution, solve
 from handcheck.solve.quantities import evaluate_quantity, parse_quantity
 from handcheck.verify.claims import (
-    Claim,
-    Tolerance,
     agrees,
     read_claim,
     read_tolerance,
@@ -34,6 +34,7 @@ from handcheck.verify.claims import (
     to_complex,
 )
 from handcheck.verify.findings import Diagnosis, Report, StepFinding
+from handcheck.verify.mistakes import Context, diagnose
 from handcheck.verify.present import describe_frequency, format_value
 from handcheck.verify.safety import cautions
 from handcheck.worksheet.evaluate import Value, evaluate
@@ -130,6 +131,7 @@ class _Checker:
         base = {"name": step.name, "claimed": step.claim, "quantity": step.quantity, "formula": step.formula, "line": step.line}
 
         truth: Value | None = None
+        quantity = None
         if step.quantity:
             try:
                 quantity = parse_quantity(step.quantity)
@@ -166,13 +168,27 @@ class _Checker:
             "expected_si": (reference.real, reference.imag),
             "exact": truth.expr,
         }
+        context = Context(
+            circuit=self.circuit,
+            claim=claim,
+            tolerance=tolerance,
+            truth=truth,
+            formula=step.formula,
+            tree=tree,
+            quantity=quantity,
+            claimed_env=dict(self.claimed_env),
+            true_env=dict(self.true_env),
+        )
         if claim.dim != truth.dim:
-            return StepFinding(
+            finding = StepFinding(
                 **base,
                 **shown,
                 verdict="unit",
                 message=f"the claim is in {claim.dim or 'no unit'}, but the quantity is in {truth.dim or 'no unit'}",
             )
+            if claim.dim == DIMENSIONLESS / truth.dim:
+                return self.diagnosed(finding, dataclasses.replace(context, truth=Value(truth.expr, claim.dim)))
+            return finding
         if formula_true is not None and formula_true.dim != truth.dim:
             return StepFinding(
                 **base,
@@ -186,7 +202,7 @@ class _Checker:
             return StepFinding(**base, **shown, verdict="agrees")
 
         if tree is None:
-            return self.diagnosed(StepFinding(**base, **shown, verdict="differs"), step, claim, tolerance)
+            return self.diagnosed(StepFinding(**base, **shown, verdict="differs"), context)
 
         try:
             recomputed = evaluate(tree, self.claimed_env, step.formula or "")
@@ -195,10 +211,10 @@ class _Checker:
         recomputed_value = to_complex(recomputed.expr)
         shown["recomputed"] = format_value(recomputed, claim)
         if not agrees(claim, recomputed_value, tolerance):
-            return self.diagnosed(StepFinding(**base, **shown, verdict="arithmetic"), step, claim, tolerance)
+            return self.diagnosed(StepFinding(**base, **shown, verdict="arithmetic"), context)
         assert formula_true is not None
         if step.quantity and not agrees(claim, reference, tolerance, value=to_complex(formula_true.expr)):
-            return self.diagnosed(StepFinding(**base, **shown, verdict="formula"), step, claim, tolerance)
+            return self.diagnosed(StepFinding(**base, **shown, verdict="formula"), context)
         cause = self.root_cause(tree)
         if cause is None:
             return StepFinding(
@@ -217,13 +233,12 @@ class _Checker:
             return finding.caused_by if finding.verdict == "carried" and finding.caused_by else name
         return None
 
-    def diagnosed(self, finding: StepFinding, step: StepSpec, claim: Claim, tolerance: Tolerance) -> StepFinding:
-        from dataclasses import replace
-
-        from handcheck.verify.mistakes import diagnose
-
-        found = diagnose(self, step, claim, tolerance)
-        return replace(finding, diagnosis=tuple(Diagnosis(code, detail) for code, detail in found)) if found else finding
+    @staticmethod
+    def diagnosed(finding: StepFinding, context: Context) -> StepFinding:
+        found = diagnose(context)
+        if not found:
+            return finding
+        return dataclasses.replace(finding, diagnosis=tuple(Diagnosis(code, detail) for code, detail in found))
 
 
 def check(worksheet: Worksheet) -> Report:

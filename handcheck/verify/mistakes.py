@@ -1,9 +1,363 @@
-"""The catalogue of common mistakes (filled in by the derivation-checking work)."""
+"""The catalogue of common mistakes.
+
+Each mistake is a transformation of the correct computation that a person
+plausibly makes: on the step's own formula (evaluated on the author's numbers, as
+the author did), on the circuit behind the step's quantity (solved again with the
+mistake built in), or on the true value itself. A mistake is reported only when the
+transformed computation reproduces the claimed number within the step's tolerance;
+the catalogue is tried only for steps that do not agree.
+
+The codes are part of check output format 1: ``hertz-as-angular``,
+``angular-as-hertz``, ``degrees-as-radians``, ``radians-as-degrees``,
+``peak-as-rms``, ``rms-as-peak``, ``power-half``, ``reactance-sign``,
+``sine-reference``, ``phase-sign``, ``series-as-parallel``, ``parallel-as-series``,
+``impedance-as-admittance``, ``prefix``. They are listed most specific first, the
+order in which matches are reported.
+"""
 
 from __future__ import annotations
 
-from typing import Any
+import dataclasses
+from collections.abc import Callable, Iterator, Mapping
+from dataclasses import dataclass
+
+import sympy
+
+from handcheck.circuit.model import Circuit, Part, Source
+from handcheck.errors import HandcheckError
+from handcheck.solve.phasor import solve
+from handcheck.solve.quantities import Quantity, evaluate_quantity
+from handcheck.verify.claims import Claim, Tolerance, agrees, to_complex
+from handcheck.verify.present import format_number
+from handcheck.worksheet.evaluate import Value, evaluate
+from handcheck.worksheet.expr import Binary, Node, walk
+from handcheck.worksheet.units import dim_of
+
+__all__ = ["CODES", "Context", "diagnose"]
+
+CODES: tuple[str, ...] = (
+    "series-as-parallel",
+    "parallel-as-series",
+    "hertz-as-angular",
+    "angular-as-hertz",
+    "degrees-as-radians",
+    "radians-as-degrees",
+    "reactance-sign",
+    "impedance-as-admittance",
+    "power-half",
+    "peak-as-rms",
+    "rms-as-peak",
+    "sine-reference",
+    "phase-sign",
+    "prefix",
+)
+
+_POWER = dim_of("W")
+_WAVE = (dim_of("V"), dim_of("A"))
 
 
-def diagnose(checker: Any, step: Any, claim: Any, tolerance: Any) -> list[tuple[str, str]]:
-    return []
+@dataclass(frozen=True)
+class Context:
+    """What the catalogue needs to know about one step that does not agree."""
+
+    circuit: Circuit
+    claim: Claim
+    tolerance: Tolerance
+    truth: Value | None
+    formula: str | None
+    tree: Node | None
+    quantity: Quantity | None
+    claimed_env: Mapping[str, Value]
+    true_env: Mapping[str, Value]
+
+
+def _matches(ctx: Context, value: sympy.Expr | complex | None) -> bool:
+    if value is None:
+        return False
+    number = value if isinstance(value, complex) else to_complex(value)
+    return agrees(ctx.claim, number, ctx.tolerance)
+
+
+# -- re-solving the circuit with a mistake built in ----------------------------------
+
+
+def _requantify(ctx: Context, circuit: Circuit) -> sympy.Expr | None:
+    """The step's quantity in a modified circuit (None when it cannot be had)."""
+    if ctx.quantity is None:
+        return None
+    try:
+        return evaluate_quantity(solve(circuit), ctx.quantity).expr
+    except (HandcheckError, NotImplementedError, ZeroDivisionError):
+        return None
+
+
+def _at_omega(circuit: Circuit, omega: sympy.Expr) -> Circuit:
+    """The circuit analysed at ``omega`` with its sources moved there too."""
+    parts = []
+    for part in circuit.parts:
+        source = part.source
+        if source is not None and source.omega is not None and circuit.active(part):
+            part = dataclasses.replace(part, source=dataclasses.replace(source, omega=omega))
+        parts.append(part)
+    return dataclasses.replace(circuit, parts=tuple(parts), omega=omega)
+
+
+def _with_phases(circuit: Circuit, scale: sympy.Expr) -> Circuit | None:
+    parts, changed = [], False
+    for part in circuit.parts:
+        source = part.source
+        if source is not None and source.phase != 0:
+            changed = True
+            part = dataclasses.replace(part, source=Source(source.peak, source.omega, source.phase * scale, source.rms_written))
+        parts.append(part)
+    return dataclasses.replace(circuit, parts=tuple(parts)) if changed else None
+
+
+def _flipped(circuit: Circuit, kind: str) -> Iterator[tuple[str, Circuit]]:
+    """The circuit with one reactive part's reactance sign flipped, then all of that kind."""
+    chosen = [p for p in circuit.parts if p.kind == kind]
+    coupled = {i for p in circuit.parts if p.kind == "coupling" for i in p.inductors}
+    chosen = [p for p in chosen if p.id not in coupled]
+
+    def flip(targets: set[str]) -> Circuit:
+        parts: list[Part] = [dataclasses.replace(p, value=-p.value) if p.id in targets else p for p in circuit.parts]
+        return dataclasses.replace(circuit, parts=tuple(parts))
+
+    for part in chosen[:12]:
+        yield part.id, flip({part.id})
+    if len(chosen) > 1:
+        yield "every " + kind, flip({p.id for p in chosen})
+
+
+# -- the formula with a mistake built in -----------------------------------------------
+
+
+def _formula(ctx: Context, env: Mapping[str, Value], tree: Node | None = None, angle_scale: sympy.Expr | None = None) -> sympy.Expr | None:
+    tree = tree or ctx.tree
+    if tree is None or ctx.formula is None:
+        return None
+    try:
+        return evaluate(tree, env, ctx.formula, angle_scale=angle_scale).expr
+    except (HandcheckError, ZeroDivisionError):
+        return None
+
+
+def _swapped(tree: Node, old: str, new: str) -> Iterator[tuple[Binary, Node]]:
+    """The tree with one ``old`` operator replaced by ``new``, one occurrence at a time."""
+    for node in walk(tree):
+        if isinstance(node, Binary) and node.op == old:
+            yield node, _replace(tree, node, dataclasses.replace(node, op=new))
+
+
+def _replace(tree: Node, target: Node, new: Node) -> Node:
+    if tree is target:
+        return new
+    changes = {}
+    for field in dataclasses.fields(tree):
+        value = getattr(tree, field.name)
+        if isinstance(value, Node):
+            replaced = _replace(value, target, new)
+            if replaced is not value:
+                changes[field.name] = replaced
+        elif isinstance(value, tuple) and value and isinstance(value[0], Node):
+            items = tuple(_replace(v, target, new) for v in value)
+            if any(a is not b for a, b in zip(items, value, strict=True)):
+                changes[field.name] = items
+    return dataclasses.replace(tree, **changes) if changes else tree
+
+
+# -- the mistakes ----------------------------------------------------------------------
+
+
+def _series_parallel(ctx: Context, series_for_parallel: bool) -> str | None:
+    """Series where parallel belongs (``+`` for ``||``), or the reverse."""
+    if ctx.tree is None or ctx.formula is None:
+        return None
+    wrong, right = ("+", "||") if series_for_parallel else ("||", "+")
+    how, should = ("in series", "in parallel") if series_for_parallel else ("in parallel", "in series")
+
+    def text(node: Node) -> str:
+        return ctx.formula[node.start : node.end].strip() if ctx.formula else ""
+
+    # The formula is right, but was worked out with the wrong combination...
+    for node, tree in _swapped(ctx.tree, right, wrong):
+        if _matches(ctx, _formula(ctx, ctx.claimed_env, tree)):
+            return (
+                f'the number is what "{text(node.left)} {wrong} {text(node.right)}" gives: '
+                f'{text(node.left)} and {text(node.right)} were combined {how}, but the formula has them {should}'
+            )
+    # ...or the formula itself combines two parts the wrong way.
+    if ctx.truth is None or not _matches(ctx, _formula(ctx, ctx.claimed_env)):
+        return None
+    for node, tree in _swapped(ctx.tree, wrong, right):
+        if _matches_truth(ctx, _formula(ctx, ctx.true_env, tree)):
+            return (
+                f'"{text(node)}" combines {text(node.left)} and {text(node.right)} {how}, '
+                f'but in the circuit they are {should} ("{text(node.left)} {right} {text(node.right)}")'
+            )
+    return None
+
+
+def _matches_truth(ctx: Context, value: sympy.Expr | None) -> bool:
+    """True when a corrected formula gives the true value (to 9 significant digits)."""
+    if value is None or ctx.truth is None:
+        return False
+    a, b = to_complex(value), to_complex(ctx.truth.expr)
+    return abs(a - b) <= 1e-9 * max(abs(a), abs(b), 1e-300)
+
+
+def _frequency_swap(ctx: Context, hertz_for_angular: bool) -> str | None:
+    circuit = ctx.circuit
+    if circuit.omega == 0:
+        return None
+    f_text = format_number(float(sympy.N(circuit.frequency)), 6)
+    w_text = format_number(float(sympy.N(circuit.omega)), 6)
+    if hertz_for_angular:
+        detail = f"the number is what you get with f = {f_text} Hz used where w = 2*pi*f = {w_text} rad/s belongs"
+        env_change = {"w": Value(circuit.frequency, dim_of("Hz"))}
+        omega = circuit.frequency
+    else:
+        detail = f"the number is what you get with w = {w_text} rad/s used where f = {f_text} Hz belongs (2*pi applied twice)"
+        env_change = {"f": Value(circuit.omega, dim_of("Hz"))}
+        omega = circuit.omega * 2 * sympy.pi
+    if ctx.tree is not None and _matches(ctx, _formula(ctx, {**ctx.claimed_env, **env_change})):
+        return detail
+    if _matches(ctx, _requantify(ctx, _at_omega(circuit, omega))):
+        return detail
+    return None
+
+
+def _angle_mode(ctx: Context, degrees_as_radians: bool) -> str | None:
+    scale = 180 / sympy.pi if degrees_as_radians else sympy.pi / 180
+    what = (
+        "an angle in degrees was taken as radians (a calculator left in radian mode)"
+        if degrees_as_radians
+        else "an angle in radians was taken as degrees (a calculator left in degree mode)"
+    )
+    if ctx.tree is not None and _matches(ctx, _formula(ctx, ctx.claimed_env, angle_scale=scale)):
+        return what
+    shifted = _with_phases(ctx.circuit, scale)
+    if shifted is not None and _matches(ctx, _requantify(ctx, shifted)):
+        return what + ", in a source's phase"
+    if ctx.claim.form == "polar" and ctx.truth is not None:
+        written_in = "deg" if degrees_as_radians else "rad"
+        if ctx.claim.angle_unit != written_in:
+            # the claim's angle number is the true angle in the other unit, labelled wrongly
+            magnitude = sympy.Abs(ctx.claim.value.expr)
+            angle = sympy.arg(ctx.claim.value.expr)
+            relabelled = magnitude * sympy.exp(sympy.I * angle * scale)
+            if _matches_claim_value(ctx, relabelled):
+                unit = "degrees" if ctx.claim.angle_unit == "deg" else "radians"
+                other = "radians" if unit == "degrees" else "degrees"
+                return f"the claimed angle is the right angle in {other}, labelled as {unit}"
+    return None
+
+
+def _matches_claim_value(ctx: Context, value: sympy.Expr) -> bool:
+    """True when ``value``, read as the claim, agrees with the truth."""
+    if ctx.truth is None:
+        return False
+    alternative = dataclasses.replace(ctx.claim, value=Value(value, ctx.claim.dim))
+    return agrees(alternative, to_complex(ctx.truth.expr), ctx.tolerance)
+
+
+def _reactance_sign(ctx: Context) -> str | None:
+    for kind, rule in (("capacitor", "-1/(w*C)"), ("inductor", "+w*L")):
+        for name, circuit in _flipped(ctx.circuit, kind):
+            if _matches(ctx, _requantify(ctx, circuit)):
+                return f"the number is what you get with the reactance of {name} taken with the wrong sign (a {kind}'s reactance is {rule})"
+    return None
+
+
+def _scaled(ctx: Context, factor: sympy.Expr) -> bool:
+    return ctx.truth is not None and _matches(ctx, ctx.truth.expr * factor)
+
+
+def _impedance_admittance(ctx: Context) -> str | None:
+    if ctx.truth is None or ctx.truth.expr == 0:
+        return None
+    if _matches(ctx, 1 / ctx.truth.expr):
+        return "the number is the reciprocal of the quantity: an impedance given where an admittance belongs, or the other way round"
+    return None
+
+
+def _power_half(ctx: Context) -> str | None:
+    if ctx.truth is None or ctx.truth.dim != _POWER or ctx.circuit.omega == 0:
+        return None
+    if ctx.circuit.phasors == "peak" and _scaled(ctx, sympy.Integer(2)):
+        return "with peak phasors the average power is Re(V I*)/2; the number is twice that, so the 1/2 is missing"
+    if ctx.circuit.phasors == "rms" and _scaled(ctx, sympy.Rational(1, 2)):
+        return "with rms phasors the average power is Re(V I*); the number is half that, a 1/2 that only peak phasors need"
+    return None
+
+
+def _peak_rms(ctx: Context, peak_as_rms: bool) -> str | None:
+    if ctx.truth is None or ctx.circuit.omega == 0:
+        return None
+    factors = [sympy.sqrt(2)] if ctx.truth.dim in _WAVE else []
+    if ctx.truth.dim == _POWER:
+        factors = [sympy.sqrt(2), sympy.Integer(2)]
+        if (ctx.circuit.phasors == "peak") == peak_as_rms:
+            factors = [sympy.sqrt(2)]  # a factor of 2 here is the power-half mistake
+    for factor in factors:
+        if _scaled(ctx, factor if peak_as_rms else 1 / factor):
+            if peak_as_rms:
+                return f"the number is {sympy.sstr(factor)} times the value: a peak amplitude used where an rms value belongs"
+            return f"the number is 1/{sympy.sstr(factor)} of the value: an rms value used where a peak amplitude belongs"
+    return None
+
+
+def _sine_reference(ctx: Context) -> str | None:
+    if ctx.truth is None or ctx.claim.form == "real" or ctx.truth.dim not in _WAVE:
+        return None
+    for sign in (1, -1):
+        if _scaled(ctx, sympy.exp(sign * sympy.I * sympy.pi / 2)):
+            return "the number is the right phasor turned by 90 deg: a cosine-referenced result read against a sine reference (or the other way round)"
+    return None
+
+
+def _phase_sign(ctx: Context) -> str | None:
+    if ctx.truth is None or ctx.claim.form == "real":
+        return None
+    value = to_complex(ctx.truth.expr)
+    if abs(value.imag) <= 1e-12 * abs(value):
+        return None
+    if _matches(ctx, sympy.conjugate(ctx.truth.expr)):
+        return "the number is the complex conjugate of the value: lead and lag (the sign of the angle) are swapped"
+    return None
+
+
+def _prefix(ctx: Context) -> str | None:
+    for power in (3, -3, 6, -6):
+        if _scaled(ctx, sympy.Integer(10) ** power):
+            times = f"{10 ** abs(power):,} times" if power > 0 else f"1/{10 ** abs(power):,} of"
+            return f"the number is {times} the value: a unit prefix slipped (for example m read as u, or k dropped)"
+    return None
+
+
+_RULES: dict[str, Callable[[Context], str | None]] = {
+    "series-as-parallel": lambda c: _series_parallel(c, series_for_parallel=True),
+    "parallel-as-series": lambda c: _series_parallel(c, series_for_parallel=False),
+    "hertz-as-angular": lambda c: _frequency_swap(c, hertz_for_angular=True),
+    "angular-as-hertz": lambda c: _frequency_swap(c, hertz_for_angular=False),
+    "degrees-as-radians": lambda c: _angle_mode(c, degrees_as_radians=True),
+    "radians-as-degrees": lambda c: _angle_mode(c, degrees_as_radians=False),
+    "reactance-sign": _reactance_sign,
+    "impedance-as-admittance": _impedance_admittance,
+    "power-half": _power_half,
+    "peak-as-rms": lambda c: _peak_rms(c, peak_as_rms=True),
+    "rms-as-peak": lambda c: _peak_rms(c, peak_as_rms=False),
+    "sine-reference": _sine_reference,
+    "phase-sign": _phase_sign,
+    "prefix": _prefix,
+}
+
+
+def diagnose(ctx: Context) -> list[tuple[str, str]]:
+    """Every catalogued mistake that reproduces the claim, most specific first."""
+    found = []
+    for code in CODES:
+        detail = _RULES[code](ctx)
+        if detail:
+            found.append((code, detail))
+    return found

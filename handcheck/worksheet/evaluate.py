@@ -95,10 +95,14 @@ FUNCTIONS: dict[str, Function] = {
 }
 
 
+_TRIG = frozenset({"sin", "cos", "tan", "polar"})
+
+
 class _Evaluator:
-    def __init__(self, text: str, env: Mapping[str, Value]) -> None:
+    def __init__(self, text: str, env: Mapping[str, Value], angle_scale: sympy.Expr | None = None) -> None:
         self.text = text
         self.env = env
+        self.angle_scale = angle_scale
 
     def quote(self, node: Node) -> str:
         return self.text[node.start : node.end].strip()
@@ -163,7 +167,8 @@ class _Evaluator:
         if op == "angle":
             if not right.dim.dimensionless:
                 raise UnitError(f'the angle "{self.quote(node.right)}" must be in deg or rad, not {right.dim}')
-            return Value(left.expr * sympy.exp(sympy.I * right.expr), left.dim)
+            angle = right.expr if self.angle_scale is None else right.expr * self.angle_scale
+            return Value(left.expr * sympy.exp(sympy.I * angle), left.dim)
         raise TypeError(op)  # pragma: no cover
 
     def power(self, node: Binary, base: Value, exponent: Value) -> Value:
@@ -210,13 +215,21 @@ class _Evaluator:
         if node.function == "ln" or node.function == "log10":
             if args[0].expr == 0:
                 raise ParseError(f'{name} of exactly 0 is not defined', self.text, node.start + 1)
-        return Value(fn.rule(*(a.expr for a in args)), dim)
+        exprs = [a.expr for a in args]
+        if self.angle_scale is not None and node.function in _TRIG:
+            exprs[-1] = exprs[-1] * self.angle_scale
+        return Value(fn.rule(*exprs), dim)
 
 
-def evaluate(node: Node, env: Mapping[str, Value], text: str) -> Value:
-    """Evaluate a parsed tree in an environment of named values."""
+def evaluate(node: Node, env: Mapping[str, Value], text: str, *, angle_scale: sympy.Expr | None = None) -> Value:
+    """Evaluate a parsed tree in an environment of named values.
+
+    ``angle_scale`` multiplies every angle given to sin, cos, tan, polar and the
+    angle operator; the mistake catalogue uses it to replay a calculator left in
+    the wrong angle mode.
+    """
     try:
-        return _Evaluator(text, env).run(node)
+        return _Evaluator(text, env, angle_scale).run(node)
     except HandcheckError:
         raise
     except (ValueError, TypeError, ZeroDivisionError, OverflowError, RecursionError) as exc:
