@@ -384,7 +384,7 @@ class _StateSpace:
 
 def _check_deadline(deadline: float | None, stage: str) -> None:
     """Raise ``TimeoutError`` if the monotonic clock has passed ``deadline``."""
-    if deadline is not None and time.monotonic() > deadline:
+    if deadline is not None and time.monotonic() >= deadline:
         raise TimeoutError(f"solve_rational: time limit exceeded ({stage})")
 
 

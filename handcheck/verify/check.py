@@ -84,24 +84,33 @@ class _Checker:
             self._solution = solve(self.circuit)
         return self._solution
 
-    def located(self, exc: HandcheckError, step: StepSpec) -> HandcheckError:
-        return exc.located(self.worksheet.path, step.line)
+    def located(self, exc: HandcheckError, step: StepSpec, key: str | None = None) -> HandcheckError:
+        """The error with the file, the step's line, and the step's name in front."""
+        prefix = f'step "{step.name}": '
+        if not exc.message.startswith(prefix):
+            exc.message = prefix + exc.message
+            exc.args = (exc.message,)
+        return exc.located(self.worksheet.path, step.line_of(key) if key else step.line)
 
     def parse_formula(self, step: StepSpec) -> Node:
         assert step.formula is not None
         try:
             tree = parse(step.formula, self.names)
         except HandcheckError as exc:
-            raise self.located(exc, step) from None
+            raise self.located(exc, step, "formula") from None
         for name in names_in(tree):
             if name == step.name:
-                raise WorksheetError(f'the formula of step "{step.name}" uses the step itself', file=self.worksheet.path, line=step.line)
+                raise WorksheetError(
+                    f'step "{step.name}": the formula uses the step itself; a formula may use only earlier steps',
+                    file=self.worksheet.path,
+                    line=step.line_of("formula"),
+                )
             if name in self.step_names and name not in self.findings:
                 raise WorksheetError(
-                    f'the formula of step "{step.name}" uses "{name}", which is a later step; '
+                    f'step "{step.name}": the formula uses "{name}", which is a later step; '
                     "a formula may use only earlier steps",
                     file=self.worksheet.path,
-                    line=step.line,
+                    line=step.line_of("formula"),
                 )
         return tree
 
@@ -122,10 +131,15 @@ class _Checker:
 
     def check_step(self, step: StepSpec) -> StepFinding:
         path = self.worksheet.path
-        claim = read_claim(step.claim, file=path, line=step.line)
-        tolerance = (
-            read_tolerance(step.tolerance, file=path, line=step.line) if step.tolerance else self.default_tolerance
-        )
+        try:
+            claim = read_claim(step.claim, file=path, line=step.line_of("claim"))
+            tolerance = (
+                read_tolerance(step.tolerance, file=path, line=step.line_of("tolerance"))
+                if step.tolerance
+                else self.default_tolerance
+            )
+        except HandcheckError as exc:
+            raise self.located(exc, step, "claim") from None
         self.claimed_env[step.name] = claim.value
         tree = self.parse_formula(step) if step.formula else None
         base = {"name": step.name, "claimed": step.claim, "quantity": step.quantity, "formula": step.formula, "line": step.line}
@@ -144,7 +158,7 @@ class _Checker:
                     message=f"the time-domain quantity {exc}() is not evaluated by this version; the claim is taken as written",
                 )
             except HandcheckError as exc:
-                raise self.located(exc, step) from None
+                raise self.located(exc, step, "quantity") from None
 
         formula_true: Value | None = None
         if tree is not None:
@@ -154,7 +168,7 @@ class _Checker:
                 self.true_env[step.name] = truth or claim.value
                 return StepFinding(**base, verdict="unit", message=f"the formula is not consistent in its units: {exc.message}")
             except HandcheckError as exc:
-                raise self.located(exc, step) from None
+                raise self.located(exc, step, "formula") from None
         if truth is None:
             truth = formula_true
         if truth is None:
@@ -207,7 +221,7 @@ class _Checker:
         try:
             recomputed = evaluate(tree, self.claimed_env, step.formula or "")
         except HandcheckError as exc:
-            raise self.located(exc, step) from None
+            raise self.located(exc, step, "formula") from None
         recomputed_value = to_complex(recomputed.expr)
         shown["recomputed"] = format_value(recomputed, claim)
         if not agrees(claim, recomputed_value, tolerance):

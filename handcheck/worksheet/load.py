@@ -356,6 +356,9 @@ class _Reader:
                     tolerance=self.string(body, "tolerance", where),
                     line=line,
                     index=index,
+                    key_lines=tuple(
+                        (key, number) for key in _STEP_KEYS if (number := self.where.keys.get((where, key)))
+                    ),
                 )
             )
         return tuple(specs)

@@ -57,6 +57,11 @@ class StepSpec:
     tolerance: str | None = None
     line: int | None = None
     index: int = 0
+    key_lines: tuple[tuple[str, int], ...] = ()
+
+    def line_of(self, key: str) -> int | None:
+        """The line of one of the step's keys (the step's first line if unknown)."""
+        return dict(self.key_lines).get(key, self.line)
 
 
 @dataclass(frozen=True)
