@@ -149,20 +149,30 @@ class Solution:
 
 
 def solve(circuit: Circuit, system: MnaSystem | None = None) -> Solution:
-    """Solve the circuit at its analysis frequency with its own sources."""
+    """Solve the circuit at its analysis frequency with its own sources.
+
+    Each active source is solved for at unit amplitude (the right-hand sides are
+    then exact rationals) and the responses are added with the sources' exact
+    phasors as weights (superposition), so a phase such as 22.1 deg, whose
+    exponential is no algebraic number, never enters the matrix.
+    """
     system = system or stamp(circuit)
-    u = {ident: (circuit.part(ident).source.phasor(circuit.phasors) if circuit.active(circuit.part(ident)) else sympy.Integer(0))  # type: ignore[union-attr]
-         for ident in system.sources}
-    rhs = [
-        sum((system.B[r][k] * u[ident] for k, ident in enumerate(system.sources)), sympy.Integer(0))
+    u = {
+        ident: (circuit.part(ident).source.phasor(circuit.phasors) if circuit.active(circuit.part(ident)) else sympy.Integer(0))  # type: ignore[union-attr]
+        for ident in system.sources
+    }
+    active = [k for k, ident in enumerate(system.sources) if u[ident] != 0]
+    if not active:
+        # No source runs at this frequency: every phasor is zero, but check solvability all the same.
+        if system.size:
+            solve_columns(system, circuit, [[sympy.Integer(1)] + [sympy.Integer(0)] * (system.size - 1)])
+        return Solution(circuit, system, (sympy.Integer(0),) * system.size, u)
+    columns = [[system.B[r][k] for r in range(system.size)] for k in active]
+    responses = solve_columns(system, circuit, columns)
+    x = [
+        sum((response[r] * u[system.sources[k]] for k, response in zip(active, responses, strict=True)), sympy.Integer(0))
         for r in range(system.size)
     ]
-    if system.size and all(v == 0 for v in rhs):
-        # No source runs at this frequency: every phasor is zero, but check solvability all the same.
-        unit = [sympy.Integer(1)] + [sympy.Integer(0)] * (system.size - 1)
-        solve_columns(system, circuit, [unit])
-        return Solution(circuit, system, tuple(rhs), u)
-    (x,) = solve_columns(system, circuit, [rhs])
     return Solution(circuit, system, tuple(x), u)
 
 

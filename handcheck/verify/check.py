@@ -27,6 +27,8 @@ from handcheck.errors import HandcheckError, UnitError, WorksheetError
 from handcheck.solve.phasor import Solution, solve
 from handcheck.solve.quantities import evaluate_quantity, parse_quantity
 from handcheck.verify.claims import (
+    Claim,
+    Tolerance,
     agrees,
     read_claim,
     read_tolerance,
@@ -71,6 +73,9 @@ class _Checker:
         base = part_environment(circuit)
         self.true_env: dict[str, Value] = dict(base)
         self.claimed_env: dict[str, Value] = dict(base)
+        # The author's numbers before rounding, as far as they can be known: the true
+        # value where a claim agrees, the author's formula on these where it follows.
+        self.full_env: dict[str, Value] = dict(base)
         self.findings: dict[str, StepFinding] = {}
         self.default_tolerance = read_tolerance(
             worksheet.tolerance, file=worksheet.path, line=worksheet.line_of("tolerance")
@@ -118,6 +123,7 @@ class _Checker:
         for step in self.worksheet.steps:
             finding = self.check_step(step)
             self.findings[step.name] = finding
+            self.full_env[step.name] = self.unrounded(step, finding)
         solved = self._solution
         return Report(
             path=self.worksheet.path,
@@ -192,6 +198,7 @@ class _Checker:
             quantity=quantity,
             claimed_env=dict(self.claimed_env),
             true_env=dict(self.true_env),
+            full_env=dict(self.full_env),
         )
         if claim.dim != truth.dim:
             finding = StepFinding(
@@ -219,12 +226,11 @@ class _Checker:
             return self.diagnosed(StepFinding(**base, **shown, verdict="differs"), context)
 
         try:
-            recomputed = evaluate(tree, self.claimed_env, step.formula or "")
+            recomputed, follows = self.follows(claim, tree, step.formula or "", tolerance)
         except HandcheckError as exc:
             raise self.located(exc, step, "formula") from None
-        recomputed_value = to_complex(recomputed.expr)
         shown["recomputed"] = format_value(recomputed, claim)
-        if not agrees(claim, recomputed_value, tolerance):
+        if not follows:
             return self.diagnosed(StepFinding(**base, **shown, verdict="arithmetic"), context)
         assert formula_true is not None
         if step.quantity and not agrees(claim, reference, tolerance, value=to_complex(formula_true.expr)):
@@ -238,6 +244,30 @@ class _Checker:
                 message="follows from the rounded values of earlier steps",
             )
         return StepFinding(**base, **shown, verdict="carried", caused_by=cause)
+
+    def unrounded(self, step: StepSpec, finding: StepFinding) -> Value:
+        """The author's value of a step before rounding, as well as it can be known."""
+        claimed = self.claimed_env[step.name]
+        if finding.verdict == "agrees" and step.name in self.true_env:
+            return self.true_env[step.name]
+        if finding.verdict in ("formula", "carried") and step.formula:
+            try:
+                return evaluate(parse(step.formula, self.names), self.full_env, step.formula)
+            except HandcheckError:
+                return claimed
+        return claimed
+
+    def follows(self, claim_value: Claim, tree: Node, text: str, tolerance: Tolerance) -> tuple[Value, bool]:
+        """The formula on the author's numbers, and whether the claim follows from it
+        (from the rounded numbers as written, or from the unrounded ones)."""
+        recomputed = evaluate(tree, self.claimed_env, text)
+        if agrees(claim_value, to_complex(recomputed.expr), tolerance):
+            return recomputed, True
+        try:
+            unrounded = evaluate(tree, self.full_env, text)
+        except HandcheckError:
+            return recomputed, False
+        return recomputed, agrees(claim_value, to_complex(unrounded.expr), tolerance)
 
     def root_cause(self, tree: Node) -> str | None:
         for name in names_in(tree):

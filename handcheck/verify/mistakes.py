@@ -69,6 +69,7 @@ class Context:
     quantity: Quantity | None
     claimed_env: Mapping[str, Value]
     true_env: Mapping[str, Value]
+    full_env: Mapping[str, Value]
 
 
 def _matches(ctx: Context, value: sympy.Expr | complex | None) -> bool:
@@ -142,6 +143,31 @@ def _formula(ctx: Context, env: Mapping[str, Value], tree: Node | None = None, a
         return None
 
 
+def _author(
+    ctx: Context,
+    tree: Node | None = None,
+    angle_scale: sympy.Expr | None = None,
+    changes: Mapping[str, Value] | None = None,
+) -> bool:
+    """True when the formula, worked out by the author with the given change, gives the claim
+    (from the author's numbers as written, or before rounding)."""
+    for env in (ctx.claimed_env, ctx.full_env):
+        changed = _formula(ctx, {**env, **(changes or {})}, tree, angle_scale)
+        if changed is None or not _matches(ctx, changed):
+            continue
+        if tree is None and angle_scale is None and changes is None:
+            return True
+        plain = _formula(ctx, env)
+        if plain is None or not _same(changed, plain):
+            return True  # the change made the difference
+    return False
+
+
+def _same(a: sympy.Expr, b: sympy.Expr) -> bool:
+    x, y = to_complex(a), to_complex(b)
+    return abs(x - y) <= 1e-9 * max(abs(x), abs(y), 1e-300)
+
+
 def _swapped(tree: Node, old: str, new: str) -> Iterator[tuple[Binary, Node]]:
     """The tree with one ``old`` operator replaced by ``new``, one occurrence at a time."""
     for node in walk(tree):
@@ -181,13 +207,13 @@ def _series_parallel(ctx: Context, series_for_parallel: bool) -> str | None:
 
     # The formula is right, but was worked out with the wrong combination...
     for node, tree in _swapped(ctx.tree, right, wrong):
-        if _matches(ctx, _formula(ctx, ctx.claimed_env, tree)):
+        if _author(ctx, tree):
             return (
                 f'the number is what "{text(node.left)} {wrong} {text(node.right)}" gives: '
                 f'{text(node.left)} and {text(node.right)} were combined {how}, but the formula has them {should}'
             )
     # ...or the formula itself combines two parts the wrong way.
-    if ctx.truth is None or not _matches(ctx, _formula(ctx, ctx.claimed_env)):
+    if ctx.truth is None or not _author(ctx):
         return None
     for node, tree in _swapped(ctx.tree, wrong, right):
         if _matches_truth(ctx, _formula(ctx, ctx.true_env, tree)):
@@ -220,7 +246,7 @@ def _frequency_swap(ctx: Context, hertz_for_angular: bool) -> str | None:
         detail = f"the number is what you get with w = {w_text} rad/s used where f = {f_text} Hz belongs (2*pi applied twice)"
         env_change = {"f": Value(circuit.omega, dim_of("Hz"))}
         omega = circuit.omega * 2 * sympy.pi
-    if ctx.tree is not None and _matches(ctx, _formula(ctx, {**ctx.claimed_env, **env_change})):
+    if ctx.tree is not None and _author(ctx, changes=env_change):
         return detail
     if _matches(ctx, _requantify(ctx, _at_omega(circuit, omega))):
         return detail
@@ -234,7 +260,7 @@ def _angle_mode(ctx: Context, degrees_as_radians: bool) -> str | None:
         if degrees_as_radians
         else "an angle in radians was taken as degrees (a calculator left in degree mode)"
     )
-    if ctx.tree is not None and _matches(ctx, _formula(ctx, ctx.claimed_env, angle_scale=scale)):
+    if ctx.tree is not None and _author(ctx, angle_scale=scale):
         return what
     shifted = _with_phases(ctx.circuit, scale)
     if shifted is not None and _matches(ctx, _requantify(ctx, shifted)):
@@ -245,19 +271,20 @@ def _angle_mode(ctx: Context, degrees_as_radians: bool) -> str | None:
             # the claim's angle number is the true angle in the other unit, labelled wrongly
             magnitude = sympy.Abs(ctx.claim.value.expr)
             angle = sympy.arg(ctx.claim.value.expr)
-            relabelled = magnitude * sympy.exp(sympy.I * angle * scale)
-            if _matches_claim_value(ctx, relabelled):
+            relabelled = magnitude * sympy.exp(sympy.I * angle / scale)
+            magnitude_res, angle_res = ctx.claim.resolution
+            if _matches_claim_value(ctx, relabelled, (magnitude_res, float(angle_res / scale))):
                 unit = "degrees" if ctx.claim.angle_unit == "deg" else "radians"
                 other = "radians" if unit == "degrees" else "degrees"
                 return f"the claimed angle is the right angle in {other}, labelled as {unit}"
     return None
 
 
-def _matches_claim_value(ctx: Context, value: sympy.Expr) -> bool:
-    """True when ``value``, read as the claim, agrees with the truth."""
+def _matches_claim_value(ctx: Context, value: sympy.Expr, resolution: tuple[float, float]) -> bool:
+    """True when ``value``, read as the claim with that resolution, agrees with the truth."""
     if ctx.truth is None:
         return False
-    alternative = dataclasses.replace(ctx.claim, value=Value(value, ctx.claim.dim))
+    alternative = dataclasses.replace(ctx.claim, value=Value(value, ctx.claim.dim), resolution=resolution)
     return agrees(alternative, to_complex(ctx.truth.expr), ctx.tolerance)
 
 
