@@ -60,7 +60,7 @@ CASES = [
         "an unknown part kind",
         '[parts]\nR1 = { resistr = "3 kohm", nodes = ["a", "gnd"] }\n',
         'W.toml:5: part "R1" has no kind (did you mean "resistor"?); give one of: resistor, inductor, capacitor, '
-        "voltage, current, vcvs, vccs, cccs, ccvs, opamp, coupling, transformer",
+        "voltage, current, vcvs, vccs, cccs, ccvs, opamp, coupling, transformer, switch",
     ),
     (
         "invalid TOML",

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import re
 
 import sympy
@@ -90,11 +91,14 @@ def _phase(spec: PartSpec, path: str) -> sympy.Expr:
     return value.expr
 
 
+_AMPLITUDE_KIND = re.compile(r"^(.*?[^\s])\s*(rms|peak|pk)$", re.IGNORECASE | re.S)
+
+
 def _source(spec: PartSpec, path: str) -> tuple[sympy.Expr, Source]:
-    words = spec.value.split()
-    rms = bool(words) and words[-1].lower() == "rms"
-    peak_word = bool(words) and words[-1].lower() == "peak"
-    text = " ".join(words[:-1]) if rms or peak_word else spec.value
+    """A source's amplitude: peak unless written with the word rms ("24 V rms" or "24 Vrms")."""
+    match = _AMPLITUDE_KIND.match(spec.value.strip())
+    rms = bool(match) and match.group(2).lower() == "rms"  # type: ignore[union-attr]
+    text = match.group(1) if match else spec.value
     what = f"the {spec.kind} of {spec.id}"
     amplitude = read_value(text, _KIND_UNIT[spec.kind], what, file=path, line=spec.line)
     omega = None
@@ -109,7 +113,84 @@ def _source(spec: PartSpec, path: str) -> tuple[sympy.Expr, Source]:
     if spec.phase is not None and omega is None:
         raise WorksheetError(f"{spec.id} has a phase but no frequency; give it a frequency", file=path, line=spec.line)
     peak = amplitude * sympy.sqrt(2) if rms else amplitude
-    return peak, Source(peak=peak, omega=omega, phase=_phase(spec, path), rms_written=rms)
+    return peak, _time_keys(spec, path, Source(peak=peak, omega=omega, phase=_phase(spec, path), rms_written=rms))
+
+
+_SHAPES = ("constant", "sine", "step", "pulse", "points")
+
+
+def _time_keys(spec: PartSpec, path: str, source: Source) -> Source:
+    """Read a source's time-domain keys (shape, offset, delay, damping, pulse, points)."""
+    unit = _KIND_UNIT[spec.kind]
+    shape = str(spec.get("shape") or ("sine" if source.omega is not None else "points" if spec.get("points") else "constant"))
+    where = {"file": path, "line": spec.line}
+    if shape not in _SHAPES:
+        raise WorksheetError(f'shape "{shape}" of {spec.id} must be one of: {", ".join(_SHAPES)}', **where)
+    if (shape == "sine") != (source.omega is not None):
+        raise WorksheetError(
+            f'{spec.id} has shape "{shape}"' + (" but no frequency" if shape == "sine" else " and a frequency")
+            + '; only shape "sine" takes a frequency',
+            **where,
+        )
+    if source.rms_written and shape != "sine":
+        raise WorksheetError(f'{spec.id} is not a sinusoid, so "rms" has no meaning; remove it', **where)
+
+    def time(key: str, *, positive: bool = False) -> sympy.Expr | None:
+        text = spec.get(key)
+        if text is None:
+            return None
+        value = read_value(str(text), "s", f"{key} of {spec.id}", **where)
+        if value < 0 or (positive and value == 0):
+            raise WorksheetError(f"{key} of {spec.id} is {text}; it must be {'more than' if positive else 'at least'} 0 s", **where)
+        return value
+
+    def level(key: str) -> sympy.Expr | None:
+        text = spec.get(key)
+        return None if text is None else read_value(str(text), unit, f"{key} of {spec.id}", **where)
+
+    damping_text = spec.get("damping")
+    damping = sympy.Integer(0)
+    if damping_text is not None:
+        damping = read_value(str(damping_text), "Hz", f"damping of {spec.id}", **where)
+        if damping < 0:
+            raise WorksheetError(f"damping of {spec.id} is {damping_text}; a growing envelope is not accepted", **where)
+        if shape != "sine":
+            raise WorksheetError(f"damping of {spec.id} applies to a sinusoid only (shape \"sine\")", **where)
+    pulse_keys = ("width", "period", "rise", "fall")
+    if shape != "pulse" and any(spec.get(k) is not None for k in pulse_keys):
+        raise WorksheetError(f'width, period, rise and fall of {spec.id} need shape = "pulse"', **where)
+    if spec.get("low") is not None and shape not in ("pulse", "step"):
+        raise WorksheetError(f'low of {spec.id} needs shape = "pulse" or "step"', **where)
+    changes: dict[str, object] = {
+        "shape": shape,
+        "offset": level("offset") or sympy.Integer(0),
+        "delay": time("delay") or sympy.Integer(0),
+        "damping": damping,
+        "low": level("low") or sympy.Integer(0),
+    }
+    if shape == "pulse":
+        width, period = time("width", positive=True), time("period", positive=True)
+        if width is None or period is None:
+            raise WorksheetError(f'{spec.id} has shape "pulse" and needs width and period', **where)
+        rise, fall = time("rise") or sympy.Integer(0), time("fall") or sympy.Integer(0)
+        if rise + width + fall > period:
+            raise WorksheetError(f"rise + width + fall of {spec.id} is longer than its period", **where)
+        changes.update(width=width, period=period, rise=rise, fall=fall)
+    points = spec.get("points")
+    if shape == "points":
+        if not points:
+            raise WorksheetError(f'{spec.id} has shape "points" and needs points = [["0 s", "0 V"], ...]', **where)
+        pairs = tuple(
+            (read_value(t, "s", f"a time in points of {spec.id}", **where), read_value(v, unit, f"a value in points of {spec.id}", **where))
+            for t, v in points  # type: ignore[union-attr]
+        )
+        times = [t for t, _ in pairs]
+        if times[0] < 0 or any(b <= a for a, b in zip(times, times[1:])):
+            raise WorksheetError(f"the times in points of {spec.id} must start at 0 s or later and increase", **where)
+        changes["points"] = pairs
+    elif points:
+        raise WorksheetError(f'points of {spec.id} need shape = "points"', **where)
+    return dataclasses.replace(source, **changes)  # type: ignore[arg-type]
 
 
 _RATIO = re.compile(r"\s*([0-9.]+(?:[eE][+-]?\d+)?)\s*:\s*([0-9.]+(?:[eE][+-]?\d+)?)\s*\Z")
@@ -122,6 +203,11 @@ def _part(spec: PartSpec, path: str) -> Part:
     initial = None
     if kind in ("voltage", "current"):
         value, source = _source(spec, path)
+    elif kind == "switch":
+        action = spec.value.strip().lower()
+        if action not in ("opens", "closes"):
+            raise WorksheetError(f'switch {spec.id} must be written switch = "opens" or "closes" (at t = 0)', file=path, line=line)
+        value = sympy.Integer(1 if action == "closes" else 0)
     elif kind == "opamp":
         if spec.value.strip().lower() != "ideal":
             raise WorksheetError(f'op-amp {spec.id} must be written opamp = "ideal"', file=path, line=line)
@@ -206,6 +292,7 @@ def build(worksheet: Worksheet) -> Circuit:
         omega=_analysis_omega(worksheet, parts),
         phasors=worksheet.phasors,
         path=worksheet.path,
+        start=dict(worksheet.transient).get("start", "rest"),  # type: ignore[arg-type]
     )
     check_structure(circuit)
     return circuit

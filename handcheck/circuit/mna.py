@@ -29,6 +29,13 @@ __all__ = ["MnaSystem", "stamp"]
 _ALWAYS_BRANCH = ("inductor", "voltage", "vcvs", "ccvs", "opamp")
 
 
+def _branch(part: Part, controls: set[str | tuple[str, ...] | None]) -> bool:
+    """Whether a part's current is an unknown of its own."""
+    if part.kind == "switch":
+        return part.value == 1  # a closed switch is a 0 V branch; an open one is absent
+    return part.kind in _ALWAYS_BRANCH or part.id in controls
+
+
 @dataclass(frozen=True)
 class MnaSystem:
     """The exact equations of a circuit.
@@ -59,11 +66,7 @@ class _Builder:
     def __init__(self, circuit: Circuit) -> None:
         self.circuit = circuit
         controls = {p.control for p in circuit.parts if p.kind in ("cccs", "ccvs")}
-        self.branch_parts = [
-            p
-            for p in circuit.parts
-            if p.kind in _ALWAYS_BRANCH or p.id in controls
-        ]
+        self.branch_parts = [p for p in circuit.parts if _branch(p, controls)]
         labels = [f"v({n})" for n in circuit.nodes]
         self.nodes = {n: k for k, n in enumerate(circuit.nodes)}
         self.branches: dict[str, int] = {}
@@ -82,8 +85,6 @@ class _Builder:
         self.G = [[zero] * n for _ in range(n)]
         self.C = [[zero] * n for _ in range(n)]
         self.B = [[zero] * len(self.sources) for _ in range(n)]
-        self.eq = n  # rows are assigned as parts are stamped; see _row
-        self.rows_used: set[int] = set()
 
     def v(self, node: str) -> int | None:
         return None if node == GROUND else self.nodes[node]
@@ -169,6 +170,9 @@ class _Builder:
             self.C[branch][branch] -= part.value
             for other, m in mutual.get(part.id, []):
                 self.C[branch][self.branches[other]] -= m
+        elif kind == "switch":  # closed: v = 0; open: nothing at all
+            if branch is not None:
+                self.voltage_row(branch, (nodes[0], nodes[1]), sympy.Integer(1))
         elif kind == "voltage":  # v = u
             assert branch is not None
             self.voltage_row(branch, (nodes[0], nodes[1]), sympy.Integer(1))

@@ -8,33 +8,72 @@ is positive.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Literal
 
 import sympy
 
 from handcheck.worksheet.model import PhasorConvention
 
-__all__ = ["GROUND", "Circuit", "Part", "Source"]
+__all__ = ["GROUND", "Circuit", "Part", "Shape", "Source", "Start"]
+
+Start = Literal["rest", "steady"]
 
 GROUND = "gnd"
 
 
+Shape = Literal["constant", "sine", "step", "pulse", "points"]
+
+
 @dataclass(frozen=True)
 class Source:
-    """An independent source's waveform: ``peak * cos(omega*t + phase)``, or a constant.
+    """An independent source's waveform.
 
-    ``omega`` is None for a constant source. ``rms_written`` records that the
-    amplitude was written as an rms value.
+    ``peak`` is the amplitude: the peak of a sinusoid ``peak*cos(omega*t + phase)``,
+    the value of a constant or step, the high level of a pulse train. ``omega`` is
+    None for every shape but "sine". ``rms_written`` records that the amplitude was
+    written as an rms value.
+
+    Time-domain keys (all exact, in SI units; see docs/transients.md). With
+    tau = t - delay, a source is zero before ``delay`` when the circuit starts from
+    rest, and from ``delay`` on it is:
+
+    - "constant", "step": ``offset + peak``;
+    - "sine": ``offset + peak*exp(-damping*tau)*cos(omega*tau + phase)``;
+    - "pulse": ``offset + low`` plus ``peak - low`` times a trapezoid train: rising
+      over ``rise`` from tau = k*period, high for ``width`` (measured from the end of
+      the rise), falling over ``fall``;
+    - "points": ``offset`` plus the straight-line interpolation of ``points``
+      (time, value) pairs (time measured from ``delay``), holding the last value.
+
+    A "step" differs from a "constant" only when the circuit starts in its own steady
+    state: a constant source was on before t = 0, a step sat at ``low`` until
+    ``delay``.
     """
 
     peak: sympy.Expr
     omega: sympy.Expr | None = None
     phase: sympy.Expr = sympy.Integer(0)
     rms_written: bool = False
+    shape: Shape = "constant"
+    offset: sympy.Expr = sympy.Integer(0)
+    delay: sympy.Expr = sympy.Integer(0)
+    damping: sympy.Expr = sympy.Integer(0)
+    low: sympy.Expr = sympy.Integer(0)
+    width: sympy.Expr | None = None
+    period: sympy.Expr | None = None
+    rise: sympy.Expr = sympy.Integer(0)
+    fall: sympy.Expr = sympy.Integer(0)
+    points: tuple[tuple[sympy.Expr, sympy.Expr], ...] = ()
+
+    @property
+    def steady_sinusoid(self) -> bool:
+        """True for an undamped sinusoid: one that has a steady-state phasor."""
+        return self.shape == "sine" and self.damping == 0
 
     def phasor(self, convention: PhasorConvention) -> sympy.Expr:
         """The source's phasor in the given convention (a constant's phasor is its value)."""
         if self.omega is None:
-            return self.peak
+            return self.peak + self.offset
         magnitude = self.peak if convention == "peak" else self.peak / sympy.sqrt(2)
         return magnitude * sympy.exp(sympy.I * self.phase)
 
@@ -81,6 +120,7 @@ class Circuit:
     omega: sympy.Expr
     phasors: PhasorConvention = "peak"
     path: str = "<worksheet>"
+    start: Start = "rest"
 
     def part(self, ident: str) -> Part:
         for part in self.parts:
@@ -98,8 +138,11 @@ class Circuit:
 
     def active(self, part: Part) -> bool:
         """True when an independent source contributes to phasors at the analysis frequency."""
-        if part.source is None:
+        source = part.source
+        if source is None:
             return False
-        if part.source.omega is None:
-            return self.omega == 0
-        return bool(sympy.simplify(part.source.omega - self.omega) == 0)
+        if source.omega is None:
+            return self.omega == 0 and source.shape != "pulse" and source.shape != "points"
+        if not source.steady_sinusoid:
+            return False
+        return bool(sympy.simplify(source.omega - self.omega) == 0)

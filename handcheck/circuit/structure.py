@@ -16,9 +16,9 @@ from handcheck.errors import CircuitError
 
 __all__ = ["check_structure"]
 
-_VOLTAGE_DEFINED = ("voltage", "vcvs", "ccvs")
+_VOLTAGE_DEFINED = ("voltage", "vcvs", "ccvs", "switch")
 _CURRENT_DEFINED = ("current", "vccs", "cccs")
-_CARRIES_CURRENT = ("resistor", "inductor", "capacitor", "voltage", "current", "vcvs", "vccs", "cccs", "ccvs")
+_CARRIES_CURRENT = ("resistor", "inductor", "capacitor", "voltage", "current", "vcvs", "vccs", "cccs", "ccvs", "switch")
 
 
 def _edges(part: Part) -> list[tuple[str, str]]:
@@ -27,7 +27,7 @@ def _edges(part: Part) -> list[tuple[str, str]]:
         return [(part.nodes[0], GROUND)]
     if part.kind == "transformer":
         return [(part.nodes[0], part.nodes[1]), (part.nodes[2], part.nodes[3])]
-    if part.kind == "coupling":
+    if part.kind == "coupling" or (part.kind == "switch" and part.value == 0):
         return []
     return [(part.nodes[0], part.nodes[1])]
 
@@ -171,7 +171,7 @@ def _check_voltage_loops(circuit: Circuit) -> None:
 
     for part in circuit.parts:
         defined = part.kind in _VOLTAGE_DEFINED or part.kind == "opamp" or (dc and part.kind == "inductor")
-        if not defined:
+        if not defined or not _edges(part):
             continue
         a, b = _edges(part)[0]
         ra, rb = find(a), find(b)

@@ -202,4 +202,6 @@ def part_current(solution: Solution, part: Part) -> sympy.Expr:
         return part.value * x[system.branches[str(part.control)]]
     if kind == "transformer":
         return x[system.labels.index(f"i({part.id}.primary)")]
+    if kind == "switch":  # an open switch carries nothing
+        return sympy.Integer(0)
     raise CircuitError(f"{part.id} is a {kind}; it has no current of its own", (part.id,), file=solution.circuit.path, line=part.line)

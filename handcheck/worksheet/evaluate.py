@@ -129,7 +129,7 @@ class _Evaluator:
         return Value(value * factor, dim)
 
     def name(self, node: Name) -> Value:
-        ident = node.ident
+        ident = "w" if node.ident == "ω" else node.ident
         if ident in self.env:
             return self.env[ident]
         if ident == "pi":

@@ -100,7 +100,9 @@ class Call(Node):
 
 
 _NUMBER = re.compile(r"(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?")
-_NAME = re.compile(r"[A-Za-z_Ωµμ°][A-Za-z0-9_Ωµμ]*")
+_NAME = re.compile(r"[A-Za-z_Ωµμ°ω][A-Za-z0-9_Ωµμω]*")
+#: "j4.5" as engineers write an imaginary number (part names of this shape are refused).
+_J_NUMBER = re.compile(r"j((?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)")
 _OPS = ("**", "||", "/_", "∠", "+", "-", "*", "/", "^", "(", ")", ",")
 
 
@@ -116,6 +118,12 @@ def tokenize(text: str) -> list[Token]:
         if ch.isspace():
             pos += 1
             glued = False
+            continue
+        match = _J_NUMBER.match(text, pos)
+        if match and not glued:
+            tokens.append(Token("jnum", match.group(1), pos, glued))
+            pos = match.end()
+            glued = True
             continue
         match = _NUMBER.match(text, pos)
         if match:
@@ -258,7 +266,7 @@ class _Parser:
 
     def atom(self) -> Node:
         tok = self.tok
-        if tok.kind == "num":
+        if tok.kind in ("num", "jnum"):
             return self.number()
         if tok.kind == "name":
             self.advance()
@@ -292,9 +300,9 @@ class _Parser:
     def number(self) -> Node:
         tok = self.advance()
         value = parse_number(tok.text, self.text, tok.start)
-        end = tok.start + len(tok.text)
-        imaginary = False
-        if self.tok.kind == "name" and self.tok.glued and self.tok.text == "j":
+        end = tok.start + len(tok.text) + (1 if tok.kind == "jnum" else 0)
+        imaginary = tok.kind == "jnum"
+        if not imaginary and self.tok.kind == "name" and self.tok.glued and self.tok.text == "j":
             imaginary = True
             end = self.advance().start + 1
         elif self.tok.kind == "name" and self.tok.glued and self.tok.text.startswith("j") and self.tok.text[1:].isalpha():

@@ -16,7 +16,7 @@ from typing import Any
 
 from handcheck.errors import LimitError, WorksheetError
 from handcheck.worksheet.expr import RESERVED
-from handcheck.worksheet.model import PART_KINDS, PartSpec, StepSpec, Worksheet
+from handcheck.worksheet.model import PART_KINDS, SOURCE_TIME_KEYS, PartSpec, StepSpec, Worksheet
 
 __all__ = ["MAX_BYTES", "load", "loads"]
 
@@ -32,8 +32,8 @@ _PART_KEYS = {
     "resistor": ("nodes", "initial"),
     "inductor": ("nodes", "initial"),
     "capacitor": ("nodes", "initial"),
-    "voltage": ("nodes", "frequency", "phase"),
-    "current": ("nodes", "frequency", "phase"),
+    "voltage": ("nodes", "frequency", "phase", *SOURCE_TIME_KEYS),
+    "current": ("nodes", "frequency", "phase", *SOURCE_TIME_KEYS),
     "vcvs": ("nodes", "control"),
     "vccs": ("nodes", "control"),
     "cccs": ("nodes", "control"),
@@ -41,7 +41,9 @@ _PART_KEYS = {
     "opamp": ("nodes",),
     "coupling": ("inductors",),
     "transformer": ("nodes",),
+    "switch": ("nodes",),
 }
+_TRANSIENT_KEYS = ("start", "span")
 _TERMINALS = {"opamp": 3, "transformer": 4, "coupling": 0}
 
 
@@ -180,6 +182,19 @@ class _Reader:
         transient = self.data.get("transient", {})
         if not isinstance(transient, dict):
             raise self.fail("[transient] must be a table", self.where.tables.get("transient"))
+        for key, value in transient.items():
+            if key not in _TRANSIENT_KEYS:
+                raise self.fail(
+                    f'unknown key "{key}" in [transient]{_suggest(key, _TRANSIENT_KEYS)}; it takes: {", ".join(_TRANSIENT_KEYS)}',
+                    self.where.key("transient", key),
+                )
+            if not isinstance(value, str):
+                raise self.fail(f'{key} in [transient] must be text in quotes', self.where.key("transient", key))
+        if transient.get("start", "rest") not in ("rest", "steady"):
+            raise self.fail(
+                f'start = "{transient["start"]}" in [transient] must be "rest" or "steady"',
+                self.where.key("transient", "start"),
+            )
         return Worksheet(
             path=self.path,
             text=self.text,
@@ -232,8 +247,12 @@ class _Reader:
             line = self.where.part(ident)
             if not _IDENT.match(ident):
                 raise self.fail(f'the part name "{ident}" must start with a letter and hold only letters, digits and _', line)
-            if ident in RESERVED:
-                raise self.fail(f'"{ident}" is reserved in formulas (f, w, j, t, pi); name the part differently', line)
+            if ident in RESERVED or re.fullmatch(r"j\d+", ident):
+                raise self.fail(
+                    f'"{ident}" would read as a reserved word or an imaginary number in formulas '
+                    "(f, w, j, t, pi, j4); name the part differently",
+                    line,
+                )
             folded = ident.lower()
             if folded in seen:
                 raise self.fail(f'parts "{seen[folded]}" and "{ident}" differ only in case; give them distinct names', line)
@@ -246,7 +265,8 @@ class _Reader:
             raise self.fail(f'part "{ident}" must be a table, like {ident} = {{ resistor = "1 kohm", nodes = ["a", "b"] }}', line)
         kinds = [key for key in body if key in PART_KINDS]
         if not kinds:
-            others = [key for key in body if key not in ("nodes", "frequency", "phase", "initial", "control", "inductors")]
+            common = ("nodes", "frequency", "phase", "initial", "control", "inductors", *SOURCE_TIME_KEYS)
+            others = [key for key in body if key not in common]
             hint = _suggest(others[0], tuple(PART_KINDS)) if others else ""
             raise self.fail(
                 f'part "{ident}" has no kind{hint}; give one of: {", ".join(PART_KINDS)}', line
@@ -281,6 +301,14 @@ class _Reader:
             control = self.string(body, "control", where, line=line)
             if not control:
                 raise self.fail(f'part "{ident}" ({kind}) needs control = "<part id>", the part whose current controls it', line)
+        extra: list[tuple[str, object]] = []
+        for key in SOURCE_TIME_KEYS:
+            if key not in body:
+                continue
+            if key == "points":
+                extra.append((key, self.points(body[key], ident, line)))
+            else:
+                extra.append((key, self.string(body, key, where, line=line)))
         return PartSpec(
             id=ident,
             kind=kind,
@@ -292,7 +320,23 @@ class _Reader:
             control=control,
             inductors=inductors,
             line=line,
+            extra=tuple(extra),
         )
+
+    def points(self, value: Any, ident: str, line: int | None) -> tuple[tuple[str, str], ...]:
+        example = 'points = [["0 ms", "0 V"], ["1 ms", "5 V"]]'
+        if not isinstance(value, list) or not value:
+            raise self.fail(f"points of part \"{ident}\" must be a list of [time, value] pairs, like {example}", line)
+        pairs = []
+        for item in value:
+            if (
+                not isinstance(item, list)
+                or len(item) != 2
+                or not all(isinstance(v, str) for v in item)
+            ):
+                raise self.fail(f"each entry of points of part \"{ident}\" must be a [time, value] pair in quotes, like {example}", line)
+            pairs.append((item[0].strip(), item[1].strip()))
+        return tuple(pairs)
 
     def names(self, body: dict[str, Any], key: str, ident: str, count: int, line: int | None) -> tuple[str, ...]:
         what = "inductor ids" if key == "inductors" else "node names"

@@ -27,7 +27,11 @@ PART_KINDS: dict[str, str] = {
     "opamp": "",
     "coupling": "",
     "transformer": "",
+    "switch": "",
 }
+
+#: Time-domain keys of independent sources (docs/transients.md).
+SOURCE_TIME_KEYS = ("shape", "offset", "delay", "damping", "low", "width", "period", "rise", "fall", "points")
 
 
 @dataclass(frozen=True)
@@ -44,6 +48,11 @@ class PartSpec:
     control: tuple[str, ...] | str | None = None
     inductors: tuple[str, ...] = ()
     line: int | None = None
+    extra: tuple[tuple[str, object], ...] = ()
+
+    def get(self, key: str) -> object | None:
+        """A time-domain key's raw value, or None."""
+        return dict(self.extra).get(key)
 
 
 @dataclass(frozen=True)
