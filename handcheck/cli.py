@@ -7,10 +7,12 @@ Exit status: 0 every step agrees (or is unchecked); 1 a step does not agree;
 from __future__ import annotations
 
 import argparse
+import contextlib
+import signal
 import sys
-from collections.abc import Sequence
+from collections.abc import Iterator, Sequence
 
-from handcheck.errors import HandcheckError
+from handcheck.errors import HandcheckError, TimeLimitError
 
 __all__ = ["main"]
 
@@ -33,7 +35,43 @@ def _parser() -> argparse.ArgumentParser:
     check = commands.add_parser("check", help="check every step of a worksheet")
     check.add_argument("file", metavar="FILE", help="the worksheet (TOML, format 1)")
     check.add_argument("--json", action="store_true", help="print check output format 1 (JSON) on stdout")
+    check.add_argument(
+        "--time-limit",
+        type=_seconds,
+        default=None,
+        metavar="SECONDS",
+        help="stop with exit status 2 if the check takes longer than this (wall clock)",
+    )
     return parser
+
+
+def _seconds(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"--time-limit takes a number of seconds, not {text!r}") from None
+    if not 0 < value <= 86400:
+        raise argparse.ArgumentTypeError("--time-limit must be more than 0 and at most 86400 seconds")
+    return value
+
+
+@contextlib.contextmanager
+def _time_limit(seconds: float | None) -> Iterator[None]:
+    """Raise LimitError when the wall-clock budget runs out (POSIX interval timer)."""
+    if seconds is None or not hasattr(signal, "setitimer"):
+        yield
+        return
+
+    def expire(signum: int, frame: object) -> None:
+        raise TimeLimitError(f"the check ran out of its time limit of {seconds:g} s; simplify the worksheet or raise --time-limit")
+
+    previous = signal.signal(signal.SIGALRM, expire)
+    signal.setitimer(signal.ITIMER_REAL, seconds)
+    try:
+        yield
+    finally:
+        signal.setitimer(signal.ITIMER_REAL, 0)
+        signal.signal(signal.SIGALRM, previous)
 
 
 def _check(args: argparse.Namespace) -> int:
@@ -43,7 +81,8 @@ def _check(args: argparse.Namespace) -> int:
     from handcheck.verify.check import check
     from handcheck.worksheet.load import load
 
-    report = check(load(args.file))
+    with _time_limit(args.time_limit):
+        report = check(load(args.file))
     print(to_json(report, __version__) if args.json else render(report, __version__))
     return EXIT_OK if report.ok else EXIT_DISAGREES
 

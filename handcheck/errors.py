@@ -14,6 +14,7 @@ __all__ = [
     "HandcheckError",
     "LimitError",
     "ParseError",
+    "TimeLimitError",
     "UnitError",
     "WorksheetError",
 ]
@@ -102,3 +103,7 @@ class CircuitError(HandcheckError, ValueError):
 
 class LimitError(HandcheckError, ValueError):
     """An input goes beyond a limit that keeps handcheck from hanging."""
+
+
+class TimeLimitError(LimitError):
+    """The wall-clock budget of a check ran out. Never swallowed by fallbacks."""

@@ -15,6 +15,7 @@ itself and S = V I.
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 
 import sympy
@@ -46,7 +47,18 @@ QUANTITIES: dict[str, str] = {
     "power_factor": "",
 }
 TIME_DOMAIN = frozenset(
-    {"at", "initial", "final", "peak", "time_constant", "natural_frequency", "damping_ratio", "quality_factor"}
+    {
+        "at",
+        "initial",
+        "final",
+        "peak",
+        "peak_time",
+        "settling_time",
+        "time_constant",
+        "natural_frequency",
+        "damping_ratio",
+        "quality_factor",
+    }
 )
 
 
@@ -62,11 +74,26 @@ class Quantity:
         return self.text
 
 
+#: Quantities of the whole circuit, written with or without "()".
+CIRCUIT_WIDE = frozenset({"time_constant", "natural_frequency", "damping_ratio", "quality_factor"})
+_QUOTED = re.compile(r'"([^"]*)"' + "|'([^']*)'")
+
+
 class _QuantityParser:
+    """Reads ``name(arg, ...)``; an argument is a node or part name, a nested
+    quantity, or a value such as ``1.5 ms`` (quoted or not)."""
+
     def __init__(self, text: str) -> None:
         self.text = text
-        self.tokens = tokenize(text)
+        self.quoted: dict[int, str] = {}
+        masked = _QUOTED.sub(self._mask, text)
+        self.tokens = tokenize(masked)
         self.index = 0
+
+    def _mask(self, match: re.Match[str]) -> str:
+        # A quoted value becomes a placeholder of the same length, remembered by offset.
+        self.quoted[match.start()] = (match.group(1) if match.group(1) is not None else match.group(2)).strip()
+        return "_" * (match.end() - match.start())
 
     def error(self, message: str, tok: Token) -> ParseError:
         return ParseError(message, self.text, tok.start + 1)
@@ -76,8 +103,12 @@ class _QuantityParser:
         self.index += 1
         return tok
 
+    @property
+    def tok(self) -> Token:
+        return self.tokens[self.index]
+
     def quantity(self) -> Quantity:
-        start = self.tokens[self.index]
+        start = self.tok
         if start.kind != "name":
             raise self.error('a quantity starts with its name, like "voltage(out)" or "current(R1)"', start)
         self.take()
@@ -85,21 +116,16 @@ class _QuantityParser:
         if name not in QUANTITIES and name not in TIME_DOMAIN:
             known = ", ".join([*QUANTITIES, *sorted(TIME_DOMAIN)])
             raise self.error(f'unknown quantity "{name}"; known quantities: {known}', start)
+        if name in CIRCUIT_WIDE and self.tok.text != "(":
+            return Quantity(name, (), name)
         open_tok = self.take()
         if open_tok.text != "(":
             raise self.error(f'expected "(" after {name}', open_tok)
         args: list[str | Quantity] = []
-        if self.tokens[self.index].text != ")":
+        if self.tok.text != ")":
             while True:
-                tok = self.tokens[self.index]
-                if tok.kind == "name" and self.tokens[self.index + 1].text == "(":
-                    args.append(self.quantity())
-                elif tok.kind in ("name", "num"):
-                    self.take()
-                    args.append(tok.text)
-                else:
-                    raise self.error(f'expected a node, part or quantity, not "{tok.text or "the end"}"', tok)
-                if self.tokens[self.index].text == ",":
+                args.append(self.argument())
+                if self.tok.text == ",":
                     self.take()
                     continue
                 break
@@ -109,16 +135,35 @@ class _QuantityParser:
         end = close.start + 1
         return Quantity(name, tuple(args), self.text[start.start : end])
 
+    def argument(self) -> str | Quantity:
+        tok = self.tok
+        if tok.start in self.quoted and tok.kind == "name":
+            self.take()
+            return self.quoted[tok.start]
+        if tok.kind == "name" and self.tokens[self.index + 1].text == "(":
+            return self.quantity()
+        if tok.kind == "num" and self.tokens[self.index + 1].kind == "name" and self.tokens[self.index + 1].text not in ("",):
+            # a value with a unit, like 1.5 ms: keep its text
+            first = self.take()
+            last = first
+            while self.tok.kind != "end" and self.tok.text not in (",", ")"):
+                last = self.take()
+            return self.text[first.start : last.start + len(last.text)].strip()
+        if tok.kind in ("name", "num"):
+            self.take()
+            return tok.text
+        raise self.error(f'expected a node, part or quantity, not "{tok.text or "the end"}"', tok)
+
     def parse(self) -> Quantity:
         result = self.quantity()
-        tok = self.tokens[self.index]
+        tok = self.tok
         if tok.kind != "end":
             raise self.error(f'unexpected "{tok.text}" after the quantity', tok)
         return result
 
 
 def parse_quantity(text: str) -> Quantity:
-    """Read a quantity such as ``"impedance(a, b)"``."""
+    """Read a quantity such as ``"impedance(a, b)"`` or ``'at(voltage(out), "1.5 ms")'``."""
     return _QuantityParser(text).parse()
 
 

@@ -20,13 +20,19 @@ earlier step, named in ``caused_by``); ``differs`` (no formula, wrong claim);
 from __future__ import annotations
 
 import dataclasses
+import math
+from typing import Any
+
+import sympy
 
 from handcheck.circuit.build import build
 from handcheck.circuit.model import Circuit
-from handcheck.errors import HandcheckError, UnitError, WorksheetError
+from handcheck.errors import HandcheckError, TimeLimitError, UnitError, WorksheetError
 from handcheck.solve.phasor import Solution, solve
-from handcheck.solve.quantities import evaluate_quantity, parse_quantity
+from handcheck.solve.quantities import TIME_DOMAIN, Quantity, evaluate_quantity, parse_quantity
+from handcheck.solve.timequantities import evaluate_time_quantity, waveform_of
 from handcheck.verify.claims import (
+    TIME,
     Claim,
     Tolerance,
     agrees,
@@ -37,9 +43,9 @@ from handcheck.verify.claims import (
 )
 from handcheck.verify.findings import Diagnosis, Report, StepFinding
 from handcheck.verify.mistakes import Context, diagnose
-from handcheck.verify.present import describe_frequency, format_value
+from handcheck.verify.present import describe_frequency, describe_function, format_number, format_value
 from handcheck.verify.safety import cautions
-from handcheck.worksheet.evaluate import Value, evaluate
+from handcheck.worksheet.evaluate import Value, evaluate, evaluate_text
 from handcheck.worksheet.expr import Node, names_in, parse
 from handcheck.worksheet.model import StepSpec, Worksheet
 from handcheck.worksheet.units import DIMENSIONLESS, dim_of
@@ -70,6 +76,7 @@ class _Checker:
         self.worksheet = worksheet
         self.circuit = circuit
         self._solution: Solution | None = None
+        self._transient: Any = None
         base = part_environment(circuit)
         self.true_env: dict[str, Value] = dict(base)
         self.claimed_env: dict[str, Value] = dict(base)
@@ -82,6 +89,59 @@ class _Checker:
         )
         self.step_names = {step.name for step in worksheet.steps}
         self.names = set(base) | self.step_names
+
+    @property
+    def transient(self) -> Any:
+        """The closed-form complete response (computed on first use)."""
+        if self._transient is None:
+            from handcheck.solve.transient import transient_solution
+
+            self._transient = transient_solution(self.circuit)
+        return self._transient
+
+    def check_function(self, base: dict[str, Any], claim: Claim, quantity: Quantity, tolerance: Tolerance) -> StepFinding:
+        """Compare a claimed time function with the true waveform over a span of time.
+
+        The error is the largest difference over the span relative to the waveform's
+        largest value; the tolerance is the step's percentage, or 1 % under "digits".
+        """
+        wave, dim = waveform_of(self.transient, quantity)
+        if claim.dim != dim:
+            return StepFinding(**base, verdict="unit", message=f"the claim is in {claim.dim or 'no unit'}, but the quantity is in {dim}")
+        span = self.span()
+        times = [span * k / 400 for k in range(401)]
+        truth = [complex(wave.value(t)) for t in times]
+        claimed = [complex(sympy.N(claim.value.expr.subs(TIME, t), 20)) for t in times]
+        scale = max(abs(v) for v in truth) or 1.0
+        error = max(abs(a - b) for a, b in zip(claimed, truth, strict=True)) / scale
+        limit = tolerance.relative if tolerance.relative is not None else 0.01
+        shown = {
+            "error": error,
+            "expected": describe_function(wave, claim),
+            "message": f"compared at 401 times from 0 to {format_number(span, 4)} s; largest difference "
+            f"{error:.3g} of the waveform's largest value (allowed {limit:.3g})",
+        }
+        verdict = "agrees" if error <= limit else "differs"
+        return StepFinding(**base, **shown, verdict=verdict)  # type: ignore[arg-type]
+
+    def span(self) -> float:
+        """The time span a claimed waveform is compared over: five of the slowest time
+        constants, and at least three periods of any sinusoidal source ([transient] span if set)."""
+        written = dict(self.worksheet.transient).get("span")
+        if written:
+            value = evaluate_text(written)
+            if value.dim == dim_of("s") and value.expr.is_positive:
+                return float(value.expr)
+            raise WorksheetError(f'span = "{written}" in [transient] must be a time, like "20 ms"', file=self.worksheet.path)
+        candidates = []
+        for pole in self.transient.natural_modes():
+            rate = abs(complex(pole).real)
+            if rate > 0:
+                candidates.append(5 / rate)
+        for part in self.circuit.parts:
+            if part.source is not None and part.source.omega is not None:
+                candidates.append(3 * 2 * math.pi / float(part.source.omega))
+        return max(candidates, default=1e-3)
 
     @property
     def solution(self) -> Solution:
@@ -155,16 +215,22 @@ class _Checker:
         if step.quantity:
             try:
                 quantity = parse_quantity(step.quantity)
-                truth = evaluate_quantity(self.solution, quantity)
-            except NotImplementedError as exc:
-                self.true_env[step.name] = claim.value
-                return StepFinding(
-                    **base,
-                    verdict="unchecked",
-                    message=f"the time-domain quantity {exc}() is not evaluated by this version; the claim is taken as written",
-                )
+                if claim.form == "function":
+                    self.true_env[step.name] = claim.value
+                    return self.check_function(base, claim, quantity, tolerance)
+                if quantity.name in TIME_DOMAIN:
+                    truth = evaluate_time_quantity(
+                        self.transient, quantity, lambda q: evaluate_quantity(self.solution, q)
+                    )
+                else:
+                    truth = evaluate_quantity(self.solution, quantity)
             except HandcheckError as exc:
                 raise self.located(exc, step, "quantity") from None
+        elif claim.form == "function":
+            self.true_env[step.name] = claim.value
+            return StepFinding(
+                **base, verdict="unchecked", message="a claimed time function needs a quantity, like voltage(out)"
+            )
 
         formula_true: Value | None = None
         if tree is not None:
@@ -253,6 +319,8 @@ class _Checker:
         if finding.verdict in ("formula", "carried") and step.formula:
             try:
                 return evaluate(parse(step.formula, self.names), self.full_env, step.formula)
+            except TimeLimitError:
+                raise
             except HandcheckError:
                 return claimed
         return claimed
@@ -265,6 +333,8 @@ class _Checker:
             return recomputed, True
         try:
             unrounded = evaluate(tree, self.full_env, text)
+        except TimeLimitError:
+            raise
         except HandcheckError:
             return recomputed, False
         return recomputed, agrees(claim_value, to_complex(unrounded.expr), tolerance)

@@ -23,8 +23,8 @@ import sympy
 
 from handcheck.errors import HandcheckError, ParseError, UnitError
 from handcheck.worksheet.evaluate import Value, evaluate, unit_of
-from handcheck.worksheet.expr import Binary, Number, Unary, parse, walk
-from handcheck.worksheet.units import DIMENSIONLESS, Dim
+from handcheck.worksheet.expr import Binary, Name, Number, Unary, parse, walk
+from handcheck.worksheet.units import DIMENSIONLESS, Dim, dim_of
 
 __all__ = ["Claim", "Tolerance", "agrees", "read_claim", "read_tolerance", "to_complex"]
 
@@ -33,7 +33,10 @@ DIGITS = 30
 #: Relative slack for comparisons, far below any written digit.
 SLACK = 1e-12
 
-Form = Literal["real", "rect", "polar"]
+Form = Literal["real", "rect", "polar", "function"]
+
+#: The time variable of a claimed time function, in seconds.
+TIME = sympy.Symbol("t", real=True)
 
 
 @dataclass(frozen=True)
@@ -152,7 +155,9 @@ def _read_claim(text: str) -> Claim:
     if "∠" in text or "/_" in text:
         return _read_polar(text)
     body, unit = _split_unit(text)
-    tree = parse(body)
+    tree = parse(body, {"t"})
+    if any(isinstance(node, Name) and node.ident == "t" for node in walk(tree)):
+        return _read_function(text, body, unit, tree)
     _numbers_only(body, tree)
     if any(isinstance(n, Number) and n.unit for n in walk(tree)):
         raise ParseError("a claim takes one unit, written once at the end", text, None)
@@ -169,6 +174,24 @@ def _read_claim(text: str) -> Claim:
         value=Value(value.expr * factor, dim),
         form="rect" if imaginary else "real",
         resolution=(float(real) * scale, float(imag) * scale),
+        unit_text=unit,
+        unit_factor=factor,
+    )
+
+
+def _read_function(text: str, body: str, unit: str, tree: object) -> Claim:
+    """A claimed time function such as ``0.5*(1 - exp(-t/3.2 ms)) A``."""
+    value = evaluate(tree, {"t": Value(TIME, dim_of("s"))}, body)  # type: ignore[arg-type]
+    factor, dim = unit_of(_unit_words(unit)) if unit else (sympy.Integer(1), DIMENSIONLESS)
+    if unit and not value.dim.dimensionless:
+        raise ParseError("a time function takes one unit, written once at the end", text, None)
+    if not unit:
+        dim = value.dim
+    return Claim(
+        text=text,
+        value=Value(value.expr * factor, dim),
+        form="function",
+        resolution=(0.0, 0.0),
         unit_text=unit,
         unit_factor=factor,
     )

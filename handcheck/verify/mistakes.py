@@ -24,7 +24,7 @@ from dataclasses import dataclass
 import sympy
 
 from handcheck.circuit.model import Circuit, Part, Source
-from handcheck.errors import HandcheckError
+from handcheck.errors import HandcheckError, TimeLimitError
 from handcheck.solve.phasor import solve
 from handcheck.solve.quantities import Quantity, evaluate_quantity
 from handcheck.verify.claims import Claim, Tolerance, agrees, to_complex
@@ -88,6 +88,8 @@ def _requantify(ctx: Context, circuit: Circuit) -> sympy.Expr | None:
         return None
     try:
         return evaluate_quantity(solve(circuit), ctx.quantity).expr
+    except TimeLimitError:
+        raise
     except (HandcheckError, NotImplementedError, ZeroDivisionError):
         return None
 
@@ -139,6 +141,8 @@ def _formula(ctx: Context, env: Mapping[str, Value], tree: Node | None = None, a
         return None
     try:
         return evaluate(tree, env, ctx.formula, angle_scale=angle_scale).expr
+    except TimeLimitError:
+        raise
     except (HandcheckError, ZeroDivisionError):
         return None
 

@@ -66,3 +66,15 @@ def describe_frequency(circuit: Circuit) -> str:
     f = float(sympy.N(circuit.frequency, 15))
     w = float(sympy.N(circuit.omega, 15))
     return f"{format_number(f, 8)} Hz (w = {format_number(w, 8)} rad/s)"
+
+
+def describe_function(wave: object, claim: Claim) -> str:
+    """A true waveform as a short formula in t (5 significant digits), in the claim's unit."""
+    try:
+        expr = wave.as_expr()  # type: ignore[attr-defined]
+    except (AttributeError, ValueError, NotImplementedError):
+        return "see the record"
+    if claim.unit_text:
+        expr = expr / claim.unit_factor
+    text = sympy.sstr(sympy.N(expr, 5))
+    return f"{text} {claim.unit_text}".strip()

@@ -1,0 +1,106 @@
+"""Time-domain quantities (worksheet format 1), from the closed-form transient.
+
+``at(Q, "1.5 ms")``, ``initial(Q)``, ``final(Q)``, ``peak(Q)``, ``peak_time(Q)``,
+``settling_time(Q, "2%")`` for a voltage or current Q, and, for a circuit whose
+response is of first or second order, ``time_constant``, ``natural_frequency``
+(rad/s), ``damping_ratio`` and ``quality_factor``.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from typing import Any
+
+import sympy
+
+from handcheck.errors import ParseError
+from handcheck.solve.quantities import CIRCUIT_WIDE, Quantity
+from handcheck.worksheet.evaluate import Value, evaluate_text
+from handcheck.worksheet.units import DIMENSIONLESS, Dim, dim_of
+
+__all__ = ["evaluate_time_quantity", "waveform_of"]
+
+
+def waveform_of(transient: Any, quantity: Quantity) -> tuple[Any, Dim]:
+    """The time function of ``voltage(...)`` or ``current(...)`` and its dimension."""
+    if quantity.name == "voltage":
+        args = [str(a) for a in quantity.args]
+        circuit = transient.circuit
+        if len(args) == 1 and circuit.has_part(args[0]) and args[0] not in circuit.nodes and args[0] != "gnd":
+            return transient.part_voltage(args[0]), dim_of("V")
+        if len(args) == 1:
+            return transient.node_voltage(args[0]), dim_of("V")
+        if len(args) == 2:
+            return transient.node_voltage(args[0]) - transient.node_voltage(args[1]), dim_of("V")
+    if quantity.name == "current" and len(quantity.args) == 1:
+        return transient.part_current(str(quantity.args[0])), dim_of("A")
+    raise ParseError(
+        f"a time-domain quantity takes a voltage or a current, like voltage(out) or current(R1), not {quantity}",
+        str(quantity),
+        None,
+    )
+
+
+def _time(text: str, quantity: Quantity) -> sympy.Expr:
+    value = evaluate_text(text)
+    if value.dim != dim_of("s") or not value.expr.is_real or value.expr < 0:
+        raise ParseError(f'the time "{text}" must be a time of 0 s or later, like "1.5 ms"', quantity.text, None)
+    return value.expr
+
+
+def _band(text: str, quantity: Quantity) -> sympy.Expr:
+    cleaned = text.strip()
+    if cleaned.endswith("%"):
+        try:
+            value = evaluate_text(cleaned[:-1]).expr / 100
+        except ParseError:
+            value = None
+        if value is not None and value.is_positive and value < 1:
+            return value
+    raise ParseError(f'the band "{text}" must be a percentage like "2%"', quantity.text, None)
+
+
+def _exact(number: Any) -> sympy.Expr:
+    """A value from the transient solution as a sympy number (exact where it is)."""
+    if isinstance(number, sympy.Basic):
+        return number
+    return sympy.sympify(complex(number)) if isinstance(number, complex) else sympy.Float(str(number), 30)
+
+
+def evaluate_time_quantity(transient: Any, quantity: Quantity, phasor: Callable[[Quantity], Value]) -> Value:
+    """The value of a time-domain quantity.
+
+    ``transient`` is the circuit's closed-form :class:`TransientSolution`;
+    ``phasor`` evaluates a phasor quantity (used by ``final`` when a sinusoid
+    persists: the final value is then the steady-state phasor).
+    """
+    name, args = quantity.name, quantity.args
+    if name in CIRCUIT_WIDE:
+        if args:
+            raise ParseError(f"{name} takes no arguments; write {name}", quantity.text, None)
+        method = getattr(transient, name)
+        unit = {"time_constant": dim_of("s"), "natural_frequency": dim_of("Hz")}.get(name, DIMENSIONLESS)
+        return Value(_exact(method()), unit)
+    if not args or not isinstance(args[0], Quantity):
+        raise ParseError(f"{name}() takes a voltage or current first, like {name}(voltage(out))", quantity.text, None)
+    inner = args[0]
+    wave, dim = waveform_of(transient, inner)
+    if name == "at":
+        if len(args) != 2 or isinstance(args[1], Quantity):
+            raise ParseError('at() takes a quantity and a time, like at(voltage(out), "1.5 ms")', quantity.text, None)
+        return Value(_exact(wave(_time(str(args[1]), quantity))), dim)
+    if len(args) > (2 if name == "settling_time" else 1):
+        raise ParseError(f"{name}() takes {'two arguments' if name == 'settling_time' else 'one argument'}", quantity.text, None)
+    if name == "initial":
+        return Value(_exact(wave.initial()), dim)
+    if name == "final":
+        final = wave.final()
+        return phasor(inner) if final is None else Value(_exact(final), dim)
+    if name in ("peak", "peak_time"):
+        value, when = wave.peak()
+        return Value(_exact(value), dim) if name == "peak" else Value(_exact(when), dim_of("s"))
+    if name == "settling_time":
+        if len(args) != 2 or isinstance(args[1], Quantity):
+            raise ParseError('settling_time() takes a quantity and a band, like settling_time(voltage(out), "2%")', quantity.text, None)
+        return Value(_exact(wave.settling_time(_band(str(args[1]), quantity))), dim_of("s"))
+    raise ParseError(f'unknown time-domain quantity "{name}"', quantity.text, None)  # pragma: no cover
