@@ -47,26 +47,32 @@ Exactness: all arithmetic is over ``QQ`` (or the algebraic field) with sympy's
 
 Routes and figures
 ------------------
-Measured on this 2-core machine, RLC ladder of N sections (series R, series L,
-shunt C; ``3N + 2`` unknowns, rank(C) = 2N), output voltage, N = 64
-(194 unknowns, degree-128 denominator):
+Measured on this 2-core machine (python-flint 0.9, sympy 1.14), RLC ladder
+of N sections (series R, series L, shunt C; ``3N + 2`` unknowns,
+rank(C) = 2N), exact output voltage, N = 64 (194 unknowns, denominator of
+degree 128):
 
 * evaluation at 129 integer points with python-flint (exact ``fmpz_mat.det``
-  and ``fmpz_mat.solve`` per point, ~44 ms per point) then Lagrange
+  and ``fmpz_mat.solve`` per point, about 44 ms a point) then Lagrange
   interpolation with ``fmpq_poly``: 5.8 s;
-* the same per prime with ``nmod_mat`` (multimodular): 0.6 s per 62-bit prime
-  for the 129 points, and the coefficients need more than 1000 bits, so about
-  11 s -- rejected;
-* Schur route above with flint behind sympy's ``DomainMatrix`` and flint's
-  ``fmpq_mat.charpoly``: about 0.15-0.3 s (see ``benchmarks/bench_solve.py``
-  for the run-time table against ``Matrix.LUsolve`` + ``cancel`` and
-  ``linsolve``).  Chosen: one exact elimination instead of 129, and a sparse
-  ``K`` keeps the characteristic polynomial cheap;
-* reversal route on the same ladder (dense ``K``): about 2 s -- kept as the
-  general route for higher-index circuits;
-* general route (no python-flint, or algebraic entries): the same algorithm
-  on sympy's sparse pure-Python matrices with its Berkowitz characteristic
-  polynomial.
+* the same per prime with ``nmod_mat`` (multimodular): 0.6 s per 62-bit
+  prime for the 129 points, and the coefficients need more than 1000 bits,
+  so about 11 s -- rejected;
+* ``sympy.linsolve`` then ``cancel``: 2.8-3.1 s; ``Matrix.LUsolve`` then
+  ``cancel``: no answer in 60 s already at N = 4;
+* **chosen**: the Schur route above with python-flint (sympy's
+  ``DomainMatrix`` over ``QQ`` is flint-backed; the characteristic
+  polynomial is ``flint.fmpq_mat.charpoly``): 0.20-0.26 s in two runs
+  (all 194 unknowns: 0.34 s).  One exact elimination replaces 129, and the Schur complement of
+  a ladder stays sparse, which keeps the characteristic polynomial cheap;
+* the same algorithm on the general route (sympy's sparse pure-Python
+  matrices and its Berkowitz characteristic polynomial; used for algebraic
+  entries or without python-flint): 1.07-1.15 s;
+* reversal route (forced by a capacitor across the source, so ``K`` is
+  dense): 1.3 s with python-flint, 4.3 s on the general route.
+
+``benchmarks/bench_solve.py`` prints the table for N = 2..64 against both
+sympy baselines in one run.
 """
 
 from __future__ import annotations
@@ -81,7 +87,7 @@ if TYPE_CHECKING:  # pragma: no cover - typing only
     import sympy
     from sympy.polys.matrices import DomainMatrix
 
-__all__ = ["RationalFunction", "laplace_symbol", "solve_rational"]
+__all__ = ("RationalFunction", "laplace_symbol", "solve_rational")
 
 
 def laplace_symbol() -> "sympy.Symbol":
@@ -287,8 +293,10 @@ def _rows(M: Any, name: str) -> list[list[Any]]:
     """Return a matrix given as nested sequences or sympy Matrix as a list of rows."""
     if hasattr(M, "tolist"):
         M = M.tolist()
-    rows = [list(r) for r in M]
-    return rows
+    try:
+        return [list(r) for r in M]
+    except TypeError:
+        raise TypeError(f"{name} must be a sequence of rows or a sympy Matrix") from None
 
 
 def _vector(b: Any) -> list[Any]:
@@ -305,15 +313,16 @@ def _vector(b: Any) -> list[Any]:
     return out
 
 
-def _domain_entries(G: Any, C: Any, b: Any) -> tuple[Any, list, list, list]:
-    """Convert ``G``, ``C``, ``b`` to elements of one exact field.
+def _domain_entries(G: Any, C: Any, b: Any) -> tuple[Any, int, dict, dict, dict]:
+    """Convert ``G``, ``C``, ``b`` to the nonzero elements of one exact field.
 
     Returns
     -------
     tuple
-        ``(K, G_rows, C_rows, b_list)`` where ``K`` is ``QQ`` when every entry
-        is rational and an algebraic field ``QQ<a>`` otherwise (found with
-        ``sympy.polys.constructor.construct_domain(..., extension=True)``).
+        ``(K, n, G_dod, C_dod, b_dod)``: ``K`` is ``QQ`` when every entry is
+        rational, else the field from :func:`_number_field`; the matrices
+        are dicts ``{row: {col: element}}`` of nonzero entries (``b`` as an
+        ``n x 1`` matrix).
     """
     from sympy import QQ
 
@@ -326,40 +335,42 @@ def _domain_entries(G: Any, C: Any, b: Any) -> tuple[Any, list, list, list]:
     if len(br) != n:
         raise ValueError(f"b has {len(br)} entries, expected {n}")
 
-    def fast(x: Any) -> Any:
-        # rationals straight to QQ, without going through sympy objects
-        if isinstance(x, bool):
-            raise TypeError("a bool is not a matrix entry")
-        if isinstance(x, Integral):
-            return QQ(int(x))
-        if isinstance(x, Fraction):
-            return QQ(x.numerator, x.denominator)
-        return None
-
-    flat = [e for r in Gr for e in r] + [e for r in Cr for e in r] + br
-    conv = [fast(e) for e in flat]
-    slow_idx = [i for i, v in enumerate(conv) if v is None]
-    if slow_idx:
-        sym = {i: _to_sympy_number(flat[i]) for i in slow_idx}
-        irr = [v for v in sym.values() if not v.is_Rational]
-        if not irr:
-            K = QQ
-            for i, v in sym.items():
-                conv[i] = QQ(int(v.p), int(v.q))
-        else:
-            K, _ = _number_field(list(dict.fromkeys(irr)))
-            for i in range(len(conv)):
-                if conv[i] is None:
-                    conv[i] = K.from_sympy(sym[i])
-                elif K is not QQ:
-                    conv[i] = K.convert(conv[i], QQ)
-    else:
-        K = QQ
-    nn = n * n
-    Gd = [conv[i * n : (i + 1) * n] for i in range(n)]
-    Cd = [conv[nn + i * n : nn + (i + 1) * n] for i in range(n)]
-    bd = conv[2 * nn :]
-    return K, Gd, Cd, bd
+    mats: list[dict] = [{}, {}, {}]
+    slow: list[tuple[int, int, int, Any]] = []
+    sources = ((0, Gr), (1, Cr), (2, [[e] for e in br]))
+    for m, rows in sources:
+        dod = mats[m]
+        for i, row in enumerate(rows):
+            for j, e in enumerate(row):
+                t = type(e)
+                if t is int:  # exact type test: bool is refused below
+                    if e:
+                        dod.setdefault(i, {})[j] = QQ(e)
+                elif t is Fraction:
+                    if e:
+                        dod.setdefault(i, {})[j] = QQ(e.numerator, e.denominator)
+                elif isinstance(e, Integral) and not isinstance(e, bool):
+                    if e:
+                        dod.setdefault(i, {})[j] = QQ(int(e))
+                else:
+                    v = _to_sympy_number(e)
+                    if not v.is_zero:
+                        slow.append((m, i, j, v))
+    K = QQ
+    irr = list(dict.fromkeys(v for _, _, _, v in slow if not v.is_Rational))
+    if irr:
+        K, _ = _number_field(irr)
+        for dod in mats:
+            for row in dod.values():
+                for j in row:
+                    row[j] = K.convert(row[j], QQ)
+    for m, i, j, v in slow:
+        elem = QQ(int(v.p), int(v.q)) if v.is_Rational else K.from_sympy(v)
+        if K is not QQ and v.is_Rational:
+            elem = K.convert(elem, QQ)
+        if elem:
+            mats[m].setdefault(i, {})[j] = elem
+    return K, n, mats[0], mats[1], mats[2]
 
 
 # --------------------------------------------------------------------------
@@ -605,8 +616,7 @@ def _solve(
 
     deadline = None if time_limit is None else time.monotonic() + float(time_limit)
     _check_deadline(deadline, "start")
-    dom, Gd, Cd, bd = _domain_entries(G, C, b)
-    n = len(Gd)
+    dom, n, Gd, Cd, bd = _domain_entries(G, C, b)
     if unknowns is None:
         sel = list(range(n))
     else:
@@ -627,9 +637,12 @@ def _solve(
         use_flint = False
     Gm = DomainMatrix(Gd, (n, n), dom)
     Cm = DomainMatrix(Cd, (n, n), dom)
-    bm = DomainMatrix([[x] for x in bd], (n, 1), dom)
-    if not use_flint:
-        Gm, Cm, bm = Gm.to_sparse(), Cm.to_sparse(), bm.to_sparse()
+    bm = DomainMatrix(bd, (n, 1), dom)
+    if use_flint:
+        dense = [M.to_dense() for M in (Gm, Cm, bm)]
+        # dense only when sympy keeps it in flint; otherwise sparse pure Python
+        if all(getattr(M.rep, "is_DFM", False) for M in dense):
+            Gm, Cm, bm = dense
     _check_deadline(deadline, "conversion")
 
     ss = _reduce_pencil(Gm, Cm, bm, sel, deadline)
