@@ -48,6 +48,7 @@ def report_dict(report: Report, version: str) -> dict[str, Any]:
         "title": report.title,
         "analysis": report.analysis,
         "cautions": list(report.cautions),
+        "notes": list(report.notes),
     }
 
 

@@ -53,6 +53,9 @@ def render(report: Report, version: str) -> str:
         carried = [s.name for s in report.steps if s.caused_by == step.name and s.verdict == "carried"]
         if carried:
             lines.extend(_wrap(f"carried into: {', '.join(carried)}", indent))
+    for note in report.notes:
+        lines.append("")
+        lines.extend(_wrap("NOTE: " + note, 0))
     for caution in report.cautions:
         lines.append("")
         lines.extend(_wrap("CAUTION: " + caution, 0))

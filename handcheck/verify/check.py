@@ -185,6 +185,13 @@ class _Checker:
             self.findings[step.name] = finding
             self.full_env[step.name] = self.unrounded(step, finding)
         solved = self._solution
+        if solved is None:
+            try:
+                solved = self.solution  # the caution looks at node voltages too
+            except TimeLimitError:
+                raise
+            except HandcheckError:
+                solved = None
         return Report(
             path=self.worksheet.path,
             sha256=self.worksheet.sha256,
@@ -192,6 +199,7 @@ class _Checker:
             reference=self.worksheet.reference,
             steps=tuple(self.findings.values()),
             cautions=cautions(self.circuit, solved),
+            notes=self.notes(),
             analysis=describe_frequency(self.circuit),
         )
 
@@ -267,11 +275,12 @@ class _Checker:
             full_env=dict(self.full_env),
         )
         if claim.dim != truth.dim:
+            what = "the quantity is in" if step.quantity else "the formula gives"
             finding = StepFinding(
                 **base,
                 **shown,
                 verdict="unit",
-                message=f"the claim is in {claim.dim or 'no unit'}, but the quantity is in {truth.dim or 'no unit'}",
+                message=f"the claim is in {claim.dim or 'no unit'}, but {what} {truth.dim or 'no unit'}",
             )
             if claim.dim == DIMENSIONLESS / truth.dim:
                 return self.diagnosed(finding, dataclasses.replace(context, truth=Value(truth.expr, claim.dim)))
@@ -310,6 +319,16 @@ class _Checker:
                 message="follows from the rounded values of earlier steps",
             )
         return StepFinding(**base, **shown, verdict="carried", caused_by=cause)
+
+    def notes(self) -> tuple[str, ...]:
+        """Remarks on the analysis an engineer should not miss."""
+        sources = [p for p in self.circuit.parts if p.source is not None]
+        if sources and not any(self.circuit.active(p) for p in sources):
+            return (
+                f"no source runs at the analysis frequency ({describe_frequency(self.circuit)}): "
+                "every phasor there is zero; check the frequency in [worksheet] and the sources'",
+            )
+        return ()
 
     def unrounded(self, step: StepSpec, finding: StepFinding) -> Value:
         """The author's value of a step before rounding, as well as it can be known."""

@@ -21,9 +21,9 @@ from typing import Literal
 import mpmath
 import sympy
 
-from handcheck.errors import HandcheckError, ParseError, UnitError
+from handcheck.errors import HandcheckError, LimitError, ParseError, UnitError, WorksheetError
 from handcheck.worksheet.evaluate import Value, evaluate, unit_of
-from handcheck.worksheet.expr import Binary, Name, Number, Unary, parse, walk
+from handcheck.worksheet.expr import Binary, Name, Number, Unary, one_line, parse, printable, walk
 from handcheck.worksheet.units import DIMENSIONLESS, Dim, dim_of
 
 __all__ = ["Claim", "Tolerance", "agrees", "read_claim", "read_tolerance", "to_complex"]
@@ -56,10 +56,14 @@ def read_tolerance(text: str, *, file: str | None = None, line: int | None = Non
         return Tolerance()
     match = re.fullmatch(r"(\d+(?:\.\d*)?|\.\d+)\s*%", cleaned)
     if not match:
-        raise HandcheckError(f'tolerance "{text}" must be "digits" or a percentage like "0.5%"', file=file, line=line)
+        raise WorksheetError(
+            f'tolerance "{printable(text)}" must be "digits" or a percentage like "0.5%"', file=file, line=line
+        )
     value = float(match.group(1)) / 100
     if not 0 < value < 1:
-        raise HandcheckError(f'tolerance "{text}" must be more than 0% and less than 100%', file=file, line=line)
+        raise WorksheetError(
+            f'tolerance "{printable(text)}" must be more than 0% and less than 100%', file=file, line=line
+        )
     return Tolerance(value)
 
 
@@ -148,14 +152,43 @@ def read_claim(text: str, *, file: str | None = None, line: int | None = None) -
     try:
         return _read_claim(text.strip())
     except HandcheckError as exc:
-        raise exc.located(file, line) from None
+        raise one_line(exc).located(file, line) from None
+
+
+#: Written numbers in a claim must lie within this magnitude (or be 0): the claim is
+#: compared in floating point, whose range ends near 1e308.
+CLAIM_RANGE = 300
+_HUGE = sympy.Integer(10) ** CLAIM_RANGE
+
+
+def _in_range(text: str, tree: object, factor: sympy.Expr) -> None:
+    """Refuse a claim with a written number too large or too small to compare."""
+    for node in walk(tree):  # type: ignore[arg-type]
+        if isinstance(node, Number) and node.value != 0:
+            size = abs(sympy.Rational(node.value.numerator, node.value.denominator) * factor)
+            if not 1 / _HUGE <= size <= _HUGE:
+                raise LimitError(
+                    f'the claim "{text}" holds a number out of range: handcheck compares numbers from '
+                    f"1e-{CLAIM_RANGE} to 1e{CLAIM_RANGE} in size (in SI units)"
+                )
+
+
+_ONE_VALUE = 'a claim is one value with its unit written once at the end, like "35.81 ohm" or "12.3 - 4.5j ohm"'
 
 
 def _read_claim(text: str) -> Claim:
+    if not text:
+        raise ParseError('the claim is empty; write the number the author wrote, like "35.81 ohm"', "", None)
     if "∠" in text or "/_" in text:
         return _read_polar(text)
     body, unit = _split_unit(text)
-    tree = parse(body, {"t"})
+    try:
+        tree = parse(body, {"t"})
+    except ParseError as exc:
+        if exc.message.endswith('write "*" to multiply'):
+            # "1 V 2 A": a second value (or unit) after a complete one.
+            raise ParseError(_ONE_VALUE, text, exc.column) from None
+        raise
     if any(isinstance(node, Name) and node.ident == "t" for node in walk(tree)):
         return _read_function(text, body, unit, tree)
     _numbers_only(body, tree)
@@ -165,6 +198,7 @@ def _read_claim(text: str) -> Claim:
     dim = DIMENSIONLESS
     if unit:
         factor, dim = unit_of(_unit_words(unit))
+    _in_range(text, tree, factor)
     value = evaluate(tree, {}, body)
     real, imag = _component_resolutions(tree)
     imaginary = any(isinstance(n, Number) and n.imaginary for n in walk(tree))
@@ -218,6 +252,7 @@ def _read_polar(text: str) -> Claim:
         raise UnitError(f'the angle of a polar claim is in deg or rad, not "{angle_unit}"')
     angle_unit = angle_unit or "deg"
     factor, _ = unit_of(_unit_words(angle_unit))
+    _in_range(text, angle_tree, factor)
     angle = evaluate(angle_tree, {}, angle_body).expr * factor
     angle_res, _ = _component_resolutions(angle_tree)
     return Claim(

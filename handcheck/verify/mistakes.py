@@ -384,8 +384,22 @@ _RULES: dict[str, Callable[[Context], str | None]] = {
 }
 
 
+def _angle_left_out(ctx: Context) -> bool:
+    """A polar claim whose angle is written as exactly 0 and whose magnitude is right:
+    the angle was most likely not worked out, and any mistake that only turns the
+    phasor a little would "reproduce" it. No diagnosis is offered then."""
+    if ctx.claim.form != "polar" or ctx.truth is None:
+        return False
+    if sympy.arg(ctx.claim.value.expr) != 0:
+        return False
+    magnitude = abs(to_complex(ctx.truth.expr))
+    return abs(magnitude - abs(to_complex(ctx.claim.value.expr))) <= ctx.claim.resolution[0] * (1 + 1e-9)
+
+
 def diagnose(ctx: Context) -> list[tuple[str, str]]:
     """Every catalogued mistake that reproduces the claim, most specific first."""
+    if _angle_left_out(ctx):
+        return []
     found = []
     for code in CODES:
         detail = _RULES[code](ctx)

@@ -15,7 +15,7 @@ from pathlib import Path
 from typing import Any
 
 from handcheck.errors import LimitError, WorksheetError
-from handcheck.worksheet.expr import RESERVED
+from handcheck.worksheet.expr import RESERVED, printable
 from handcheck.worksheet.model import PART_KINDS, SOURCE_TIME_KEYS, PartSpec, StepSpec, Worksheet
 
 __all__ = ["MAX_BYTES", "load", "loads"]
@@ -25,6 +25,10 @@ MAX_BYTES = 1_000_000
 
 _IDENT = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
 _NODE = re.compile(r"[A-Za-z0-9_]+\Z")
+
+#: Keys whose text is kept exactly as written; every other string is read as one line.
+_FREE_TEXT = ("title", "reference")
+_LINE_BREAKS = re.compile(r"[\r\n\t\v\f\x1c-\x1e\x85\u2028\u2029]+")
 
 _WORKSHEET_KEYS = ("format", "title", "reference", "phasors", "frequency", "tolerance")
 _STEP_KEYS = ("name", "quantity", "formula", "claim", "tolerance")
@@ -145,7 +149,7 @@ class _Reader:
         self.where = _Locator(text)
 
     def fail(self, message: str, line: int | None = None) -> WorksheetError:
-        return WorksheetError(message, file=self.path, line=line)
+        return WorksheetError(printable(message), file=self.path, line=line)
 
     # -- [worksheet] -----------------------------------------------------------
     def worksheet(self) -> Worksheet:
@@ -223,7 +227,10 @@ class _Reader:
             )
         if isinstance(value, float):
             value = repr(value)
-        return str(value).strip()
+        if key in _FREE_TEXT:
+            return str(value).strip()
+        # A value, formula or claim is one line: a TOML multi-line string reads as one.
+        return _LINE_BREAKS.sub(" ", str(value)).strip()
 
     @staticmethod
     def describe(where: str) -> str:
@@ -379,8 +386,12 @@ class _Reader:
                     f'step name "{name}" must start with a letter and hold only letters, digits and _',
                     self.where.key(where, "name"),
                 )
-            if name in RESERVED:
-                raise self.fail(f'step name "{name}" is reserved in formulas (f, w, j, t, pi)', self.where.key(where, "name"))
+            if name in RESERVED or re.fullmatch(r"j\d+", name):
+                raise self.fail(
+                    f'step name "{name}" would read as a reserved word or an imaginary number in formulas '
+                    "(f, w, j, t, pi, j4); name the step differently",
+                    self.where.key(where, "name"),
+                )
             if name.lower() in parts:
                 raise self.fail(f'step name "{name}" is also a part name; give the step another name', self.where.key(where, "name"))
             if name.lower() in seen:
