@@ -8,9 +8,11 @@ from __future__ import annotations
 
 import argparse
 import contextlib
+import json
 import signal
 import sys
 from collections.abc import Iterator, Sequence
+from typing import Any
 
 from handcheck.errors import HandcheckError, TimeLimitError
 
@@ -35,6 +37,8 @@ def _parser() -> argparse.ArgumentParser:
     check = commands.add_parser("check", help="check every step of a worksheet")
     check.add_argument("file", metavar="FILE", help="the worksheet (TOML, format 1)")
     check.add_argument("--json", action="store_true", help="print check output format 1 (JSON) on stdout")
+    check.add_argument("--evidence", action="store_true", help="add the independent numerical time-domain evidence")
+    check.add_argument("--plot", metavar="OUT", help="write the evidence plots to OUT (.svg or .png); implies --evidence")
     check.add_argument(
         "--time-limit",
         type=_seconds,
@@ -42,6 +46,11 @@ def _parser() -> argparse.ArgumentParser:
         metavar="SECONDS",
         help="stop with exit status 2 if the check takes longer than this (wall clock)",
     )
+    simulate = commands.add_parser("simulate", help="solve a worksheet's circuit numerically in time and compare")
+    simulate.add_argument("file", metavar="FILE", help="the worksheet (TOML, format 1)")
+    simulate.add_argument("--plot", metavar="OUT", help="write the plots to OUT (.svg or .png)")
+    simulate.add_argument("--json", action="store_true", help="print the evidence as JSON")
+    simulate.add_argument("--time-limit", type=_seconds, default=None, metavar="SECONDS", help="wall-clock budget")
     return parser
 
 
@@ -76,15 +85,57 @@ def _time_limit(seconds: float | None) -> Iterator[None]:
 
 def _check(args: argparse.Namespace) -> int:
     from handcheck import __version__
-    from handcheck.record.jsonout import to_json
+    from handcheck.record.jsonout import evidence_dict, report_dict
     from handcheck.record.text import render
     from handcheck.verify.check import check
     from handcheck.worksheet.load import load
 
     with _time_limit(args.time_limit):
-        report = check(load(args.file))
-    print(to_json(report, __version__) if args.json else render(report, __version__))
-    return EXIT_OK if report.ok else EXIT_DISAGREES
+        worksheet = load(args.file)
+        if args.command == "simulate":
+            return _simulate(args, worksheet)
+        report = check(worksheet)
+        evidence = _evidence(worksheet) if (args.evidence or args.plot) else None
+        if args.plot and evidence is not None:
+            _plot(report, evidence, args.plot)
+    if args.json:
+        data = report_dict(report, __version__)
+        if evidence is not None:
+            data["evidence"] = evidence_dict(evidence)
+        print(json.dumps(data, ensure_ascii=False))
+    else:
+        print(render(report, __version__, evidence))
+    return EXIT_OK if report.ok and (evidence is None or evidence.ok) else EXIT_DISAGREES
+
+
+def _evidence(worksheet: Any) -> Any:
+    from handcheck.circuit.build import build
+    from handcheck.verify.evidence import gather_evidence
+
+    sys.stderr.write("handcheck: solving the circuit numerically in time...\n")
+    return gather_evidence(build(worksheet), worksheet.steps)
+
+
+def _plot(report: Any, evidence: Any, out: str) -> None:
+    from handcheck.record.plots import plot_evidence
+
+    path = plot_evidence(report, evidence, out)
+    sys.stderr.write(f"handcheck: plots written to {path}\n")
+
+
+def _simulate(args: argparse.Namespace, worksheet: Any) -> int:
+    from handcheck.record.jsonout import evidence_dict
+    from handcheck.verify.check import check
+    from handcheck.verify.evidence import describe
+
+    evidence = _evidence(worksheet)
+    if args.plot:
+        _plot(check(worksheet), evidence, args.plot)
+    if args.json:
+        print(json.dumps(evidence_dict(evidence), ensure_ascii=False))
+    else:
+        print("\n".join(describe(evidence)))
+    return EXIT_OK if evidence.ok else EXIT_DISAGREES
 
 
 def main(argv: Sequence[str] | None = None) -> int:

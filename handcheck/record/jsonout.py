@@ -52,6 +52,29 @@ def report_dict(report: Report, version: str) -> dict[str, Any]:
     }
 
 
+def evidence_dict(evidence: Any) -> dict[str, Any]:
+    """The numerical evidence as plain data (an extension of check output format 1)."""
+    return {
+        "rules": evidence.rules,
+        "step": _number(evidence.step),
+        "span": _number(evidence.span),
+        "samples": evidence.samples,
+        "settling": evidence.settling,
+        "long_enough": evidence.long_enough,
+        "periods_to_settle": _number(evidence.periods_to_settle),
+        "kcl_residual": _number(evidence.kcl_relative),
+        "phasor_agreement": _number(evidence.phasor_agreement),
+        "phasors": [
+            {"signal": name, "fitted": [_number(f.real), _number(f.imag)], "exact": [_number(e.real), _number(e.imag)]}
+            for name, f, e in evidence.phasors
+        ],
+        "waveform_agreement": {name: _number(value) for name, value in evidence.waveforms},
+        "agreement": _number(evidence.agreement),
+        "problems": list(evidence.problems),
+        "notes": list(evidence.notes),
+    }
+
+
 def to_json(report: Report, version: str) -> str:
     """The report as one line of JSON."""
     return json.dumps(report_dict(report, version), ensure_ascii=False)

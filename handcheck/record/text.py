@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import textwrap
 from collections import Counter
+from typing import Any
 
 from handcheck.verify.findings import Report, StepFinding
 
@@ -22,8 +23,8 @@ def _wrap(text: str, indent: int, width: int = 100) -> list[str]:
     return textwrap.wrap(text, width=width, initial_indent=" " * indent, subsequent_indent=" " * (indent + 2))
 
 
-def render(report: Report, version: str) -> str:
-    """The whole report as text for a terminal."""
+def render(report: Report, version: str, evidence: Any = None) -> str:
+    """The whole report as text for a terminal (with the numerical evidence, if given)."""
     lines = [f"handcheck {version}: {report.title}", f"worksheet {report.path} (sha256 {report.sha256[:16]})"]
     if report.reference:
         lines.append(f"reference {report.reference}")
@@ -53,6 +54,11 @@ def render(report: Report, version: str) -> str:
         carried = [s.name for s in report.steps if s.caused_by == step.name and s.verdict == "carried"]
         if carried:
             lines.extend(_wrap(f"carried into: {', '.join(carried)}", indent))
+    if evidence is not None:
+        from handcheck.verify.evidence import describe
+
+        lines.append("")
+        lines.extend(describe(evidence))
     for note in report.notes:
         lines.append("")
         lines.extend(_wrap("NOTE: " + note, 0))
