@@ -18,6 +18,7 @@ import sympy
 
 from handcheck.circuit.mna import MnaSystem, stamp
 from handcheck.circuit.model import GROUND, Circuit, Part
+from handcheck.circuit.structure import check_dc
 from handcheck.errors import CircuitError
 
 __all__ = ["Solution", "part_current", "part_voltage", "solve", "solve_columns"]
@@ -156,6 +157,8 @@ def solve(circuit: Circuit, system: MnaSystem | None = None) -> Solution:
     phasors as weights (superposition), so a phase such as 22.1 deg, whose
     exponential is no algebraic number, never enters the matrix.
     """
+    if circuit.omega == 0:
+        check_dc(circuit)
     system = system or stamp(circuit)
     u = {
         ident: (circuit.part(ident).source.phasor(circuit.phasors) if circuit.active(circuit.part(ident)) else sympy.Integer(0))  # type: ignore[union-attr]

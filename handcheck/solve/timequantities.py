@@ -13,7 +13,7 @@ from typing import Any
 
 import sympy
 
-from handcheck.errors import ParseError
+from handcheck.errors import CircuitError, ParseError
 from handcheck.solve.quantities import CIRCUIT_WIDE, Quantity
 from handcheck.worksheet.evaluate import Value, evaluate_text
 from handcheck.worksheet.units import DIMENSIONLESS, Dim, dim_of
@@ -61,10 +61,16 @@ def _band(text: str, quantity: Quantity) -> sympy.Expr:
 
 
 def _exact(number: Any) -> sympy.Expr:
-    """A value from the transient solution as a sympy number (exact where it is)."""
+    """A value from the transient solution as a sympy number (exact where it is; an
+    mpmath number keeps its 30 and more digits)."""
+    import mpmath
+
     if isinstance(number, sympy.Basic):
         return number
-    return sympy.sympify(complex(number)) if isinstance(number, complex) else sympy.Float(str(number), 30)
+    if isinstance(number, (mpmath.mpc, complex)):
+        value = mpmath.mpc(number)
+        return sympy.Float(value.real, 30) + sympy.I * sympy.Float(value.imag, 30)
+    return sympy.Float(number, 30)
 
 
 def evaluate_time_quantity(transient: Any, quantity: Quantity, phasor: Callable[[Quantity], Value]) -> Value:
@@ -98,7 +104,14 @@ def evaluate_time_quantity(transient: Any, quantity: Quantity, phasor: Callable[
         return phasor(inner) if final is None else Value(_exact(final), dim)
     if name in ("peak", "peak_time"):
         value, when = wave.peak()
-        return Value(_exact(value), dim) if name == "peak" else Value(_exact(when), dim_of("s"))
+        if name == "peak":
+            return Value(_exact(value), dim)
+        if when == float("inf"):
+            raise CircuitError(
+                f"{inner} has no peak time: its largest value is only approached as t grows without bound",
+                (),
+            )
+        return Value(_exact(when), dim_of("s"))
     if name == "settling_time":
         if len(args) != 2 or isinstance(args[1], Quantity):
             raise ParseError('settling_time() takes a quantity and a band, like settling_time(voltage(out), "2%")', quantity.text, None)
