@@ -9,12 +9,13 @@ topological conditions for a modified nodal system to be solvable (common practi
 
 from __future__ import annotations
 
+import difflib
 from collections import defaultdict, deque
 
 from handcheck.circuit.model import GROUND, Circuit, Part
 from handcheck.errors import CircuitError
 
-__all__ = ["check_structure"]
+__all__ = ["check_dc", "check_structure"]
 
 _VOLTAGE_DEFINED = ("voltage", "vcvs", "ccvs", "switch")
 _CURRENT_DEFINED = ("current", "vccs", "cccs")
@@ -79,9 +80,38 @@ def _path(forest: dict[str, list[tuple[str, str]]], start: str, goal: str) -> li
     return parts[::-1]
 
 
+def _suggest(word: str, choices: set[str] | list[str]) -> str:
+    close = difflib.get_close_matches(word, sorted(choices), n=1)
+    return f' (did you mean "{close[0]}"?)' if close else ""
+
+
 def _names(idents: list[str] | set[str]) -> str:
     ordered = sorted(idents)
     return ", ".join(ordered[:-1]) + " and " + ordered[-1] if len(ordered) > 1 else ordered[0]
+
+
+_KIND_PLURALS = {
+    "voltage": "voltage sources",
+    "vcvs": "controlled voltage sources",
+    "ccvs": "controlled voltage sources",
+    "opamp": "op-amp outputs",
+    "switch": "closed switches",
+    "inductor": "inductors (shorts at DC)",
+    "current": "current sources",
+    "vccs": "controlled current sources",
+    "cccs": "controlled current sources",
+    "capacitor": "capacitors (open at DC)",
+}
+
+
+def _kinds(circuit: Circuit, idents: list[str] | set[str]) -> str:
+    """The kinds of the named parts, as plural words: "voltage sources and op-amp outputs"."""
+    words: list[str] = []
+    for ident in sorted(idents):
+        word = _KIND_PLURALS[circuit.part(ident).kind]
+        if word not in words:
+            words.append(word)
+    return ", ".join(words[:-1]) + " and " + words[-1] if len(words) > 1 else words[0]
 
 
 def _check_references(circuit: Circuit) -> None:
@@ -93,15 +123,26 @@ def _check_references(circuit: Circuit) -> None:
             for node in part.control or ():
                 if node not in nodes:
                     raise CircuitError(
-                        f'{part.id} is controlled by the voltage at node "{node}", but no part connects to that node',
+                        f'{part.id} is controlled by the voltage at node "{node}", but no part connects to that node'
+                        f"{_suggest(node, nodes)}; check the spelling in control of {part.id}",
                         (part.id,),
                         **where,
                     )
+        if part.kind == "vcvs" and part.control is not None:
+            control = tuple(part.control)
+            if (control == part.nodes and part.value == 1) or (control == part.nodes[::-1] and part.value == -1):
+                raise CircuitError(
+                    f"{part.id} senses its own output voltage with gain {part.value}, so its equation reads "
+                    "v = v and leaves that voltage undetermined; take the control from another pair of nodes",
+                    (part.id,),
+                    **where,
+                )
         if part.kind in ("cccs", "ccvs"):
             control = part.control
             if not isinstance(control, str) or control not in ids:
                 raise CircuitError(
-                    f'{part.id} is controlled by the current of part "{control}", which is not in [parts]',
+                    f'{part.id} is controlled by the current of part "{control}", which is not in [parts]'
+                    f"{_suggest(str(control), set(ids) - {part.id})}",
                     (part.id,),
                     **where,
                 )
@@ -119,15 +160,22 @@ def _check_references(circuit: Circuit) -> None:
             for ident in part.inductors:
                 if ident not in ids or ids[ident].kind != "inductor":
                     what = "is not in [parts]" if ident not in ids else f"is a {ids[ident].kind}"
+                    inductors = {i for i, p in ids.items() if p.kind == "inductor"}
+                    hint = _suggest(ident, inductors) if ident not in ids else ""
                     raise CircuitError(
-                        f'coupling {part.id} names "{ident}", which {what}; a coupling joins two inductors',
+                        f'coupling {part.id} names "{ident}", which {what}{hint}; a coupling joins two inductors',
                         (part.id,),
                         **where,
                     )
             if first == second:
                 raise CircuitError(f"coupling {part.id} names {first} twice; a coupling joins two different inductors", (part.id,), **where)
-        if part.kind == "opamp" and len(set(part.nodes)) < 3:
-            raise CircuitError(f"op-amp {part.id} has two terminals on one node; give output, + and - input distinct nodes", (part.id,), **where)
+        if part.kind == "opamp" and part.nodes[1] == part.nodes[2]:
+            # (the output may share a node with an input: a voltage follower)
+            raise CircuitError(
+                f"op-amp {part.id} has both inputs on node {part.nodes[1]}; give the + and - inputs distinct nodes",
+                (part.id,),
+                **where,
+            )
         if part.kind == "transformer" and (part.nodes[0] == part.nodes[1] or part.nodes[2] == part.nodes[3]):
             raise CircuitError(f"transformer {part.id} has a winding with both ends on one node", (part.id,), **where)
     pairs: dict[frozenset[str], str] = {}
@@ -141,7 +189,9 @@ def _check_references(circuit: Circuit) -> None:
 
 def _check_islands(circuit: Circuit) -> None:
     if not any(GROUND in part.nodes for part in circuit.parts) and not any(p.kind == "opamp" for p in circuit.parts):
-        raise CircuitError(f'no part connects to ground; name one node "{GROUND}"', (), file=circuit.path)
+        like = sorted(n for n in circuit.nodes if n.lower() in (GROUND, "ground"))
+        hint = f' (node names are case-sensitive: "{like[0]}" is not ground)' if like else ""
+        raise CircuitError(f'no part connects to ground; name one node "{GROUND}"{hint}', (), file=circuit.path)
     edges = [(a, b, part.id) for part in circuit.parts for a, b in _edges(part)]
     nodes = set(circuit.nodes) | {GROUND}
     for comp_nodes, comp_parts in _components(nodes, edges):
@@ -159,8 +209,7 @@ def _check_islands(circuit: Circuit) -> None:
         )
 
 
-def _check_voltage_loops(circuit: Circuit) -> None:
-    dc = circuit.omega == 0
+def _check_voltage_loops(circuit: Circuit, dc: bool) -> None:
     forest: dict[str, list[tuple[str, str]]] = defaultdict(list)
     root: dict[str, str] = {}
 
@@ -177,9 +226,8 @@ def _check_voltage_loops(circuit: Circuit) -> None:
         ra, rb = find(a), find(b)
         if ra == rb:
             loop = [*_path(forest, b, a), part.id]
-            what = "voltage sources" if not dc else "voltage sources and inductors (shorts at DC)"
             raise CircuitError(
-                f"{_names(set(loop))} form a loop of {what}: their voltages are fixed around a closed "
+                f"{_names(set(loop))} form a loop of {_kinds(circuit, set(loop))}: their voltages are fixed around a closed "
                 "path, so the current in it is not determined; add a resistance in the loop or remove one source",
                 tuple(sorted(set(loop))),
                 file=circuit.path,
@@ -190,8 +238,7 @@ def _check_voltage_loops(circuit: Circuit) -> None:
         forest[b].append((a, part.id))
 
 
-def _check_current_cuts(circuit: Circuit) -> None:
-    dc = circuit.omega == 0
+def _check_current_cuts(circuit: Circuit, dc: bool) -> None:
     edges = []
     for part in circuit.parts:
         if part.kind in _CURRENT_DEFINED or (dc and part.kind == "capacitor"):
@@ -207,11 +254,11 @@ def _check_current_cuts(circuit: Circuit) -> None:
             if (part.kind in _CURRENT_DEFINED or (dc and part.kind == "capacitor"))
             and len({n in comp_nodes for n in part.nodes}) == 2
         )
-        what = "current sources" if not dc else "current sources and capacitors (open at DC)"
+        what = f"{_kinds(circuit, sources)} {_names(sources)}" if sources else "nothing"
         raise CircuitError(
             f"node{'s' if len(comp_nodes) > 1 else ''} {_names(comp_nodes)} "
             f"{'connect' if len(comp_nodes) > 1 else 'connects'} to the rest of the circuit only through "
-            f"{what} {_names(sources) if sources else ''}: the node voltage is not determined; "
+            f"{what}: the node voltage is not determined; "
             "add a resistance from the node to ground or to another node",
             tuple(sources),
             file=circuit.path,
@@ -219,9 +266,77 @@ def _check_current_cuts(circuit: Circuit) -> None:
         )
 
 
+#: Kinds whose terminal alone on a node is a slip of the pen: the part would carry no
+#: current (or, for a current source, force a current with nowhere to go).
+_NEEDS_COMPANY = ("resistor", "inductor", "capacitor", "current", "vccs", "cccs", "switch")
+_OPAMP_PINS = ("output", "non-inverting input", "inverting input")
+
+
+def _check_dangling(circuit: Circuit) -> None:
+    """A node named by only one terminal is most often a misspelt node name.
+
+    It is accepted where the lone terminal defines a voltage (an independent or
+    controlled voltage source, an op-amp output, a transformer winding, an inductor
+    coupled to another): that is an open-circuit output, and its voltage is determined. A node that a controlled source
+    senses (``control``) counts as named a second time.
+    """
+    uses: dict[str, list[tuple[Part, int]]] = defaultdict(list)
+    sensed: set[str] = set()
+    coupled = {ident for part in circuit.parts if part.kind == "coupling" for ident in part.inductors}
+    for part in circuit.parts:
+        for index, node in enumerate(part.nodes):
+            uses[node].append((part, index))
+        if part.kind in ("vcvs", "vccs") and part.control:
+            sensed.update(part.control)
+    lonely: dict[str, tuple[Part, str]] = {}
+    for node, terminals in uses.items():
+        if node == GROUND or len(terminals) != 1:
+            continue
+        part, index = terminals[0]
+        if part.kind == "opamp" and index > 0:
+            lonely[node] = (part, f"the {_OPAMP_PINS[index]} of op-amp {part.id}")
+        elif part.kind in _NEEDS_COMPANY and node not in sensed and part.id not in coupled:
+            what = {"current": "a current source", "inductor": "an inductor"}.get(part.kind, f"a {part.kind}")
+            lonely[node] = (part, f"one end of {part.id} ({what})")
+    if not lonely:
+        return
+    for node, (part, _) in lonely.items():
+        # Two lonely nodes spelt alike are most likely one node written two ways.
+        others = [n for n, (p, _) in lonely.items() if n != node and p.id != part.id]
+        close = difflib.get_close_matches(node, others, n=1, cutoff=0.6)
+        if close:
+            other = lonely[close[0]][0]
+            raise CircuitError(
+                f'nodes "{node}" (at {part.id}) and "{close[0]}" (at {other.id}) are each named only once, so '
+                "neither connects to anything; if they are one node, spell it the same way in both parts",
+                (part.id, other.id),
+                file=circuit.path,
+                line=part.line,
+            )
+    node, (part, end) = next(iter(lonely.items()))
+    raise CircuitError(
+        f'node "{node}" is named only once, so {end} connects to nothing; '
+        f'check the spelling of "{node}" in the nodes of {part.id}, or connect another part to it',
+        (part.id,),
+        file=circuit.path,
+        line=part.line,
+    )
+
+
 def check_structure(circuit: Circuit) -> None:
     """Raise :class:`CircuitError` naming the parts if the circuit cannot be solved as drawn."""
     _check_references(circuit)
+    _check_dangling(circuit)
     _check_islands(circuit)
-    _check_voltage_loops(circuit)
-    _check_current_cuts(circuit)
+    _check_voltage_loops(circuit, dc=False)
+    _check_current_cuts(circuit, dc=False)
+
+
+def check_dc(circuit: Circuit) -> None:
+    """The checks for a solution at DC, where inductors are shorts and capacitors open.
+
+    Made only when a DC solution is needed: a capacitive divider is a fine circuit
+    for a transient, but has no unique DC solution.
+    """
+    _check_voltage_loops(circuit, dc=True)
+    _check_current_cuts(circuit, dc=True)

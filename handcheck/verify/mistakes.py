@@ -257,6 +257,17 @@ def _frequency_swap(ctx: Context, hertz_for_angular: bool) -> str | None:
     return None
 
 
+def _frequency_unit(ctx: Context, hertz_for_angular: bool) -> str | None:
+    """A frequency reported in the wrong measure: f where w belongs, or w where f belongs."""
+    if ctx.truth is None or ctx.truth.dim != dim_of("Hz"):
+        return None
+    if hertz_for_angular and _scaled(ctx, 1 / (2 * sympy.pi)):
+        return "the number is the frequency in hertz, f = w/(2*pi), where the angular frequency w in rad/s belongs"
+    if not hertz_for_angular and _scaled(ctx, 2 * sympy.pi):
+        return "the number is the angular frequency w = 2*pi*f in rad/s, where the frequency in hertz belongs"
+    return None
+
+
 def _angle_mode(ctx: Context, degrees_as_radians: bool) -> str | None:
     scale = 180 / sympy.pi if degrees_as_radians else sympy.pi / 180
     what = (
@@ -369,8 +380,8 @@ def _prefix(ctx: Context) -> str | None:
 _RULES: dict[str, Callable[[Context], str | None]] = {
     "series-as-parallel": lambda c: _series_parallel(c, series_for_parallel=True),
     "parallel-as-series": lambda c: _series_parallel(c, series_for_parallel=False),
-    "hertz-as-angular": lambda c: _frequency_swap(c, hertz_for_angular=True),
-    "angular-as-hertz": lambda c: _frequency_swap(c, hertz_for_angular=False),
+    "hertz-as-angular": lambda c: _frequency_swap(c, hertz_for_angular=True) or _frequency_unit(c, True),
+    "angular-as-hertz": lambda c: _frequency_swap(c, hertz_for_angular=False) or _frequency_unit(c, False),
     "degrees-as-radians": lambda c: _angle_mode(c, degrees_as_radians=True),
     "radians-as-degrees": lambda c: _angle_mode(c, degrees_as_radians=False),
     "reactance-sign": _reactance_sign,
