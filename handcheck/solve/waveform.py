@@ -949,11 +949,11 @@ class TimeFunction:
         groups = tuple(_Group(g.pole, (g.coeffs[0],), 0, g.imag_sign) for g in steady)  # both halves of each pair
         slowest = min(abs(g.pole.imag) for g in waves)
         span = 200 * 2 * mpmath.pi / slowest
-        probe = _Segment(mpmath.mpf(0), span, groups)
+        window = _Segment(mpmath.mpf(0), span, groups)
         best = abs(dc)
         sign = 1
-        for bracket, _ in self._extremes(probe, span, float(scale)):
-            u = self._refine_critical(probe, bracket)
+        for bracket, _ in self._extremes(window, span, float(scale)):
+            u = self._refine_critical(window, bracket)
             v = _group_value(groups, u).real
             if abs(v) > best:
                 best, sign = abs(v), (1 if v > 0 else -1)
