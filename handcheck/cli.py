@@ -112,8 +112,14 @@ def _evidence(worksheet: Any) -> Any:
     from handcheck.circuit.build import build
     from handcheck.verify.evidence import gather_evidence
 
+    from handcheck.circuit.build import read_value
+
+    span = None
+    written = dict(worksheet.transient).get("span")
+    if written:
+        span = float(read_value(written, "s", "span in [transient]", file=worksheet.path, line=worksheet.line_of("span")))
     sys.stderr.write("handcheck: solving the circuit numerically in time...\n")
-    return gather_evidence(build(worksheet), worksheet.steps)
+    return gather_evidence(build(worksheet), worksheet.steps, span=span)
 
 
 def _plot(report: Any, evidence: Any, out: str) -> None:

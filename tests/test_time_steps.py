@@ -121,3 +121,33 @@ def test_simulate_command(capsys):
     text = capsys.readouterr().out
     assert "Kirchhoff's current law" in text
     assert "closed form against numerical, voltage(out)" in text
+
+
+STEADY = """
+[worksheet]
+format = 1
+title = "Steady start: a step with an offset and an opening switch"
+[transient]
+start = "steady"
+[parts]
+V1 = { voltage = "5 V", shape = "step", low = "1 V", offset = "0.5 V", delay = "0.2 ms", nodes = ["in", "gnd"] }
+R1 = { resistor = "100 ohm", nodes = ["in", "a"] }
+L1 = { inductor = "10 mH", nodes = ["a", "b"] }
+R2 = { resistor = "50 ohm", nodes = ["b", "gnd"] }
+S1 = { switch = "opens", nodes = ["b", "gnd"] }
+C1 = { capacitor = "2 uF", nodes = ["a", "gnd"] }
+[[step]]
+name = "iL0"
+quantity = "initial(current(L1))"
+claim = "15 mA"
+"""
+
+
+def test_steady_start_closed_form_and_numerical_agree():
+    # Before t = 0 the switch shorts R2: the inductor carries (offset + low)/R1 = 1.5 V/100 ohm
+    # = 15 mA at DC (Ohm's law), and an inductor's current is continuous at the switching.
+    report = handcheck.check_text(STEADY)
+    assert verdicts(report) == {"iL0": "agrees"}
+    evidence = gather_evidence(build(handcheck.loads(STEADY)), handcheck.loads(STEADY).steps)
+    assert evidence.ok, evidence.problems
+    assert evidence.agreement < AGREEMENT_TARGET

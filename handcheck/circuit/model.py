@@ -46,8 +46,10 @@ class Source:
       (time, value) pairs (time measured from ``delay``), holding the last value.
 
     A "step" differs from a "constant" only when the circuit starts in its own steady
-    state: a constant source was on before t = 0, a step sat at ``low`` until
-    ``delay``.
+    state: a constant source was on before t = 0, a step sat at ``offset + low``
+    until ``delay``. In a steady start, constant and undamped sinusoidal sources run
+    for all time (a delay only shifts a sinusoid's phase) and ``initial`` values are
+    not used.
     """
 
     peak: sympy.Expr

@@ -171,9 +171,9 @@ def _source_waves(source: Source, start: str, horizon: Any) -> list[_Wave]:
     shape = source.shape
     if shape == "constant" or (shape == "step" and start == "rest"):
         step(source.offset + source.peak, zero if eternal else d)
-    elif shape == "step":  # steady start: at `low` until the delay
-        step(source.low, zero)
-        step(source.offset + source.peak - source.low, d)
+    elif shape == "step":  # steady start: at offset + low until the delay
+        step(source.offset + source.low, zero)
+        step(source.peak - source.low, d)
     elif shape == "sine":
         assert source.omega is not None
         if eternal:
@@ -257,7 +257,7 @@ def _steady_state(circuit: Circuit) -> dict[str, Any]:
         if source.steady_sinusoid:
             return source.offset
         if source.shape == "step":
-            return source.low
+            return source.offset + source.low
         return zero
 
     def solve(parts: list[Part], omega: Any, what: str) -> Any:
