@@ -10,8 +10,8 @@ import sympy
 from handcheck.circuit.model import GROUND, Circuit, Part, Source
 from handcheck.circuit.structure import check_structure
 from handcheck.errors import HandcheckError, UnitError, WorksheetError
-from handcheck.worksheet.evaluate import Value, evaluate
-from handcheck.worksheet.expr import Number, parse, walk
+from handcheck.worksheet.evaluate import evaluate
+from handcheck.worksheet.expr import Number, one_line, parse, walk
 from handcheck.worksheet.model import PartSpec, Worksheet
 from handcheck.worksheet.units import DIMENSIONLESS, Dim, dim_of
 
@@ -33,6 +33,8 @@ _EXAMPLE = {
     "V": "24 V",
     "A": "10 mA",
     "S": "2 mS",
+    "s": "1.5 ms",
+    "Hz": "50 Hz",
     "": "10",
 }
 
@@ -44,6 +46,13 @@ def read_value(text: str, unit: str, what: str, *, file: str | None = None, line
     needs a unit must be written with one.
     """
     try:
+        return _read_value(text, unit, what, file=file, line=line)
+    except HandcheckError as exc:
+        raise one_line(exc) from None
+
+
+def _read_value(text: str, unit: str, what: str, *, file: str | None, line: int | None) -> sympy.Expr:
+    try:
         tree = parse(text)
         value = evaluate(tree, {}, text)
     except HandcheckError as exc:
@@ -52,7 +61,7 @@ def read_value(text: str, unit: str, what: str, *, file: str | None = None, line
     if value.dim != expected:
         has_unit = any(isinstance(n, Number) and n.unit for n in walk(tree))
         if unit and not has_unit:
-            raise UnitError(f'{what} "{text}" has no unit; write it with one, like "{_EXAMPLE[unit]}"', file=file, line=line)
+            raise UnitError(f'{what} "{text}" has no unit; write it with one, like "{_EXAMPLE.get(unit, "1 " + unit)}"', file=file, line=line)
         found = str(value.dim) or "no unit"
         want = unit or "a plain number"
         raise UnitError(f'{what} "{text}" is in {found}, but must be in {want}', file=file, line=line)
@@ -67,6 +76,13 @@ def read_frequency(text: str, what: str, *, file: str | None = None, line: int |
     The radian is dimensionless in SI, so pint alone cannot tell 1000 rad/s from
     1000 Hz; a value whose unit names ``rad`` is taken as angular.
     """
+    try:
+        return _read_frequency(text, what, file=file, line=line)
+    except HandcheckError as exc:
+        raise one_line(exc) from None
+
+
+def _read_frequency(text: str, what: str, *, file: str | None, line: int | None) -> sympy.Expr:
     try:
         tree = parse(text)
         value = evaluate(tree, {}, text)
@@ -280,6 +296,13 @@ def build(worksheet: Worksheet) -> Circuit:
     CircuitError
         For a circuit that cannot be solved as drawn (see :func:`check_structure`).
     """
+    try:
+        return _build(worksheet)
+    except HandcheckError as exc:
+        raise one_line(exc) from None
+
+
+def _build(worksheet: Worksheet) -> Circuit:
     parts = tuple(_part(spec, worksheet.path) for spec in worksheet.parts)
     nodes: dict[str, None] = {}
     for part in parts:

@@ -78,10 +78,11 @@ sympy baselines in one run.
 from __future__ import annotations
 
 import time
+from collections.abc import Sequence
 from dataclasses import dataclass
 from fractions import Fraction
 from numbers import Integral
-from typing import TYPE_CHECKING, Any, Sequence
+from typing import TYPE_CHECKING, Any
 
 if TYPE_CHECKING:  # pragma: no cover - typing only
     import sympy
@@ -90,7 +91,7 @@ if TYPE_CHECKING:  # pragma: no cover - typing only
 __all__ = ("RationalFunction", "laplace_symbol", "solve_rational")
 
 
-def laplace_symbol() -> "sympy.Symbol":
+def laplace_symbol() -> sympy.Symbol:
     """Return the Laplace variable ``s`` used in every returned polynomial.
 
     Returns
@@ -123,8 +124,8 @@ class RationalFunction:
     dataclass equality is exact equality of rational functions.
     """
 
-    num: "sympy.Poly"
-    den: "sympy.Poly"
+    num: sympy.Poly
+    den: sympy.Poly
 
     def __post_init__(self) -> None:
         import sympy
@@ -141,7 +142,7 @@ class RationalFunction:
             raise ValueError("denominator must be monic; use RationalFunction.reduced")
 
     @classmethod
-    def reduced(cls, num: "sympy.Poly", den: "sympy.Poly") -> "RationalFunction":
+    def reduced(cls, num: sympy.Poly, den: sympy.Poly) -> RationalFunction:
         """Build the reduced form of ``num / den`` (gcd cancelled, monic den).
 
         Parameters
@@ -163,11 +164,11 @@ class RationalFunction:
         lc = den.LC()
         return cls(num.exquo_ground(lc), den.monic())
 
-    def as_expr(self) -> "sympy.Expr":
+    def as_expr(self) -> sympy.Expr:
         """Return ``num/den`` as a sympy expression in ``s``."""
         return self.num.as_expr() / self.den.as_expr()
 
-    def __call__(self, value: Any) -> "sympy.Expr":
+    def __call__(self, value: Any) -> sympy.Expr:
         """Evaluate exactly at a number.
 
         Parameters
@@ -226,7 +227,7 @@ def _horner(coeffs: list, x: Any, dom: Any) -> Any:
 # --------------------------------------------------------------------------
 
 
-def _to_sympy_number(x: Any) -> "sympy.Expr":
+def _to_sympy_number(x: Any) -> sympy.Expr:
     """Convert one exact number to sympy, refusing floats and text.
 
     Parameters
@@ -385,9 +386,9 @@ class _StateSpace:
     ``shift is None`` means ``sigma = s``; otherwise ``sigma = 1/(s - shift)``.
     """
 
-    K: "DomainMatrix"
-    g: "DomainMatrix"
-    W: "DomainMatrix"
+    K: DomainMatrix
+    g: DomainMatrix
+    W: DomainMatrix
     c: tuple
     shift: Any
     route: str
@@ -407,9 +408,9 @@ def _singular() -> tuple[type, ...]:
 
 
 def _reduce_pencil(
-    Gm: "DomainMatrix",
-    Cm: "DomainMatrix",
-    bm: "DomainMatrix",
+    Gm: DomainMatrix,
+    Cm: DomainMatrix,
+    bm: DomainMatrix,
     sel: Sequence[int],
     deadline: float | None,
 ) -> _StateSpace:
@@ -544,7 +545,7 @@ def _reduce_pencil(
     return _StateSpace(Kmat, g, Wsel, tuple(zb[k, 0].element for k in sel), s0, "reversal")
 
 
-def _det_shifted(Km: "DomainMatrix", use_flint: bool) -> list:
+def _det_shifted(Km: DomainMatrix, use_flint: bool) -> list:
     """Coefficients, low to high, of ``det(sigma*I + K)`` (monic, length r+1).
 
     Uses python-flint's ``fmpq_mat.charpoly`` for ``QQ`` when allowed, else
@@ -572,7 +573,7 @@ def _det_shifted(Km: "DomainMatrix", use_flint: bool) -> list:
     return list(reversed(negK.charpoly()))
 
 
-def _adjugate_columns(ss: _StateSpace, d: list, deadline: float | None) -> "DomainMatrix":
+def _adjugate_columns(ss: _StateSpace, d: list, deadline: float | None) -> DomainMatrix:
     """Coefficient vectors of ``u(sigma) = adj(sigma I + K) g`` as columns.
 
     Notes

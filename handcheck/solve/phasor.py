@@ -42,7 +42,7 @@ def _singular(system: MnaSystem, circuit: Circuit, matrix: list[list[sympy.Expr]
         null = DomainMatrix.from_list_sympy(system.size, system.size, matrix, extension=True).nullspace()
         rows = null.to_Matrix()
         involved = {k for k in range(system.size) for r in range(rows.rows) if rows[r, k] != 0}
-    except Exception:  # noqa: BLE001 - naming the parts is a courtesy; the error stands anyway
+    except Exception:
         involved = set(range(system.size))
     names = {system.labels[k][2:-1].split(".")[0] for k in involved}
     for part in circuit.parts:

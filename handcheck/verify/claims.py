@@ -308,6 +308,8 @@ def agrees(claim: Claim, reference: complex, tolerance: Tolerance, *, value: com
         value = to_complex(claim.value.expr)
     elif claim.form == "real" and value.imag != 0 and abs(value.imag) > SLACK * abs(value):
         value = complex(abs(value), 0)
+    if not all(math.isfinite(x) for x in (target.real, target.imag, value.real, value.imag)):
+        return False  # a value beyond floating point (about 1e308) agrees with nothing
     scale = max(abs(target), abs(value))
     slack = SLACK * scale + 1e-300
     if tolerance.relative is not None:

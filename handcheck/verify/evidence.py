@@ -182,8 +182,8 @@ def gather_evidence(circuit: Circuit, steps: Any = (), *, tolerance: float = AGR
     waveforms: list[tuple[str, float]] = []
     transient = None
     try:
-        from handcheck.solve.transient import transient_solution
         from handcheck.solve.timequantities import waveform_of
+        from handcheck.solve.transient import transient_solution
 
         transient = transient_solution(circuit)
         for q in _signals(steps):

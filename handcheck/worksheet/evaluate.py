@@ -15,13 +15,20 @@ from fractions import Fraction
 import sympy
 
 from handcheck.errors import HandcheckError, LimitError, ParseError, UnitError
-from handcheck.worksheet.expr import Binary, Call, Name, Node, Number, Unary, parse
+from handcheck.worksheet.expr import Binary, Call, Name, Node, Number, Unary, one_line, parse, printable
 from handcheck.worksheet.units import DIMENSIONLESS, Dim, lookup_unit
 
 __all__ = ["FUNCTIONS", "Value", "evaluate", "evaluate_text", "unit_of"]
 
 #: Largest whole power accepted (keeps exact arithmetic from exploding).
 MAX_POWER = 64
+#: Most decimal digits in the numerator or denominator of an exact intermediate value.
+#: Below Python's limit for converting an integer to text (4,300 digits), so that every
+#: exact value can still be printed.
+MAX_DIGITS = 4000
+_MAX_BITS = int(MAX_DIGITS * 3.3219280948873626)  # log2(10) bits per decimal digit
+
+_NOT_FINITE = (sympy.nan, sympy.zoo, sympy.oo, -sympy.oo)
 
 
 @dataclass(frozen=True)
@@ -116,10 +123,31 @@ class _Evaluator:
             inner = self.run(node.operand)
             return Value(-inner.expr, inner.dim)
         if isinstance(node, Binary):
-            return self.binary(node)
+            return self.checked(node, self.binary(node))
         if isinstance(node, Call):
-            return self.call(node)
+            return self.checked(node, self.call(node))
         raise TypeError(f"unknown node {node!r}")  # pragma: no cover - the parser makes no others
+
+    def too_large(self, node: Node) -> LimitError:
+        return LimitError(
+            f'"{self.quote(node)}" gives a number of more than {MAX_DIGITS:,} digits, too large to work with '
+            "exactly; check the powers of ten and the exponents"
+        )
+
+    def checked(self, node: Node, value: Value) -> Value:
+        """The value, if it is finite and its exact numbers are of a workable size."""
+        expr = value.expr
+        if expr.has(*_NOT_FINITE):
+            raise ParseError(
+                f'"{self.quote(node)}" has no finite value (a division by zero, or a function at a pole '
+                "such as tan(90 deg) or db(0)); check the formula",
+                self.text,
+                node.start + 1,
+            )
+        for atom in expr.atoms(sympy.Rational):
+            if max(abs(atom.p).bit_length(), atom.q.bit_length()) > _MAX_BITS:
+                raise self.too_large(node)
+        return value
 
     def number(self, node: Number) -> Value:
         value: sympy.Expr = _rational(node.value)
@@ -176,7 +204,14 @@ class _Evaluator:
             raise UnitError(f'the exponent "{self.quote(node.right)}" must have no unit, but is in {exponent.dim}')
         if exponent.expr.is_Rational:
             if abs(exponent.expr) > MAX_POWER:
-                raise LimitError(f'the power "{self.quote(node)}" is too large (at most {MAX_POWER})')
+                raise LimitError(
+                    f'the power "{self.quote(node)}" is too large: exponents from -{MAX_POWER} to {MAX_POWER} '
+                    "are accepted"
+                )
+            if base.expr.is_Rational:
+                bits = max(abs(base.expr.p).bit_length(), base.expr.q.bit_length())
+                if bits * abs(exponent.expr) > _MAX_BITS:
+                    raise self.too_large(node)
             dim = base.dim ** Fraction(int(exponent.expr.p), int(exponent.expr.q))
         elif base.dim.dimensionless:
             dim = DIMENSIONLESS
@@ -230,10 +265,10 @@ def evaluate(node: Node, env: Mapping[str, Value], text: str, *, angle_scale: sy
     """
     try:
         return _Evaluator(text, env, angle_scale).run(node)
-    except HandcheckError:
-        raise
+    except HandcheckError as exc:
+        raise one_line(exc) from None
     except (ValueError, TypeError, ZeroDivisionError, OverflowError, RecursionError) as exc:
-        raise ParseError(f"cannot evaluate: {exc}", text, None) from exc
+        raise ParseError(f"cannot evaluate: {printable(str(exc))}", printable(text), None) from exc
 
 
 def evaluate_text(text: str, env: Mapping[str, Value] | None = None) -> Value:

@@ -27,7 +27,7 @@ from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from fractions import Fraction
 
-from handcheck.errors import LimitError, ParseError
+from handcheck.errors import HandcheckError, LimitError, ParseError
 from handcheck.worksheet.units import UnitError, lookup_unit
 
 __all__ = [
@@ -37,7 +37,9 @@ __all__ = [
     "Node",
     "Number",
     "Unary",
+    "one_line",
     "parse",
+    "printable",
     "tokenize",
 ]
 
@@ -106,10 +108,30 @@ _J_NUMBER = re.compile(r"j((?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)")
 _OPS = ("**", "||", "/_", "∠", "+", "-", "*", "/", "^", "(", ")", ",")
 
 
+def printable(text: str) -> str:
+    """``text`` fit to quote in a one-line message: a line break, tab or other invisible
+    character becomes one space (or U+FFFD), so columns still count from the start."""
+    if text.isprintable():
+        return text
+    return "".join(ch if ch.isprintable() else " " if ch.isspace() else "\ufffd" for ch in text)
+
+
+def one_line(exc: HandcheckError) -> HandcheckError:
+    """The error with its message (and quoted text) made printable on one line; return it."""
+    exc.message = printable(exc.message)
+    exc.args = (exc.message,)
+    if isinstance(exc, ParseError) and exc.text:
+        exc.text = printable(exc.text)
+    return exc
+
+
 def tokenize(text: str) -> list[Token]:
     """Split ``text`` into tokens; raise :class:`ParseError` on a character that has no place."""
     if len(text) > MAX_LENGTH:
-        raise LimitError(f"the text is {len(text)} characters long; handcheck reads at most {MAX_LENGTH}")
+        raise LimitError(
+            f"the text is {len(text):,} characters long; handcheck reads at most {MAX_LENGTH:,} in one formula, "
+            "claim or value; split the calculation into steps"
+        )
     tokens: list[Token] = []
     pos = 0
     glued = False
@@ -147,7 +169,8 @@ def tokenize(text: str) -> list[Token]:
             hint = ""
             if ch in "`$;\"'[]{}=!<>&|@#\\":
                 hint = ": formulas hold only numbers, units, names, operators + - * / ^ || and parentheses"
-            raise ParseError(f'unexpected character "{ch}"{hint}', text, pos + 1)
+            shown = f'"{ch}"' if ch.isprintable() else f"U+{ord(ch):04X} (an invisible character; delete it)"
+            raise ParseError(f"unexpected character {shown}{hint}", printable(text), pos + 1)
     tokens.append(Token("end", "", len(text), False))
     return tokens
 
@@ -156,7 +179,9 @@ def parse_number(digits: str, text: str = "", start: int = 0) -> Fraction:
     """The exact value of a decimal literal such as ``"2.2e-6"``."""
     mantissa, _, exponent = digits.lower().partition("e")
     if exponent and abs(int(exponent)) > MAX_EXPONENT:
-        raise LimitError(f'the number "{digits}" is out of range (powers of ten up to {MAX_EXPONENT} are accepted)')
+        raise LimitError(
+            f'the number "{digits}" is out of range: powers of ten from -{MAX_EXPONENT} to {MAX_EXPONENT} are accepted'
+        )
     value = Fraction(mantissa)
     if exponent:
         value *= Fraction(10) ** int(exponent)
@@ -200,7 +225,7 @@ class _Parser:
     def deeper(self) -> None:
         self.depth += 1
         if self.depth > MAX_DEPTH:
-            raise LimitError(f"the expression is nested more than {MAX_DEPTH} levels deep")
+            raise LimitError(f"the expression is nested more than {MAX_DEPTH} levels deep; split it into steps")
 
     # -- grammar ---------------------------------------------------------------
     def parse(self) -> Node:
@@ -209,6 +234,12 @@ class _Parser:
         node = self.polar()
         if self.tok.kind != "end":
             tok = self.tok
+            after_number = self.index > 0 and self.tokens[self.index - 1].kind in ("num", "jnum")
+            if tok.kind == "name" and after_number and tok.text not in self.names and tok.text not in RESERVED:
+                raise self.error(
+                    f'"{tok.text}" after a number is not a unit handcheck knows (for example ohm, kohm, uF, mH, '
+                    "V, mA, Hz, rad/s, deg), nor a name in this worksheet"
+                )
             if tok.kind in ("num", "name"):
                 raise self.error(
                     f'"{tok.text}" follows a complete expression; write "*" to multiply'
@@ -380,7 +411,9 @@ def parse(text: str, names: frozenset[str] | set[str] = frozenset()) -> Node:
     except ParseError as exc:
         if not exc.text:
             exc.text = text
-        raise
+        raise one_line(exc) from None
+    except HandcheckError as exc:
+        raise one_line(exc) from None
 
 
 def walk(node: Node) -> Iterator[Node]:

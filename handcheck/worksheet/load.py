@@ -14,7 +14,7 @@ import tomllib
 from pathlib import Path
 from typing import Any
 
-from handcheck.errors import LimitError, WorksheetError
+from handcheck.errors import HandcheckError, LimitError, WorksheetError
 from handcheck.worksheet.expr import RESERVED, printable
 from handcheck.worksheet.model import PART_KINDS, SOURCE_TIME_KEYS, PartSpec, StepSpec, Worksheet
 
@@ -49,6 +49,18 @@ _PART_KEYS = {
 }
 _TRANSIENT_KEYS = ("start", "span")
 _TERMINALS = {"opamp": 3, "transformer": 4, "coupling": 0}
+
+
+def _is_time(text: str) -> bool:
+    """Whether ``text`` reads as a positive time, such as ``"20 ms"``."""
+    from handcheck.worksheet.evaluate import evaluate_text
+    from handcheck.worksheet.units import dim_of
+
+    try:
+        value = evaluate_text(text)
+    except HandcheckError:
+        return False
+    return value.dim == dim_of("s") and bool(value.expr.is_positive)
 
 
 def _suggest(word: str, choices: list[str] | tuple[str, ...]) -> str:
@@ -124,10 +136,19 @@ def load(path: str | Path) -> Worksheet:
 
 def loads(text: str, path: str = "<worksheet>", *, sha256: str | None = None) -> Worksheet:
     """Read a worksheet from its text; ``path`` is used in messages."""
-    if len(text.encode("utf-8")) > MAX_BYTES:
+    try:
+        encoded = text.encode("utf-8")
+    except UnicodeEncodeError as exc:  # a lone surrogate, possible in a Python str only
+        raise WorksheetError(
+            f"the text holds U+{ord(text[exc.start]):04X}, half of a UTF-16 character pair, which is not "
+            "valid Unicode on its own; remove it",
+            file=path,
+            line=text.count("\n", 0, exc.start) + 1,
+        ) from None
+    if len(encoded) > MAX_BYTES:
         raise LimitError(f"the worksheet is larger than {MAX_BYTES:,} bytes", file=path)
     if sha256 is None:
-        sha256 = hashlib.sha256(text.encode("utf-8")).hexdigest()
+        sha256 = hashlib.sha256(encoded).hexdigest()
     if not text.strip():
         raise WorksheetError("the file is empty; a worksheet starts with a [worksheet] table", file=path)
     try:
@@ -171,6 +192,11 @@ class _Reader:
                 )
         if "format" not in head:
             raise self.fail("[worksheet] needs format = 1", self.where.tables.get("worksheet"))
+        if isinstance(head["format"], str) and head["format"].strip() == "1":
+            raise self.fail(
+                'format = "1" is text; write format = 1, a number without quotes',
+                self.where.key("worksheet", "format"),
+            )
         if head["format"] != 1 or isinstance(head["format"], bool):
             raise self.fail(
                 f"format = {head['format']!r} is not a format this version reads; write format = 1",
@@ -198,6 +224,11 @@ class _Reader:
             raise self.fail(
                 f'start = "{transient["start"]}" in [transient] must be "rest" or "steady"',
                 self.where.key("transient", "start"),
+            )
+        if "span" in transient and not _is_time(transient["span"]):
+            raise self.fail(
+                f'span = "{transient["span"]}" in [transient] must be a positive time, like "20 ms"',
+                self.where.key("transient", "span"),
             )
         return Worksheet(
             path=self.path,

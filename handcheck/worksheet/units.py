@@ -57,6 +57,10 @@ class Dim:
     def dimensionless(self) -> bool:
         return not any(self._vec())
 
+    def __bool__(self) -> bool:
+        """False for a dimensionless quantity, so ``dim or "no unit"`` reads well in messages."""
+        return not self.dimensionless
+
     def __str__(self) -> str:
         return dim_name(self)
 
