@@ -29,8 +29,8 @@ def _format_frequency(omega: sympy.Expr) -> str:
         return "DC"
     f = omega / (2 * sympy.pi)
     if f.is_Rational:
-        return f"{sympy.N(f, 6)} Hz"
-    return f"{sympy.N(omega, 6)} rad/s"
+        return f"{float(f):.6g} Hz"
+    return f"{float(omega):.6g} rad/s"
 
 
 def _singular(system: MnaSystem, circuit: Circuit, matrix: list[list[sympy.Expr]]) -> CircuitError:
@@ -49,13 +49,16 @@ def _singular(system: MnaSystem, circuit: Circuit, matrix: list[list[sympy.Expr]
         if part.id in names or any(n in names for n in part.nodes if n != GROUND):
             if part.kind in ("inductor", "capacitor", "voltage", "vcvs", "ccvs", "cccs", "vccs", "opamp", "transformer", "current"):
                 parts.add(part.id)
-    listed = ", ".join(sorted(parts)) or "the circuit"
+    ordered = sorted(parts)
+    listed = (", ".join(ordered[:-1]) + " and " + ordered[-1]) if len(ordered) > 1 else (ordered[0] if ordered else "the circuit")
+    lines = [p.line for p in circuit.parts if p.id in parts and p.line]
     return CircuitError(
         f"the circuit's equations are singular at {_format_frequency(circuit.omega)}: {listed} leave a voltage or "
         "current undetermined (for example an ideal LC tank driven exactly at resonance, or a controlled source "
         "that fixes its own control); add the parts' losses or analyse at another frequency",
-        tuple(sorted(parts)),
+        tuple(ordered),
         file=circuit.path,
+        line=min(lines) if lines else None,
     )
 
 

@@ -27,7 +27,7 @@ import sympy
 
 from handcheck.circuit.build import build
 from handcheck.circuit.model import Circuit
-from handcheck.errors import HandcheckError, TimeLimitError, UnitError, WorksheetError
+from handcheck.errors import CircuitError, HandcheckError, TimeLimitError, UnitError, WorksheetError
 from handcheck.solve.phasor import Solution, solve
 from handcheck.solve.quantities import TIME_DOMAIN, Quantity, evaluate_quantity, parse_quantity
 from handcheck.solve.timequantities import evaluate_time_quantity, waveform_of
@@ -150,7 +150,10 @@ class _Checker:
         return self._solution
 
     def located(self, exc: HandcheckError, step: StepSpec, key: str | None = None) -> HandcheckError:
-        """The error with the file, the step's line, and the step's name in front."""
+        """The error with the file, the step's line, and the step's name in front
+        (a fault of the circuit itself keeps its own place: the parts it names)."""
+        if isinstance(exc, CircuitError):
+            return exc.located(self.worksheet.path, None)
         prefix = f'step "{step.name}": '
         if not exc.message.startswith(prefix):
             exc.message = prefix + exc.message
