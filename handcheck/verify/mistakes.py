@@ -23,7 +23,7 @@ from dataclasses import dataclass
 
 import sympy
 
-from handcheck.circuit.model import Circuit, Part, Source
+from handcheck.circuit.model import Circuit, Part
 from handcheck.errors import HandcheckError, TimeLimitError
 from handcheck.solve.phasor import solve
 from handcheck.solve.quantities import Quantity, evaluate_quantity
@@ -111,7 +111,7 @@ def _with_phases(circuit: Circuit, scale: sympy.Expr) -> Circuit | None:
         source = part.source
         if source is not None and source.phase != 0:
             changed = True
-            part = dataclasses.replace(part, source=Source(source.peak, source.omega, source.phase * scale, source.rms_written))
+            part = dataclasses.replace(part, source=dataclasses.replace(source, phase=source.phase * scale))
         parts.append(part)
     return dataclasses.replace(circuit, parts=tuple(parts)) if changed else None
 
