@@ -19,7 +19,7 @@ import sympy
 from handcheck.circuit.mna import MnaSystem, stamp
 from handcheck.circuit.model import GROUND, Circuit, Part
 from handcheck.circuit.structure import check_dc
-from handcheck.errors import CircuitError
+from handcheck.errors import CircuitError, TimeLimitError
 
 __all__ = ["Solution", "part_current", "part_voltage", "solve", "solve_columns"]
 
@@ -113,6 +113,8 @@ def _solve_by_network_functions(
             continue
         try:
             functions = solve_rational(system.G, system.C, list(column))
+        except TimeLimitError:
+            raise
         except ValueError:
             n = system.size
             matrix = [[system.G[r][c] + s * system.C[r][c] for c in range(n)] for r in range(n)]

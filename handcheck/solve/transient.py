@@ -61,7 +61,7 @@ from typing import TYPE_CHECKING, Any
 
 from handcheck.circuit.mna import MnaSystem, stamp
 from handcheck.circuit.model import GROUND, Circuit, Part, Source
-from handcheck.errors import CircuitError, LimitError
+from handcheck.errors import CircuitError, LimitError, TimeLimitError
 from handcheck.solve.laplace import Piece, PoleBook, Shape, compact, inverse_laplace
 from handcheck.solve.roots import Factor, irreducible_factors, roots_of_irreducible
 from handcheck.solve.waveform import Impulse, Term, TimeFunction
@@ -354,6 +354,8 @@ def _solve(system: MnaSystem, circuit: Circuit, rhs: list[Any], deadline: float)
         raise _timeout()
     try:
         return solve_rational(system.G, system.C, rhs, time_limit=remaining)
+    except TimeLimitError:
+        raise  # the command's own budget: never turned into another finding
     except TimeoutError:
         raise _timeout() from None
     except ValueError as exc:

@@ -22,6 +22,9 @@ __all__ = ["MAX_BYTES", "load", "loads"]
 
 #: Largest worksheet file read, in bytes.
 MAX_BYTES = 1_000_000
+#: Most parts and steps in one worksheet (far beyond a hand calculation).
+MAX_PARTS = 2000
+MAX_STEPS = 2000
 
 _IDENT = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
 _NODE = re.compile(r"[A-Za-z0-9_]+\Z")
@@ -279,6 +282,12 @@ class _Reader:
                 'the [parts] table is missing or empty; list the circuit\'s parts, like R1 = { resistor = "1 kohm", nodes = ["a", "gnd"] }',
                 self.where.tables.get("parts"),
             )
+        if len(table) > MAX_PARTS:
+            raise LimitError(
+                f"the worksheet has {len(table):,} parts; handcheck checks at most {MAX_PARTS:,} in one worksheet",
+                file=self.path,
+                line=self.where.tables.get("parts"),
+            )
         specs = []
         seen: dict[str, str] = {}
         for ident, body in table.items():
@@ -396,6 +405,8 @@ class _Reader:
         raw = self.data.get("step", [])
         if not isinstance(raw, list):
             raise self.fail("steps are written as [[step]] tables (double brackets)", self.where.tables.get("step"))
+        if len(raw) > MAX_STEPS:
+            raise LimitError(f"the worksheet has {len(raw):,} steps; handcheck checks at most {MAX_STEPS:,}", file=self.path)
         specs: list[StepSpec] = []
         seen: dict[str, int] = {}
         parts = {p.lower() for p in self.data.get("parts", {})}
