@@ -317,5 +317,8 @@ def _build(worksheet: Worksheet) -> Circuit:
         path=worksheet.path,
         start=dict(worksheet.transient).get("start", "rest"),  # type: ignore[arg-type]
     )
-    check_structure(circuit)
+    named = frozenset(
+        word for step in worksheet.steps if step.quantity for word in re.findall(r"[A-Za-z0-9_]+", step.quantity)
+    )
+    check_structure(circuit, named)
     return circuit

@@ -272,16 +272,17 @@ _NEEDS_COMPANY = ("resistor", "inductor", "capacitor", "current", "vccs", "cccs"
 _OPAMP_PINS = ("output", "non-inverting input", "inverting input")
 
 
-def _check_dangling(circuit: Circuit) -> None:
+def _check_dangling(circuit: Circuit, named: frozenset[str] = frozenset()) -> None:
     """A node named by only one terminal is most often a misspelt node name.
 
     It is accepted where the lone terminal defines a voltage (an independent or
     controlled voltage source, an op-amp output, a transformer winding, an inductor
     coupled to another): that is an open-circuit output, and its voltage is determined. A node that a controlled source
-    senses (``control``) counts as named a second time.
+    senses (``control``), or that a step's quantity names (the open port of
+    ``impedance(p)``), counts as named a second time.
     """
     uses: dict[str, list[tuple[Part, int]]] = defaultdict(list)
-    sensed: set[str] = set()
+    sensed: set[str] = set(named)
     coupled = {ident for part in circuit.parts if part.kind == "coupling" for ident in part.inductors}
     for part in circuit.parts:
         for index, node in enumerate(part.nodes):
@@ -323,10 +324,14 @@ def _check_dangling(circuit: Circuit) -> None:
     )
 
 
-def check_structure(circuit: Circuit) -> None:
-    """Raise :class:`CircuitError` naming the parts if the circuit cannot be solved as drawn."""
+def check_structure(circuit: Circuit, named: frozenset[str] = frozenset()) -> None:
+    """Raise :class:`CircuitError` naming the parts if the circuit cannot be solved as drawn.
+
+    ``named`` holds the words of the steps' quantities: a node a step names is no
+    dangling node but a port.
+    """
     _check_references(circuit)
-    _check_dangling(circuit)
+    _check_dangling(circuit, named)
     _check_islands(circuit)
     _check_voltage_loops(circuit, dc=False)
     _check_current_cuts(circuit, dc=False)

@@ -920,7 +920,13 @@ class TimeFunction:
                         val, when = _group_value(piece.groups, u).real, start + u
                     else:
                         val, when = known, place
-                    if best_value is None or abs(val) > abs(best_value):
+                    if best_value is None:
+                        best_value, best_time = +val, +when
+                        continue
+                    gap = abs(val) - abs(best_value)
+                    tie = abs(gap) <= mpmath.mpf(10) ** (-20) * abs(best_value)
+                    # equal crests of both signs (a sinusoid): report the positive one
+                    if (gap > 0 and not tie) or (tie and val > 0 > best_value):
                         best_value, best_time = +val, +when
             if asymptote is not None and (
                 best_value is None or abs(asymptote) - abs(best_value) > mpmath.mpf(10) ** (-45) * abs(asymptote)

@@ -261,7 +261,7 @@ class _Checker:
 
         reference = to_complex(truth.expr)
         shown = {
-            "expected": format_value(truth, claim),
+            "expected": self.expected_text(truth, claim, quantity),
             "expected_si": (reference.real, reference.imag),
             "exact": truth.expr,
         }
@@ -322,6 +322,15 @@ class _Checker:
                 message="follows from the rounded values of earlier steps",
             )
         return StepFinding(**base, **shown, verdict="carried", caused_by=cause)
+
+    @staticmethod
+    def expected_text(truth: Value, claim: Claim, quantity: Quantity | None) -> str:
+        """The true value in the claim's unit; an angular frequency claimed in hertz is
+        shown in rad/s with its value in hertz beside it, so the two are not confused."""
+        if quantity is not None and quantity.name == "natural_frequency" and "Hz" in claim.unit_text:
+            w = float(to_complex(truth.expr).real)
+            return f"{format_number(w, 6)} rad/s (= {format_number(w / (2 * math.pi), 6)} Hz)"
+        return format_value(truth, claim)
 
     def notes(self) -> tuple[str, ...]:
         """Remarks on the analysis an engineer should not miss."""
