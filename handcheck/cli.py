@@ -109,10 +109,8 @@ def _check(args: argparse.Namespace) -> int:
 
 
 def _evidence(worksheet: Any) -> Any:
-    from handcheck.circuit.build import build
+    from handcheck.circuit.build import build, read_value
     from handcheck.verify.evidence import gather_evidence
-
-    from handcheck.circuit.build import read_value
 
     span = None
     written = dict(worksheet.transient).get("span")

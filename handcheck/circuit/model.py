@@ -144,7 +144,7 @@ class Circuit:
         if source is None:
             return False
         if source.omega is None:
-            return self.omega == 0 and source.shape != "pulse" and source.shape != "points"
+            return self.omega == 0 and source.shape not in ("pulse", "points")
         if not source.steady_sinusoid:
             return False
         return bool(sympy.simplify(source.omega - self.omega) == 0)

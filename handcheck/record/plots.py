@@ -92,7 +92,7 @@ def plot_evidence(report: Report, evidence: Evidence, path: str | Path) -> Path:
     slowest = _slowest_rate(sim)
     if slowest and fit is not None:
         lines = transient.get_lines()
-        amplitude = max((float(np.max(np.abs(l.get_ydata()))) for l in lines), default=0.0)
+        amplitude = max((float(np.max(np.abs(line.get_ydata()))) for line in lines), default=0.0)
         if amplitude > 0:
             after = float(getattr(sim, "settles_from", 0.0))
             t = np.asarray(sim.times)

@@ -247,7 +247,7 @@ class _Evaluator:
         elif fn.dims == "polar":
             _dimensionless(name + " angle", args[1], self.text, node.args[1])
             dim = args[0].dim
-        if node.function == "ln" or node.function == "log10":
+        if node.function in ("ln", "log10"):
             if args[0].expr == 0:
                 raise ParseError(f'{name} of exactly 0 is not defined', self.text, node.start + 1)
         exprs = [a.expr for a in args]
