@@ -407,3 +407,15 @@ def test_codes_are_those_of_the_output_contract(code):
         "rms-as-peak", "power-half", "reactance-sign", "sine-reference", "phase-sign", "series-as-parallel",
         "parallel-as-series", "impedance-as-admittance", "prefix",
     }
+
+
+def test_series_as_parallel_without_a_formula():
+    # No formula: the circuit behind the quantity is solved again with R2 and C2 in
+    # series; Z = R + 1/(jwC) for a series RC (textbook closed form).
+    xc = -1 / (2 * math.pi * 1000 * 1e-6)
+    text = PARALLEL.format(xc=sig(xc) + " ohm", formula="R2 || (j*XC)", zp="0 ohm").replace(
+        'formula = "R2 || (j*XC)"\nclaim = "0 ohm"', f'claim = "{rect(complex(220, xc), "ohm")}"'
+    )
+    report = handcheck.check_text(text)
+    assert verdicts(report)["Zp"] == "differs"
+    assert codes(report, "Zp") == ["series-as-parallel"]

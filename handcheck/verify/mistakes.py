@@ -200,9 +200,10 @@ def _replace(tree: Node, target: Node, new: Node) -> Node:
 
 
 def _series_parallel(ctx: Context, series_for_parallel: bool) -> str | None:
-    """Series where parallel belongs (``+`` for ``||``), or the reverse."""
+    """Series where parallel belongs (``+`` for ``||``), or the reverse: in the
+    step's formula, or, for a step with none, in the circuit behind its quantity."""
     if ctx.tree is None or ctx.formula is None:
-        return None
+        return _rewired(ctx, series_for_parallel)
     wrong, right = ("+", "||") if series_for_parallel else ("||", "+")
     how, should = ("in series", "in parallel") if series_for_parallel else ("in parallel", "in series")
 
@@ -225,6 +226,56 @@ def _series_parallel(ctx: Context, series_for_parallel: bool) -> str | None:
                 f'"{text(node)}" combines {text(node.left)} and {text(node.right)} {how}, '
                 f'but in the circuit they are {should} ("{text(node.left)} {right} {text(node.right)}")'
             )
+    return None
+
+
+_PASSIVE = ("resistor", "inductor", "capacitor")
+
+
+def _with_nodes(circuit: Circuit, parts: list[Part]) -> Circuit:
+    nodes: dict[str, None] = {}
+    for part in parts:
+        for node in part.nodes:
+            if node != "gnd":
+                nodes.setdefault(node, None)
+    return dataclasses.replace(circuit, parts=tuple(parts), nodes=tuple(nodes))
+
+
+def _rewired(ctx: Context, series_for_parallel: bool) -> str | None:
+    """Two parts in parallel put in series (or two in series put in parallel), one
+    pair at a time, and the quantity solved again."""
+    circuit = ctx.circuit
+    if ctx.quantity is None:
+        return None
+    passive = [p for p in circuit.parts if p.kind in _PASSIVE and p.initial is None]
+    coupled = {i for p in circuit.parts if p.kind == "coupling" for i in p.inductors}
+    passive = [p for p in passive if p.id not in coupled][:16]
+    for first_index, first in enumerate(passive):
+        for second in passive[first_index + 1 :]:
+            parts = list(circuit.parts)
+            i, k = parts.index(first), parts.index(second)
+            if series_for_parallel and set(first.nodes) == set(second.nodes):
+                a, b = first.nodes
+                joint = f"_{first.id}_{second.id}"
+                parts[i] = dataclasses.replace(first, nodes=(a, joint))
+                parts[k] = dataclasses.replace(second, nodes=(joint, b))
+            elif not series_for_parallel:
+                shared = set(first.nodes) & set(second.nodes)
+                if len(shared) != 1:
+                    continue
+                (middle,) = shared
+                touching = [p for p in circuit.parts if middle in p.nodes or (isinstance(p.control, tuple) and middle in p.control)]
+                if middle == "gnd" or len(touching) != 2 or middle in ctx.quantity.text:
+                    continue
+                ends = [n for n in (*first.nodes, *second.nodes) if n != middle]
+                parts[i] = dataclasses.replace(first, nodes=(ends[0], ends[1]))
+                parts[k] = dataclasses.replace(second, nodes=(ends[0], ends[1]))
+            else:
+                continue
+            if _matches(ctx, _requantify(ctx, _with_nodes(circuit, parts))):
+                if series_for_parallel:
+                    return f"the number is what you get with {first.id} and {second.id} in series, but they are in parallel"
+                return f"the number is what you get with {first.id} and {second.id} in parallel, but they are in series"
     return None
 
 
