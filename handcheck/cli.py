@@ -14,7 +14,7 @@ import sys
 from collections.abc import Iterator, Sequence
 from typing import Any
 
-from handcheck.errors import HandcheckError, TimeLimitError
+from handcheck.errors import HandcheckError, TimeLimitError, WorksheetError
 
 __all__ = ["main"]
 
@@ -90,6 +90,9 @@ def _check(args: argparse.Namespace) -> int:
     from handcheck.verify.check import check
     from handcheck.worksheet.load import load
 
+    plot = getattr(args, "plot", None)
+    if plot and not plot.lower().endswith((".svg", ".png")):
+        raise WorksheetError(f'--plot writes .svg or .png files, not "{plot}"')
     with _time_limit(args.time_limit):
         worksheet = load(args.file)
         if args.command == "simulate":
@@ -154,6 +157,10 @@ def main(argv: Sequence[str] | None = None) -> int:
     except HandcheckError as exc:
         where = "" if exc.file else f"{args.file}: "
         sys.stderr.write(f"handcheck: {where}{exc}\n")
+        return EXIT_BAD_INPUT
+    except OSError as exc:  # a plot that cannot be written, for one
+        target = exc.filename or args.file
+        sys.stderr.write(f"handcheck: {target}: {exc.strerror or exc}\n")
         return EXIT_BAD_INPUT
     except RecursionError:
         sys.stderr.write(f"handcheck: {args.file}: an expression is nested too deeply to read\n")

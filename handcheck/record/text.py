@@ -70,5 +70,6 @@ def render(report: Report, version: str, evidence: Any = None) -> str:
     lines.append("")
     status = "OK" if report.ok else "NOT OK"
     tail = f"; first divergence: {first}" if first else ""
-    lines.append(f"{status}: {len(report.steps)} steps ({summary}){tail}")
+    count = f"{len(report.steps)} step{'s' if len(report.steps) != 1 else ''}"
+    lines.append(f"{status}: {count} ({summary}){tail}")
     return "\n".join(lines)

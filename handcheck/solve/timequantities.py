@@ -104,7 +104,7 @@ def evaluate_time_quantity(transient: Any, quantity: Quantity, phasor: Callable[
         return phasor(inner) if final is None else Value(_exact(final), dim)
     if name in ("peak", "peak_time"):
         value, when = wave.peak()
-        if name == "peak":
+        if name == "peak":  # signed; the checker compares its size unless the claim is negative
             return Value(_exact(value), dim)
         if when == float("inf"):
             raise CircuitError(

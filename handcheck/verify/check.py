@@ -50,7 +50,12 @@ from handcheck.worksheet.expr import Node, names_in, parse
 from handcheck.worksheet.model import StepSpec, Worksheet
 from handcheck.worksheet.units import DIMENSIONLESS, dim_of
 
-__all__ = ["check", "part_environment"]
+__all__ = ["ROUNDING_SLACK", "check", "part_environment"]
+
+#: A claim that follows from the author's rounded earlier numbers still agrees when
+#: it is within this relative error of the true value (rounding carried forward);
+#: beyond it, the step is carried from its coarsest input.
+ROUNDING_SLACK = 0.01
 
 
 def part_environment(circuit: Circuit) -> dict[str, Value]:
@@ -88,6 +93,7 @@ class _Checker:
             worksheet.tolerance, file=worksheet.path, line=worksheet.line_of("tolerance")
         )
         self.step_names = {step.name for step in worksheet.steps}
+        self.function_steps: set[str] = set()
         self.names = set(base) | self.step_names
 
     @property
@@ -152,7 +158,7 @@ class _Checker:
     def located(self, exc: HandcheckError, step: StepSpec, key: str | None = None) -> HandcheckError:
         """The error with the file, the step's line, and the step's name in front
         (a fault of the circuit itself keeps its own place: the parts it names)."""
-        if isinstance(exc, CircuitError):
+        if isinstance(exc, CircuitError) and exc.parts:
             return exc.located(self.worksheet.path, None)
         prefix = f'step "{step.name}": '
         if not exc.message.startswith(prefix):
@@ -173,6 +179,13 @@ class _Checker:
                     file=self.worksheet.path,
                     line=step.line_of("formula"),
                 )
+            if name in self.function_steps:
+                raise WorksheetError(
+                    f'step "{step.name}": the formula uses "{name}", whose claim is a function of time; '
+                    "a formula may use only steps with a single value",
+                    file=self.worksheet.path,
+                    line=step.line_of("formula"),
+                )
             if name in self.step_names and name not in self.findings:
                 raise WorksheetError(
                     f'step "{step.name}": the formula uses "{name}", which is a later step; '
@@ -186,7 +199,8 @@ class _Checker:
         for step in self.worksheet.steps:
             finding = self.check_step(step)
             self.findings[step.name] = finding
-            self.full_env[step.name] = self.unrounded(step, finding)
+            if step.name not in self.function_steps:
+                self.full_env[step.name] = self.unrounded(step, finding)
         solved = self._solution
         if solved is None:
             try:
@@ -217,7 +231,8 @@ class _Checker:
             )
         except HandcheckError as exc:
             raise self.located(exc, step, "claim") from None
-        self.claimed_env[step.name] = claim.value
+        if claim.form != "function":
+            self.claimed_env[step.name] = claim.value
         tree = self.parse_formula(step) if step.formula else None
         base = {"name": step.name, "claimed": step.claim, "quantity": step.quantity, "formula": step.formula, "line": step.line}
 
@@ -227,18 +242,22 @@ class _Checker:
             try:
                 quantity = parse_quantity(step.quantity)
                 if claim.form == "function":
-                    self.true_env[step.name] = claim.value
+                    self.function_steps.add(step.name)
                     return self.check_function(base, claim, quantity, tolerance)
                 if quantity.name in TIME_DOMAIN:
                     truth = evaluate_time_quantity(
                         self.transient, quantity, lambda q: evaluate_quantity(self.solution, q)
                     )
+                    if quantity.name == "peak" and not to_complex(claim.value.expr).real < 0:
+                        # the largest absolute value (worksheet format 1); a claim written
+                        # negative is read as the signed extreme
+                        truth = Value(abs(truth.expr), truth.dim)
                 else:
                     truth = evaluate_quantity(self.solution, quantity)
             except HandcheckError as exc:
                 raise self.located(exc, step, "quantity") from None
         elif claim.form == "function":
-            self.true_env[step.name] = claim.value
+            self.function_steps.add(step.name)
             return StepFinding(
                 **base, verdict="unchecked", message="a claimed time function needs a quantity, like voltage(out)"
             )
@@ -286,7 +305,8 @@ class _Checker:
                 message=f"the claim is in {claim.dim or 'no unit'}, but {what} {truth.dim or 'no unit'}",
             )
             if claim.dim == DIMENSIONLESS / truth.dim:
-                return self.diagnosed(finding, dataclasses.replace(context, truth=Value(truth.expr, claim.dim)))
+                reciprocal = dataclasses.replace(context, truth=Value(truth.expr, claim.dim))
+                return self.diagnosed(finding, reciprocal, only=("impedance-as-admittance",))
             return finding
         if formula_true is not None and formula_true.dim != truth.dim:
             return StepFinding(
@@ -298,7 +318,7 @@ class _Checker:
         error = relative_error(claim, reference)
         shown["error"] = error
         if agrees(claim, reference, tolerance):
-            return StepFinding(**base, **shown, verdict="agrees")
+            return StepFinding(**base, **shown, verdict="agrees", message=self.formula_remark(tree, step, claim, tolerance))
 
         if tree is None:
             return self.diagnosed(StepFinding(**base, **shown, verdict="differs"), context)
@@ -315,13 +335,42 @@ class _Checker:
             return self.diagnosed(StepFinding(**base, **shown, verdict="formula"), context)
         cause = self.root_cause(tree)
         if cause is None:
-            return StepFinding(
-                **base,
-                **shown,
-                verdict="agrees",
-                message="follows from the rounded values of earlier steps",
-            )
+            if error is not None and error <= ROUNDING_SLACK:
+                return StepFinding(
+                    **base,
+                    **shown,
+                    verdict="agrees",
+                    message="follows from the rounded values of earlier steps",
+                )
+            cause = self.coarsest_input(tree)
         return StepFinding(**base, **shown, verdict="carried", caused_by=cause)
+
+    def formula_remark(self, tree: Node | None, step: StepSpec, claim: Claim, tolerance: Tolerance) -> str | None:
+        """For a right claim: a remark when the step's own formula does not give it."""
+        if tree is None:
+            return None
+        try:
+            recomputed, follows = self.follows(claim, tree, step.formula or "", tolerance)
+        except TimeLimitError:
+            raise
+        except HandcheckError:
+            return None
+        if follows:
+            return None
+        return f"the claim is right, but the formula as written gives {format_value(recomputed, claim)}"
+
+    def coarsest_input(self, tree: Node) -> str | None:
+        """The earlier step used by the formula whose written value is furthest from
+        its true value (every one of them agreed within its own digits)."""
+        worst, name = -1.0, None
+        for ident in names_in(tree):
+            if ident not in self.findings or ident not in self.true_env:
+                continue
+            written, true = to_complex(self.claimed_env[ident].expr), to_complex(self.true_env[ident].expr)
+            deviation = abs(written - true) / max(abs(true), 1e-300)
+            if deviation > worst:
+                worst, name = deviation, ident
+        return name
 
     @staticmethod
     def expected_text(truth: Value, claim: Claim, quantity: Quantity | None) -> str:
@@ -379,8 +428,8 @@ class _Checker:
         return None
 
     @staticmethod
-    def diagnosed(finding: StepFinding, context: Context) -> StepFinding:
-        found = diagnose(context)
+    def diagnosed(finding: StepFinding, context: Context, only: tuple[str, ...] | None = None) -> StepFinding:
+        found = diagnose(context, only)
         if not found:
             return finding
         return dataclasses.replace(finding, diagnosis=tuple(Diagnosis(code, detail) for code, detail in found))

@@ -284,7 +284,9 @@ def compared(claim: Claim, reference: complex) -> complex:
     """The reference value as the claim is read: its magnitude when a plain real
     number is claimed for a complex quantity."""
     if claim.form == "real" and reference.imag != 0 and abs(reference.imag) > SLACK * abs(reference):
-        return complex(abs(reference), 0)
+        # a negative number claims the magnitude with the sign of a reversed phasor
+        sign = -1 if to_complex(claim.value.expr).real < 0 else 1
+        return complex(sign * abs(reference), 0)
     return reference
 
 

@@ -458,12 +458,15 @@ def _angle_left_out(ctx: Context) -> bool:
     return abs(magnitude - abs(to_complex(ctx.claim.value.expr))) <= ctx.claim.resolution[0] * (1 + 1e-9)
 
 
-def diagnose(ctx: Context) -> list[tuple[str, str]]:
-    """Every catalogued mistake that reproduces the claim, most specific first."""
+def diagnose(ctx: Context, only: tuple[str, ...] | None = None) -> list[tuple[str, str]]:
+    """Every catalogued mistake that reproduces the claim, most specific first
+    (only the codes in ``only``, when given)."""
     if _angle_left_out(ctx):
         return []
     found = []
     for code in CODES:
+        if only is not None and code not in only:
+            continue
         detail = _RULES[code](ctx)
         if detail:
             found.append((code, detail))

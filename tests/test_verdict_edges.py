@@ -1,0 +1,94 @@
+"""Edge cases of the verdicts, found in review."""
+
+from __future__ import annotations
+
+import pytest
+
+import handcheck
+
+HEAD = '[worksheet]\nformat = 1\ntitle = "t"\n'
+
+
+def step(report: handcheck.Report, name: str) -> handcheck.StepFinding:
+    return next(s for s in report.steps if s.name == name)
+
+
+def test_a_coarse_input_that_agrees_still_carries_a_large_error():
+    # R = 1.4 kohm claimed as "1 kohm" agrees within its one digit (+-0.5 kohm), but
+    # P = V^2/R from it is 100 mW against 71.43 mW (Ohm's and Joule's laws): carried.
+    text = HEAD + """
+[parts]
+V1 = { voltage = "10 V", nodes = ["in", "gnd"] }
+R1 = { resistor = "1.4 kohm", nodes = ["in", "gnd"] }
+[[step]]
+name = "R"
+quantity = "resistance(R1)"
+claim = "1 kohm"
+[[step]]
+name = "P"
+quantity = "power(R1)"
+formula = "V1^2/R"
+claim = "100 mW"
+tolerance = "1%"
+"""
+    report = handcheck.check_text(text)
+    assert step(report, "R").verdict == "agrees"
+    assert step(report, "P").verdict == "carried"
+    assert step(report, "P").caused_by == "R"
+    assert not report.ok
+
+
+def test_a_negative_real_claim_reads_as_a_reversed_phasor():
+    # The source's current enters its + terminal: about -10 mA (a 1 kohm load, the
+    # capacitor's 1.6 ohm reactance at 1 kHz hardly matters): common practice to write -10 mA.
+    text = HEAD + """
+[parts]
+V1 = { voltage = "10 V", frequency = "1 kHz", nodes = ["in", "gnd"] }
+R1 = { resistor = "1 kohm", nodes = ["in", "out"] }
+C1 = { capacitor = "100 uF", nodes = ["out", "gnd"] }
+[[step]]
+name = "I"
+quantity = "current(V1)"
+claim = "-10.00 mA"
+"""
+    assert step(handcheck.check_text(text), "I").verdict == "agrees"
+
+
+def test_a_right_claim_from_a_wrong_formula_is_remarked():
+    text = HEAD + """
+frequency = "1 kHz"
+[parts]
+V1 = { voltage = "1 V", frequency = "1 kHz", nodes = ["a", "gnd"] }
+L1 = { inductor = "10 mH", nodes = ["a", "gnd"] }
+[[step]]
+name = "XL"
+quantity = "reactance(L1)"
+formula = "2*pi*f*L1*1000"
+claim = "62.83 ohm"
+"""
+    finding = step(handcheck.check_text(text), "XL")
+    assert finding.verdict == "agrees"
+    assert finding.message == "the claim is right, but the formula as written gives 62832 ohm"
+
+
+def test_a_time_function_step_cannot_feed_a_formula():
+    text = HEAD + """
+[parts]
+V1 = { voltage = "10 V", nodes = ["in", "gnd"] }
+R1 = { resistor = "1 kohm", nodes = ["in", "out"] }
+C1 = { capacitor = "1 uF", nodes = ["out", "gnd"] }
+[[step]]
+name = "v"
+quantity = "voltage(out)"
+claim = "10*(1 - exp(-t/(1 ms))) V"
+[[step]]
+name = "v2"
+formula = "v/2"
+claim = "5 V"
+"""
+    with pytest.raises(handcheck.WorksheetError) as info:
+        handcheck.check_text(text, "w.toml")
+    assert str(info.value) == (
+        'w.toml:15: step "v2": the formula uses "v", whose claim is a function of time; '
+        "a formula may use only steps with a single value"
+    )
