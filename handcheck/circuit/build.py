@@ -15,7 +15,7 @@ from handcheck.worksheet.expr import Number, one_line, parse, walk
 from handcheck.worksheet.model import PartSpec, Worksheet
 from handcheck.worksheet.units import DIMENSIONLESS, Dim, dim_of
 
-__all__ = ["build", "read_frequency", "read_value"]
+__all__ = ["build", "read_frequency", "read_span", "read_value"]
 
 _KIND_UNIT = {
     "resistor": "ohm",
@@ -92,6 +92,17 @@ def _read_frequency(text: str, what: str, *, file: str | None, line: int | None)
         raise UnitError(f'{what} "{text}" must be a positive frequency in Hz or rad/s, like "60 Hz" or "377 rad/s"', file=file, line=line)
     angular = any(isinstance(n, Number) and any(w.startswith("rad") for w, _ in n.unit) for n in walk(tree))
     return value.expr if angular else 2 * sympy.pi * value.expr
+
+
+def read_span(worksheet: Worksheet) -> float | None:
+    """The ``[transient] span`` in seconds, or None when it is not given."""
+    written = dict(worksheet.transient).get("span")
+    if not written:
+        return None
+    value = read_value(written, "s", "span in [transient]", file=worksheet.path)
+    if value <= 0:
+        raise WorksheetError(f'span = "{written}" in [transient] must be more than 0 s', file=worksheet.path)
+    return float(value)
 
 
 def _phase(spec: PartSpec, path: str) -> sympy.Expr:

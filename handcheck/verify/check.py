@@ -25,7 +25,7 @@ from typing import Any
 
 import sympy
 
-from handcheck.circuit.build import build
+from handcheck.circuit.build import build, read_span
 from handcheck.circuit.model import Circuit
 from handcheck.errors import CircuitError, HandcheckError, TimeLimitError, UnitError, WorksheetError
 from handcheck.solve.phasor import Solution, solve
@@ -45,7 +45,7 @@ from handcheck.verify.findings import Diagnosis, Report, StepFinding
 from handcheck.verify.mistakes import Context, diagnose
 from handcheck.verify.present import describe_frequency, describe_function, format_number, format_value
 from handcheck.verify.safety import cautions
-from handcheck.worksheet.evaluate import Value, evaluate, evaluate_text
+from handcheck.worksheet.evaluate import Value, evaluate
 from handcheck.worksheet.expr import Node, names_in, parse
 from handcheck.worksheet.model import StepSpec, Worksheet
 from handcheck.worksheet.units import DIMENSIONLESS, dim_of
@@ -133,12 +133,9 @@ class _Checker:
     def span(self) -> float:
         """The time span a claimed waveform is compared over: five of the slowest time
         constants, and at least three periods of any sinusoidal source ([transient] span if set)."""
-        written = dict(self.worksheet.transient).get("span")
-        if written:
-            value = evaluate_text(written)
-            if value.dim == dim_of("s") and value.expr.is_positive:
-                return float(value.expr)
-            raise WorksheetError(f'span = "{written}" in [transient] must be a time, like "20 ms"', file=self.worksheet.path)
+        written = read_span(self.worksheet)
+        if written is not None:
+            return written
         candidates = []
         for pole in self.transient.natural_modes():
             rate = abs(complex(pole).real)
