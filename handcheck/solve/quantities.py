@@ -228,7 +228,10 @@ class _Evaluator:
             (ident,) = self.names(q, 1, 1)
             return Value(part_current(self.solution, self.part(ident)), dim_of("A"))
         if name in ("impedance", "admittance", "reactance", "resistance", "susceptance", "conductance"):
-            z = self.impedance(self.names(q, 1, 2))
+            args = self.names(q, 1, 2)
+            if name in ("admittance", "susceptance", "conductance") and self.is_capacitor_at_dc(args):
+                return Value(sympy.Integer(0), dim_of("S"))  # an open circuit at DC
+            z = self.impedance(args)
             if name in ("impedance", "reactance", "resistance"):
                 pick = {"impedance": lambda v: v, "reactance": sympy.im, "resistance": sympy.re}[name]
                 return Value(pick(z), dim_of("ohm"))
@@ -260,6 +263,11 @@ class _Evaluator:
                 raise self.fail(f"{ident} carries no power at the analysis frequency, so it has no power factor")
             return Value(sympy.Abs(sympy.re(complex_power)) / apparent, DIMENSIONLESS)
         raise self.fail(f'unknown quantity "{name}"')  # pragma: no cover - the parser rejects it first
+
+    def is_capacitor_at_dc(self, args: tuple[str, ...]) -> bool:
+        if self.circuit.omega != 0 or len(args) != 1 or self.is_node(args[0]) or not self.circuit.has_part(args[0]):
+            return False
+        return self.circuit.part(args[0]).kind == "capacitor"
 
     def impedance(self, args: tuple[str, ...]) -> sympy.Expr:
         if len(args) == 1 and not self.is_node(args[0]):

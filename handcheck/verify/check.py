@@ -275,7 +275,10 @@ class _Checker:
             return StepFinding(**base, verdict="unchecked", message="no quantity and no formula: nothing to check the claim against")
         self.true_env[step.name] = truth
 
-        reference = to_complex(truth.expr)
+        try:
+            reference = to_complex(truth.expr)
+        except HandcheckError as exc:
+            raise self.located(exc, step, "quantity" if step.quantity else "formula") from None
         shown = {
             "expected": self.expected_text(truth, claim, quantity),
             "expected_si": (reference.real, reference.imag),

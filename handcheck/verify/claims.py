@@ -271,9 +271,12 @@ def to_complex(expr: sympy.Expr) -> complex:
     value = sympy.N(expr, DIGITS)
     re_part, im_part = value.as_real_imag()
     try:
-        return complex(float(re_part), float(im_part))
+        number = complex(float(re_part), float(im_part))
     except TypeError as exc:
         raise ParseError(f"the value {expr} is not a finite number", "", None) from exc
+    if not (math.isfinite(number.real) and math.isfinite(number.imag)):
+        raise LimitError("a value is beyond the range of numbers handcheck compares (about 1e300)")
+    return number
 
 
 def _wrap(angle: float) -> float:
