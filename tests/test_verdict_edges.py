@@ -92,3 +92,13 @@ claim = "5 V"
         'w.toml:15: step "v2": the formula uses "v", whose claim is a function of time; '
         "a formula may use only steps with a single value"
     )
+
+
+def test_a_purely_imaginary_claim_allows_a_rounded_real_part():
+    # "-1592j ohm" is read as 0 - 1592j to the last digit written (common practice):
+    # a true real part of 0.3 ohm rounds to 0.
+    from handcheck.verify.claims import Tolerance, agrees, read_claim
+
+    claim = read_claim("-1592j ohm")
+    assert agrees(claim, complex(0.3, -1592.2), Tolerance())
+    assert not agrees(claim, complex(0.7, -1592.2), Tolerance())

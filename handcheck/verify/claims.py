@@ -138,6 +138,8 @@ def _component_resolutions(tree: object) -> tuple[Fraction, Fraction]:
                 imag = max(imag, res)
             else:
                 real = max(real, res)
+    if real == 0 and imag > 0:
+        real = imag  # "-1592j ohm": the unwritten real part is zero to the same digit
     return real, imag
 
 
