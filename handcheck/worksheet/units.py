@@ -90,6 +90,17 @@ def dim_name(dim: Dim) -> str:
     for name, named in _NAMED.items():
         if named == dim:
             return name
+    # a power, product or ratio of two named units reads better than base units
+    for name, named in _NAMED.items():
+        for power in (2, 3, -1, -2, Fraction(1, 2)):
+            if named**power == dim:
+                return f"{name}^{power}" if power != Fraction(1, 2) else f"sqrt({name})"
+    for first, a in _NAMED.items():
+        for second, b in _NAMED.items():
+            if a * b == dim:
+                return f"{first}*{second}"
+            if a / b == dim:
+                return f"{first}/{second}"
     parts = []
     for symbol, exp in zip(_SYMBOLS, dim._vec(), strict=True):
         if exp == 1:
