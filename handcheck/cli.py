@@ -83,7 +83,7 @@ def _time_limit(seconds: float | None) -> Iterator[None]:
         signal.signal(signal.SIGALRM, previous)
 
 
-def _check(args: argparse.Namespace) -> int:
+def _run(args: argparse.Namespace) -> int:
     from handcheck import __version__
     from handcheck.record.jsonout import evidence_dict, report_dict
     from handcheck.record.text import render
@@ -153,7 +153,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         parser.print_help(sys.stderr)
         return EXIT_BAD_INPUT
     try:
-        return _check(args)
+        return _run(args)
     except HandcheckError as exc:
         where = "" if exc.file else f"{args.file}: "
         sys.stderr.write(f"handcheck: {where}{exc}\n")

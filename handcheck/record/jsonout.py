@@ -2,13 +2,12 @@
 
 from __future__ import annotations
 
-import json
 import math
 from typing import Any
 
 from handcheck.verify.findings import Report, StepFinding
 
-__all__ = ["report_dict", "to_json"]
+__all__ = ["evidence_dict", "report_dict"]
 
 
 def _number(x: float | None) -> float | None:
@@ -73,8 +72,3 @@ def evidence_dict(evidence: Any) -> dict[str, Any]:
         "problems": list(evidence.problems),
         "notes": list(evidence.notes),
     }
-
-
-def to_json(report: Report, version: str) -> str:
-    """The report as one line of JSON."""
-    return json.dumps(report_dict(report, version), ensure_ascii=False)

@@ -142,7 +142,7 @@ class _QuantityParser:
             return self.quoted[tok.start]
         if tok.kind == "name" and self.tokens[self.index + 1].text == "(":
             return self.quantity()
-        if tok.kind == "num" and self.tokens[self.index + 1].kind == "name" and self.tokens[self.index + 1].text not in ("",):
+        if tok.kind == "num" and self.tokens[self.index + 1].kind == "name":
             # a value with a unit, like 1.5 ms: keep its text
             first = self.take()
             last = first

@@ -283,8 +283,7 @@ def _matches_truth(ctx: Context, value: sympy.Expr | None) -> bool:
     """True when a corrected formula gives the true value (to 9 significant digits)."""
     if value is None or ctx.truth is None:
         return False
-    a, b = to_complex(value), to_complex(ctx.truth.expr)
-    return abs(a - b) <= 1e-9 * max(abs(a), abs(b), 1e-300)
+    return _same(value, ctx.truth.expr)
 
 
 def _frequency_swap(ctx: Context, hertz_for_angular: bool) -> str | None:

@@ -336,9 +336,6 @@ class _Parser:
         if not imaginary and self.tok.kind == "name" and self.tok.glued and self.tok.text == "j":
             imaginary = True
             end = self.advance().start + 1
-        elif self.tok.kind == "name" and self.tok.glued and self.tok.text.startswith("j") and self.tok.text[1:].isalpha():
-            # "4.5jkohm" is not a thing; let the unit reader complain about it.
-            pass
         unit, end = self.unit(end)
         return Number(tok.start, end, value, tok.text, unit, imaginary)
 
