@@ -222,9 +222,9 @@ TEMPLATES = [
         "L1": {"inductor": "1 H", "nodes": ["m", "gnd"]},
         "L2": {"inductor": "2 H", "nodes": ["q", "gnd"]},
         "R2": {"resistor": "1 ohm", "nodes": ["q", "gnd"]},
-        "K1": {"coupling": "0.5", "inductors": ["L1", "L2"]},
-        "E1": {"vcvs": "2", "control": ["m", "gnd"], "nodes": ["e", "gnd"]},
-        "F1": {"cccs": "3", "control": "R2", "nodes": ["e", "gnd"]},
+        "mutual_ps": {"coupling": "0.5", "inductors": ["L1", "L2"]},
+        "buf": {"vcvs": "2", "control": ["m", "gnd"], "nodes": ["e", "gnd"]},
+        "mirror": {"cccs": "3", "control": "R2", "nodes": ["e", "gnd"]},
         "R3": {"resistor": "1 ohm", "nodes": ["e", "gnd"]},
     },
 ]

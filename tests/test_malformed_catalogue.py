@@ -112,8 +112,8 @@ CIRCUIT_PARTS = {
     "opamp_output_loop": {"U1", "V2"},
     "current_source_cut": {"I1", "I2"},
     "island": {"R3", "R4"},
-    "vcvs_controls_itself": {"E1"},
-    "vcvs_pair_singular": {"E1", "E2", "V1"},
+    "vcvs_controls_itself": {"buf"},
+    "vcvs_pair_singular": {"buf_a", "buf_b", "V1"},
     "resonance_at_analysis_frequency": {"C1", "L1", "V1"},
     "dangling_resistor": {"R1", "R2"},
     "dangling_resistor_end": {"R3"},
@@ -121,10 +121,10 @@ CIRCUIT_PARTS = {
     "dangling_inductor": {"L1"},
     "dangling_current_source": {"I1"},
     "dangling_opamp_input": {"U1"},
-    "control_part_missing": {"F1"},
-    "control_node_missing": {"E1"},
-    "coupling_not_inductors": {"K1"},
-    "coupling_missing_inductor": {"K1"},
+    "control_part_missing": {"mirror"},
+    "control_node_missing": {"buf"},
+    "coupling_not_inductors": {"mutual_ps"},
+    "coupling_missing_inductor": {"mutual_ps"},
     "no_ground": set(),
 }
 
@@ -185,7 +185,7 @@ SOUND = {
         '[parts]\nV1 = { voltage = "5 V", nodes = ["a", "gnd"] }\n', "voltage(a)", "5 V"
     ),
     "a vcvs output alone on its node": (
-        DIVIDER + 'E1 = { vcvs = "3", control = ["out", "gnd"], nodes = ["e", "gnd"] }\n', "voltage(e)", "12 V"
+        DIVIDER + 'buf = { vcvs = "3", control = ["out", "gnd"], nodes = ["e", "gnd"] }\n', "voltage(e)", "12 V"
     ),
     "a transformer secondary left open": (
         '[parts]\nV1 = { voltage = "10 V", frequency = "50 Hz", nodes = ["p", "gnd"] }\n'
@@ -196,7 +196,7 @@ SOUND = {
     ),
     "a resistor end sensed by a vcvs": (
         DIVIDER + 'R3 = { resistor = "1 kohm", nodes = ["out", "sense"] }\n'
-        'E1 = { vcvs = "1", control = ["sense", "gnd"], nodes = ["e", "gnd"] }\n',
+        'buf = { vcvs = "1", control = ["sense", "gnd"], nodes = ["e", "gnd"] }\n',
         "voltage(e)",
         "4 V",
     ),

@@ -236,7 +236,7 @@ def test_vcvs_gain():
 V1 = { voltage = "3 V", frequency = "2 rad/s", nodes = ["in", "gnd"] }
 Ra = { resistor = "1 ohm", nodes = ["in", "m"] }
 Rb = { resistor = "2 ohm", nodes = ["m", "gnd"] }
-E1 = { vcvs = "5", nodes = ["out", "gnd"], control = ["in", "m"] }
+buf = { vcvs = "5", nodes = ["out", "gnd"], control = ["in", "m"] }
 RL = { resistor = "7 ohm", nodes = ["out", "gnd"] }
 """
     sol = solved(parts)
@@ -255,14 +255,14 @@ def test_vccs_transconductance_into_load(nodes, sign):
     parts = f"""
 V1 = {{ voltage = "2 V", frequency = "10 rad/s", nodes = ["in", "gnd"] }}
 Rg = {{ resistor = "1 Mohm", nodes = ["in", "gnd"] }}
-G1 = {{ vccs = "5 mS", nodes = {nodes}, control = ["in", "gnd"] }}
+drv_gm = {{ vccs = "5 mS", nodes = {nodes}, control = ["in", "gnd"] }}
 RL = {{ resistor = "2 kohm", nodes = ["out", "gnd"] }}
 """
     sol = solved(parts)
     gm, rl = R(5, 1000), 2000
     assert same(value(sol, "transfer(voltage(out), voltage(in))"), sign * gm * rl)
     assert same(value(sol, "voltage(out)"), sign * gm * rl * 2)
-    assert same(value(sol, "current(G1)"), gm * 2)
+    assert same(value(sol, "current(drv_gm)"), gm * 2)
 
 
 def test_cccs_current_mirror():
@@ -274,28 +274,28 @@ def test_cccs_current_mirror():
     parts = """
 V1 = { voltage = "2 V", nodes = ["in", "gnd"] }
 Rin = { resistor = "4 ohm", nodes = ["in", "gnd"] }
-F1 = { cccs = "1", nodes = ["o1", "gnd"], control = "Rin" }
+mirror = { cccs = "1", nodes = ["o1", "gnd"], control = "Rin" }
 RL1 = { resistor = "10 ohm", nodes = ["o1", "gnd"] }
-F2 = { cccs = "3", nodes = ["gnd", "o2"], control = "Rin" }
+mirror3 = { cccs = "3", nodes = ["gnd", "o2"], control = "Rin" }
 RL2 = { resistor = "10 ohm", nodes = ["o2", "gnd"] }
 """
     sol = solved(parts)
     assert same(value(sol, "current(Rin)"), R(1, 2))
-    assert same(value(sol, "current(F1)"), R(1, 2))
-    assert same(value(sol, "current(F2)"), R(3, 2))
+    assert same(value(sol, "current(mirror)"), R(1, 2))
+    assert same(value(sol, "current(mirror3)"), R(3, 2))
     assert same(value(sol, "voltage(o1)"), -5)
     assert same(value(sol, "voltage(o2)"), 15)
-    assert same(value(sol, "transfer(current(F2), current(Rin))"), 3)
+    assert same(value(sol, "transfer(current(mirror3), current(Rin))"), 3)
 
 
 def test_cccs_controlled_by_a_voltage_source_current():
     # The current of V1 enters its plus terminal, so it is -0.5 A when V1 feeds Rin;
-    # F1 (gain 2, nodes [o, gnd]) then carries -1 A from o to gnd, i.e. pushes 1 A into
+    # mirror (gain 2, nodes [o, gnd]) then carries -1 A from o to gnd, i.e. pushes 1 A into
     # o, and v(o) = +1 A * 3 ohm.
     parts = """
 V1 = { voltage = "2 V", nodes = ["in", "gnd"] }
 Rin = { resistor = "4 ohm", nodes = ["in", "gnd"] }
-F1 = { cccs = "2", nodes = ["o", "gnd"], control = "V1" }
+mirror = { cccs = "2", nodes = ["o", "gnd"], control = "V1" }
 RL = { resistor = "3 ohm", nodes = ["o", "gnd"] }
 """
     sol = solved(parts)
@@ -310,7 +310,7 @@ def test_ccvs_transresistance():
     parts = """
 V1 = { voltage = "5 V", frequency = "1 rad/s", nodes = ["in", "gnd"] }
 Rin = { resistor = "10 kohm", nodes = ["in", "gnd"] }
-H1 = { ccvs = "4 kohm", nodes = ["out", "gnd"], control = "Rin" }
+sense_amp = { ccvs = "4 kohm", nodes = ["out", "gnd"], control = "Rin" }
 RL = { resistor = "1 kohm", nodes = ["out", "gnd"] }
 """
     sol = solved(parts)
@@ -379,7 +379,7 @@ def coupled(l1: str, l2: str, k: str, secondary: str, load: str = 'RL = { resist
 V1 = {{ voltage = "1 V", frequency = "3 rad/s", nodes = ["p", "gnd"] }}
 L1 = {{ inductor = "{l1}", nodes = ["p", "gnd"] }}
 L2 = {{ inductor = "{l2}", nodes = {secondary} }}
-K1 = {{ coupling = "{k}", inductors = ["L1", "L2"] }}
+mutual_ps = {{ coupling = "{k}", inductors = ["L1", "L2"] }}
 {load}
 """
 

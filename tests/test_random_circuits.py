@@ -289,11 +289,11 @@ def test_random_circuits_with_controlled_sources_match_numpy(seed, make_workshee
         first, second = rng.choice(len(everything), size=2, replace=False)
         return everything[first], everything[second]
 
-    controlled = [Part("G1", "vccs", pair(), pick(rng, ("0.1", "-0.5", "2")), control=pair())]
+    controlled = [Part("drv_gm", "vccs", pair(), pick(rng, ("0.1", "-0.5", "2")), control=pair())]
     free = [n for n in nodes if n not in held]
     if free:  # a vcvs from a node no other voltage-defined part holds, to ground
         controlled.append(
-            Part("E1", "vcvs", (pick(rng, free), GND), pick(rng, ("2", "-3", "0.5", "10")), control=pair())
+            Part("buf", "vcvs", (pick(rng, free), GND), pick(rng, ("2", "-3", "0.5", "10")), control=pair())
         )
     compare_with_reference(parts + sources + controlled, nodes, pick(rng, OMEGAS), make_worksheet)
 

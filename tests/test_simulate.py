@@ -369,7 +369,7 @@ def test_fitted_phasors_of_op_amp_transformer_and_coupled_inductors():
                 "L1": {"inductor": "1 mH", "nodes": ["b", "gnd"]},
                 "L2": {"inductor": "4 mH", "nodes": ["c", "gnd"]},
                 "R2": {"resistor": "20 ohm", "nodes": ["c", "gnd"]},
-                "K1": {"coupling": k, "inductors": ["L1", "L2"]},
+                "mutual_ps": {"coupling": k, "inductors": ["L1", "L2"]},
             }
         )
         fit = fit_phasors(run(c, tolerance=1e-10))
@@ -423,12 +423,12 @@ def _random_circuit(rng: np.random.Generator):
         parts[f"P{k}"] = {kind: f"{round(float(10 ** rng.uniform(-0.5, 2)), 3)} {value}", "nodes": pick()}
     inductors = [k for k, p in parts.items() if "inductor" in p]
     if len(inductors) >= 2:
-        parts["K1"] = {"coupling": "0.6", "inductors": inductors[:2]}
-    parts["E1"] = {"vcvs": "0.5", "control": pick(), "nodes": [nodes[-1], "gnd"]}
+        parts["mutual_ps"] = {"coupling": "0.6", "inductors": inductors[:2]}
+    parts["buf"] = {"vcvs": "0.5", "control": pick(), "nodes": [nodes[-1], "gnd"]}
     parts["RE"] = {"resistor": "100 ohm", "nodes": [nodes[-1], nodes[0]]}
-    parts["G1"] = {"vccs": "1 mS", "control": pick(), "nodes": pick()}
-    parts["F1"] = {"cccs": "0.3", "control": "Rg0", "nodes": pick()}
-    parts["H1"] = {"ccvs": "20 ohm", "control": "RE", "nodes": ["h", "gnd"]}
+    parts["drv_gm"] = {"vccs": "1 mS", "control": pick(), "nodes": pick()}
+    parts["mirror"] = {"cccs": "0.3", "control": "Rg0", "nodes": pick()}
+    parts["sense_amp"] = {"ccvs": "20 ohm", "control": "RE", "nodes": ["h", "gnd"]}
     parts["Rh"] = {"resistor": "1 kohm", "nodes": ["h", pick()[0]]}
     return parts
 

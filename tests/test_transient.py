@@ -525,7 +525,7 @@ def test_coupled_inductors_against_solve_ivp():
             R1 = { resistor = "1 ohm", nodes = ["in", "a"] }
             L1 = { inductor = "1 H", nodes = ["a", "gnd"] }
             L2 = { inductor = "2 H", nodes = ["b", "gnd"] }
-            K1 = { coupling = "0.5", inductors = ["L1", "L2"] }
+            mutual_ps = { coupling = "0.5", inductors = ["L1", "L2"] }
             R2 = { resistor = "3 ohm", nodes = ["b", "gnd"] }
             """
         )

@@ -48,8 +48,8 @@ CASES = [
     ),
     (
         "a controlling part that does not exist",
-        DIVIDER + 'F1 = { cccs = "2", control = "Vx", nodes = ["a", "gnd"] }\n',
-        'W.toml:7: F1 is controlled by the current of part "Vx", which is not in [parts]',
+        DIVIDER + 'mirror = { cccs = "2", control = "Vx", nodes = ["a", "gnd"] }\n',
+        'W.toml:7: mirror is controlled by the current of part "Vx", which is not in [parts]',
     ),
     (
         "a missing claim",

@@ -687,13 +687,13 @@ def _case_vcvs():
 V1 = { voltage = "1 V", nodes = ["in", "gnd"] }
 R1 = { resistor = "1 kohm", nodes = ["in", "x"] }
 R2 = { resistor = "1 kohm", nodes = ["x", "gnd"] }
-E1 = { vcvs = "10", nodes = ["out", "gnd"], control = ["x", "gnd"] }
+buf = { vcvs = "10", nodes = ["out", "gnd"], control = ["x", "gnd"] }
 RL = { resistor = "500 ohm", nodes = ["out", "gnd"] }
 """
-    text += step("Vo", cl["Vo"][0], "voltage(out)", "E1*V1*R2/(R1 + R2)")
+    text += step("Vo", cl["Vo"][0], "voltage(out)", "buf*V1*R2/(R1 + R2)")
     text += step("IRL", cl["IRL"][0], "current(RL)", "Vo/RL")
-    text += step("IE", cl["IE"][0], "current(E1)")
-    text += step("PE", cl["PE"][0], "power(E1)")
+    text += step("IE", cl["IE"][0], "current(buf)")
+    text += step("PE", cl["PE"][0], "power(buf)")
     text += step("H", cl["H"][0], "transfer(voltage(out), voltage(in))")
     case = register("vcvs_dc", text)
 
@@ -718,7 +718,7 @@ def _case_vccs():
     gm, RL, CL = 5e-3, 2000.0, 10e-9
     ZL = par(RL, 1 / (1j * w * CL))
     Vin = 2.0
-    IG = gm * Vin  # through G1 from out to gnd (table: current gm*v(control) from nodes[0] to nodes[1])
+    IG = gm * Vin  # through drv_gm from out to gnd (table: current gm*v(control) from nodes[0] to nodes[1])
     Vo = -IG * ZL  # KCL at out (textbook)
     PG = (Vo * IG.conjugate()).real / 2
     cl = {
@@ -733,15 +733,15 @@ def _case_vccs():
 [parts]
 Vs = { voltage = "2 V", frequency = "10 kHz", nodes = ["in", "gnd"] }
 Rin = { resistor = "1 kohm", nodes = ["in", "gnd"] }
-G1 = { vccs = "5 mS", nodes = ["out", "gnd"], control = ["in", "gnd"] }
+drv_gm = { vccs = "5 mS", nodes = ["out", "gnd"], control = ["in", "gnd"] }
 RL = { resistor = "2 kohm", nodes = ["out", "gnd"] }
 CL = { capacitor = "10 nF", nodes = ["out", "gnd"] }
 """
-    text += step("Vo", cl["Vo"][0], "voltage(out)", "-G1*Vs*(RL || 1/(j*w*CL))")
+    text += step("Vo", cl["Vo"][0], "voltage(out)", "-drv_gm*Vs*(RL || 1/(j*w*CL))")
     text += step("H", cl["H"][0], "transfer(voltage(out), voltage(in))")
-    text += step("IG", cl["IG"][0], "current(G1)", "G1*Vs")
+    text += step("IG", cl["IG"][0], "current(drv_gm)", "drv_gm*Vs")
     text += step("Zo", cl["Zo"][0], "impedance(out)")
-    text += step("PG", cl["PG"][0], "power(G1)")
+    text += step("PG", cl["PG"][0], "power(drv_gm)")
     case = register("vccs_ac", text)
 
     def top(out):
@@ -766,9 +766,9 @@ def _case_cccs():
     iR1 = Is  # all of Is flows a -> gnd through R1
     R2, C2 = 100.0, 1e-6
     Zb = par(R2, 1 / (1j * w * C2))
-    IF = 50 * iR1  # through F1 from gnd to b: into b
+    IF = 50 * iR1  # through mirror from gnd to b: into b
     Vb = IF * Zb
-    Yb = 1 / R2 + 1j * w * C2  # independent source open: iR1 = 0, F1 silent (test-source method)
+    Yb = 1 / R2 + 1j * w * C2  # independent source open: iR1 = 0, mirror silent (test-source method)
     P2 = abs(Vb) ** 2 / R2 / 2
     cl = {
         "iR1": c_polar(iR1, 3, 2, "mA", 1e-3),
@@ -783,17 +783,17 @@ def _case_cccs():
 [parts]
 Is = { current = "1 mA", frequency = "1 kHz", phase = "45 deg", nodes = ["gnd", "a"] }
 R1 = { resistor = "1 kohm", nodes = ["a", "gnd"] }
-F1 = { cccs = "50", nodes = ["gnd", "b"], control = "R1" }
+mirror = { cccs = "50", nodes = ["gnd", "b"], control = "R1" }
 R2 = { resistor = "100 ohm", nodes = ["b", "gnd"] }
 C2 = { capacitor = "1 uF", nodes = ["b", "gnd"] }
 """
     text += step("iR1", cl["iR1"][0], "current(R1)", "Is")
     text += step("Va", cl["Va"][0], "voltage(a)", "iR1*R1")
-    text += step("Vb", cl["Vb"][0], "voltage(b)", "F1*iR1*(R2 || 1/(j*w*C2))")
-    text += step("IF", cl["IF"][0], "current(F1)")
+    text += step("Vb", cl["Vb"][0], "voltage(b)", "mirror*iR1*(R2 || 1/(j*w*C2))")
+    text += step("IF", cl["IF"][0], "current(mirror)")
     text += step("Yb", cl["Yb"][0], "admittance(b)")
     text += step("P2", cl["P2"][0], "power(R2)", "abs(Vb)^2/R2/2")
-    text += step("beta", "50.00", "transfer(current(F1), current(R1))", "F1")
+    text += step("beta", "50.00", "transfer(current(mirror), current(R1))", "mirror")
     case = register("cccs_ac", text)
 
     def top(out):
@@ -818,7 +818,7 @@ def _case_ccvs():
     IL = 10 / (100 + 1j * w * 20e-3)  # rms
     Vc = 50 * IL
     P3 = abs(Vc) ** 2 / 1000  # rms: no 1/2
-    IH = -Vc / 1000  # current entering H1 at c
+    IH = -Vc / 1000  # current entering sense_amp at c
     cl = {
         "IL": c_polar(IL, 2, 2, "mA", 1e-3),
         "Vc": c_polar(Vc, 3, 2, "V"),
@@ -832,13 +832,13 @@ def _case_ccvs():
 Vs = { voltage = "10 V rms", frequency = "500 Hz", nodes = ["a", "gnd"] }
 R1 = { resistor = "100 ohm", nodes = ["a", "b"] }
 L1 = { inductor = "20 mH", nodes = ["b", "gnd"] }
-H1 = { ccvs = "50 ohm", nodes = ["c", "gnd"], control = "L1" }
+sense_amp = { ccvs = "50 ohm", nodes = ["c", "gnd"], control = "L1" }
 R3 = { resistor = "1 kohm", nodes = ["c", "gnd"] }
 """
     text += step("IL", cl["IL"][0], "current(L1)", "Vs/(R1 + j*w*L1)")
-    text += step("Vc", cl["Vc"][0], "voltage(c)", "H1*IL")
+    text += step("Vc", cl["Vc"][0], "voltage(c)", "sense_amp*IL")
     text += step("P3", cl["P3"][0], "power(R3)", "abs(Vc)^2/R3")
-    text += step("IH", cl["IH"][0], "current(H1)")
+    text += step("IH", cl["IH"][0], "current(sense_amp)")
     text += step("Zc", cl["Zc"][0], "impedance(c)")
     case = register("ccvs_rms", text)
 
@@ -987,10 +987,10 @@ Vs = { voltage = "10 V", frequency = "1 kHz", nodes = ["a", "gnd"] }
 R1 = { resistor = "10 ohm", nodes = ["a", "b"] }
 L1 = { inductor = "10 mH", nodes = ["b", "gnd"] }
 L2 = { inductor = "40 mH", nodes = ["c", "gnd"] }
-K1 = { coupling = "0.5", inductors = ["L1", "L2"] }
+mutual_ps = { coupling = "0.5", inductors = ["L1", "L2"] }
 RL = { resistor = "50 ohm", nodes = ["c", "gnd"] }
 """
-    text += step("M", cl["M"][0], None, "K1*sqrt(L1*L2)")
+    text += step("M", cl["M"][0], None, "mutual_ps*sqrt(L1*L2)")
     text += step("I1", cl["I1"][0], "current(L1)")
     text += step("Vc", cl["Vc"][0], "voltage(c)")
     text += step("ZL1", cl["ZL1"][0], "impedance(L1)")
@@ -1050,13 +1050,13 @@ Va = { voltage = "10 V", frequency = "1 kHz", nodes = ["a", "gnd"] }
 R1 = { resistor = "10 ohm", nodes = ["a", "b"] }
 L1 = { inductor = "10 mH", nodes = ["b", "gnd"] }
 L2 = { inductor = "40 mH", nodes = ["gnd", "c"] }
-K1 = { coupling = "0.5", inductors = ["L1", "L2"] }
+mutual_ps = { coupling = "0.5", inductors = ["L1", "L2"] }
 RL = { resistor = "50 ohm", nodes = ["c", "gnd"] }
 Vb = { voltage = "10 V", frequency = "1 kHz", nodes = ["a2", "gnd"] }
 R2 = { resistor = "10 ohm", nodes = ["a2", "b2"] }
 L3 = { inductor = "10 mH", nodes = ["b2", "gnd"] }
 L4 = { inductor = "40 mH", nodes = ["c2", "gnd"] }
-K2 = { coupling = "-0.5", inductors = ["L3", "L4"] }
+mutual_neg = { coupling = "-0.5", inductors = ["L3", "L4"] }
 RL2 = { resistor = "50 ohm", nodes = ["c2", "gnd"] }
 Vt = { voltage = "10 V", frequency = "1 kHz", nodes = ["t", "gnd"] }
 Rt = { resistor = "10 ohm", nodes = ["t", "p"] }
@@ -1066,7 +1066,7 @@ Vk = { voltage = "10 V", frequency = "1 kHz", nodes = ["k1", "gnd"] }
 Rk = { resistor = "10 ohm", nodes = ["k1", "k2"] }
 L5 = { inductor = "10 mH", nodes = ["k2", "gnd"] }
 L6 = { inductor = "40 mH", nodes = ["k3", "gnd"] }
-K3 = { coupling = "1", inductors = ["L5", "L6"] }
+mutual_tight = { coupling = "1", inductors = ["L5", "L6"] }
 R6 = { resistor = "400 ohm", nodes = ["k3", "gnd"] }
 """
     text += step("VcA", cl["VcA"][0], "voltage(c)")
@@ -1695,7 +1695,7 @@ C2 = { capacitor = "10 uF", nodes = ["gnd", "y"], initial = "2 V" }
 Ry = { resistor = "1 kohm", nodes = ["y", "gnd"] }
 Lm = { inductor = "10 mH", nodes = ["p", "gnd"], initial = "10 mA" }
 Ln = { inductor = "40 mH", nodes = ["q", "gnd"] }
-Km = { coupling = "0.5", inductors = ["Lm", "Ln"] }
+mutual_mn = { coupling = "0.5", inductors = ["Lm", "Ln"] }
 Rp = { resistor = "10 ohm", nodes = ["p", "gnd"] }
 Rq = { resistor = "40 ohm", nodes = ["q", "gnd"] }
 Vin = { voltage = "1 V", nodes = ["in", "gnd"] }
