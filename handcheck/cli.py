@@ -112,13 +112,11 @@ def _run(args: argparse.Namespace) -> int:
 
 
 def _evidence(worksheet: Any) -> Any:
-    from handcheck.circuit.build import build, read_value
+    from handcheck.circuit.build import build
     from handcheck.verify.evidence import gather_evidence
+    from handcheck.worksheet.values import read_span
 
-    span = None
-    written = dict(worksheet.transient).get("span")
-    if written:
-        span = float(read_value(written, "s", "span in [transient]", file=worksheet.path, line=worksheet.line_of("span")))
+    span = read_span(worksheet)
     sys.stderr.write("handcheck: solving the circuit numerically in time...\n")
     return gather_evidence(build(worksheet), worksheet.steps, span=span)
 

@@ -27,7 +27,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 import handcheck
-from handcheck.circuit.build import read_frequency, read_value
+from handcheck.worksheet.values import read_frequency, read_value
 from handcheck.errors import HandcheckError, LimitError, ParseError
 from handcheck.solve.quantities import parse_quantity
 from handcheck.verify.claims import read_claim, read_tolerance

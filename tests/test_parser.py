@@ -5,7 +5,7 @@ from __future__ import annotations
 import pytest
 import sympy
 
-from handcheck.circuit.build import read_frequency
+from handcheck.worksheet.values import read_frequency
 from handcheck.errors import LimitError, ParseError, UnitError
 from handcheck.verify.claims import Tolerance, agrees, read_claim, read_tolerance, to_complex
 from handcheck.worksheet.evaluate import Value, evaluate_text

@@ -52,10 +52,9 @@ def _source_periods(circ) -> list[float]:
         src = part.source
         if src is None:
             continue
-        if src.omega is not None:
-            periods.append(2 * math.pi / float(src.omega))
-        if src.shape == "pulse":
-            periods.append(float(src.period))
+        function = src.function
+        periods += [2 * math.pi / float(term.omega) for term in function.terms if term.omega != 0]
+        periods += [float(r.period) for r in function.repeats]
     if circ.omega != 0:
         periods.append(2 * math.pi / float(circ.omega))
     return periods
@@ -110,7 +109,7 @@ def test_rc_step_reaches_63_and_99_percent_at_one_and_five_time_constants():
     # are 1 - e^-1 and 1 - e^-5.
     c = circuit(
         {
-            "V1": {"voltage": "5 V", "shape": "step", "nodes": ["a", "gnd"]},
+            "V1": {"voltage": "5*step(t) V", "nodes": ["a", "gnd"]},
             "R1": {"resistor": "2 kohm", "nodes": ["a", "b"]},
             "C1": {"capacitor": "0.5 uF", "nodes": ["b", "gnd"]},
         }
@@ -154,7 +153,7 @@ def test_underdamped_series_rlc_step_overshoot_and_peak_time():
     # sec. 5-3, from memory), with w_n = 1/sqrt(LC), zeta = (R/2) sqrt(C/L).
     c = circuit(
         {
-            "V1": {"voltage": "1 V", "shape": "step", "nodes": ["a", "gnd"]},
+            "V1": {"voltage": "step(t) V", "nodes": ["a", "gnd"]},
             "R1": {"resistor": "40 ohm", "nodes": ["a", "b"]},
             "L1": {"inductor": "10 mH", "nodes": ["b", "c"]},
             "C1": {"capacitor": "1 uF", "nodes": ["c", "gnd"]},
@@ -384,7 +383,7 @@ def test_fit_reports_offset_and_rms_is_left_to_the_caller():
     # a 2 V offset on a 3 V peak sine through a resistive divider: offset 1 V, phasor 1.5 V peak
     c = circuit(
         {
-            "V1": {"voltage": "3 V", "frequency": "60 Hz", "offset": "2 V", "nodes": ["a", "gnd"]},
+            "V1": {"voltage": "2 + 3*cos(2*pi*60 Hz*t) V", "nodes": ["a", "gnd"]},
             "R1": {"resistor": "1 kohm", "nodes": ["a", "b"]},
             "R2": {"resistor": "1 kohm", "nodes": ["b", "gnd"]},
         }
@@ -405,15 +404,8 @@ def _random_circuit(rng: np.random.Generator):
     pick = lambda: [str(x) for x in rng.choice([*nodes, "gnd"], size=2, replace=False)]  # noqa: E731
     parts: dict[str, dict[str, object]] = {
         "V1": {"voltage": "5 V", "frequency": "1 kHz", "phase": "20 deg", "nodes": [nodes[0], "gnd"]},
-        "V2": {
-            "voltage": "2 V",
-            "shape": "pulse",
-            "width": "0.2 ms",
-            "period": "0.5 ms",
-            "rise": "0.05 ms",
-            "nodes": pick(),
-        },
-        "I1": {"current": "3 mA", "shape": "step", "delay": "0.3 ms", "nodes": pick()},
+        "V2": {"voltage": "2*repeat(0.5 ms, edge(t, 0.05 ms) - step(t - 0.05 ms - 0.2 ms)) V", "nodes": pick()},
+        "I1": {"current": "3*step(t - 0.3 ms) mA", "nodes": pick()},
     }
     for k, node in enumerate(nodes):  # a resistive path from every node to ground
         parts[f"Rg{k}"] = {"resistor": f"{round(float(10 ** rng.uniform(2, 4)), 1)} ohm", "nodes": [node, "gnd"]}
@@ -485,7 +477,7 @@ def test_kcl_residual_is_at_rounding_level_on_random_circuits():
         ),
         (
             {
-                "V1": {"voltage": "1 V", "shape": "pulse", "width": "1 ms", "period": "3 ms", "nodes": ["a", "gnd"]},
+                "V1": {"voltage": "repeat(3 ms, step(t) - step(t - 1 ms)) V", "nodes": ["a", "gnd"]},
                 "R1": {"resistor": "1 kohm", "nodes": ["a", "b"]},
                 "C1": {"capacitor": "1 uF", "nodes": ["b", "gnd"]},
             },
@@ -588,7 +580,7 @@ def test_steady_start_step_sits_at_low_until_its_delay():
     # v_C = low before the delay, then high - (high - low) e^{-(t - d)/RC} (first-order, from memory)
     c = circuit(
         {
-            "V1": {"voltage": "10 V", "shape": "step", "low": "2 V", "delay": "1 ms", "nodes": ["a", "gnd"]},
+            "V1": {"voltage": "2 + 8*step(t - 1 ms) V", "nodes": ["a", "gnd"]},
             "R1": {"resistor": "1 kohm", "nodes": ["a", "b"]},
             "C1": {"capacitor": "1 uF", "nodes": ["b", "gnd"]},
         },
@@ -624,15 +616,8 @@ def test_pulse_source_matches_solve_ivp():
     c = circuit(
         {
             "V1": {
-                "voltage": "5 V",
-                "shape": "pulse",
-                "low": "1 V",
-                "offset": "0.5 V",
-                "delay": "0.3 ms",
-                "rise": "0.1 ms",
-                "width": "0.4 ms",
-                "fall": "0.2 ms",
-                "period": "1.3 ms",
+                # 1.5 V from 0.3 ms on, and 4 V more in trapezoids of period 1.3 ms
+                "voltage": "1.5*step(t - 0.3 ms) + 4*repeat(1.3 ms, edge(t - 0.3 ms, 0.1 ms) - edge(t - 0.8 ms, 0.2 ms)) V",
                 "nodes": ["a", "gnd"],
             },
             "R1": {"resistor": "1 kohm", "nodes": ["a", "b"]},
@@ -664,10 +649,8 @@ def test_points_source_matches_solve_ivp():
     c = circuit(
         {
             "I1": {
-                "current": "1 A",
-                "delay": "0.1 ms",
+                "current": [["0.3 ms", "0 A"], ["0.6 ms", "2 A"], ["0.7 ms", "-1 A"], ["1.1 ms", "0.5 A"]],
                 "nodes": ["gnd", "a"],
-                "points": [["0.2 ms", "0 A"], ["0.5 ms", "2 A"], ["0.6 ms", "-1 A"], ["1 ms", "0.5 A"]],
             },
             "R1": {"resistor": "100 ohm", "nodes": ["a", "gnd"]},
             "C1": {"capacitor": "2 uF", "nodes": ["a", "gnd"]},
@@ -676,11 +659,11 @@ def test_points_source_matches_solve_ivp():
     sim = run(c)
     tp, ip = np.array([0.3e-3, 0.6e-3, 0.7e-3, 1.1e-3]), np.array([0.0, 2.0, -1.0, 0.5])
 
-    def u(t: float) -> float:  # zero before the delay, then straight lines holding the ends
-        return 0.0 if t < 0.1e-3 else float(np.interp(t, tp, ip))
+    def u(t: float) -> float:  # straight lines holding the ends
+        return float(np.interp(t, tp, ip))
 
     # I1 drives current from gnd to a, i.e. into node a
-    ref = _piecewise_solve_ivp(lambda t, v: [(u(t) - v[0] / 100) / 2e-6], [0.1e-3, *tp], sim.times, [0.0])
+    ref = _piecewise_solve_ivp(lambda t, v: [(u(t) - v[0] / 100) / 2e-6], list(tp), sim.times, [0.0])
     assert_allclose(sim.voltages["a"], ref[0], rtol=0, atol=1e-10)
     assert_allclose(sim.currents["I1"], [u(t) for t in sim.times], rtol=0, atol=1e-13)
 
@@ -689,11 +672,7 @@ def test_delayed_damped_sine_matches_solve_ivp():
     c = circuit(
         {
             "V1": {
-                "voltage": "3 V",
-                "frequency": "2 kHz",
-                "phase": "45 deg",
-                "damping": "800 Hz",
-                "delay": "0.25 ms",
+                "voltage": "3*exp(-800 1/s*(t - 0.25 ms))*cos(2*pi*2 kHz*(t - 0.25 ms) + 45 deg)*step(t - 0.25 ms) V",
                 "nodes": ["a", "gnd"],
             },
             "R1": {"resistor": "50 ohm", "nodes": ["a", "b"]},
@@ -869,7 +848,7 @@ def test_integrator_fed_a_constant_ramps():
     # its natural mode is at s = 0, where the constant source sits too.
     c = circuit(
         {
-            "V1": {"voltage": "2 V", "shape": "step", "nodes": ["in", "gnd"]},
+            "V1": {"voltage": "2*step(t) V", "nodes": ["in", "gnd"]},
             "R1": {"resistor": "10 kohm", "nodes": ["in", "m"]},
             "C1": {"capacitor": "100 nF", "nodes": ["m", "out"]},
             "U1": {"opamp": "ideal", "nodes": ["out", "gnd", "m"]},

@@ -130,7 +130,7 @@ title = "Steady start: a step with an offset and an opening switch"
 [transient]
 start = "steady"
 [parts]
-V1 = { voltage = "5 V", shape = "step", low = "1 V", offset = "0.5 V", delay = "0.2 ms", nodes = ["in", "gnd"] }
+V1 = { voltage = "1.5 + 4*step(t - 0.2 ms) V", nodes = ["in", "gnd"] }
 R1 = { resistor = "100 ohm", nodes = ["in", "a"] }
 L1 = { inductor = "10 mH", nodes = ["a", "b"] }
 R2 = { resistor = "50 ohm", nodes = ["b", "gnd"] }
@@ -144,7 +144,7 @@ claim = "15 mA"
 
 
 def test_steady_start_closed_form_and_numerical_agree():
-    # Before t = 0 the switch shorts R2: the inductor carries (offset + low)/R1 = 1.5 V/100 ohm
+    # Before t = 0 the switch shorts R2: the inductor carries the 1.5 V that ran before t = 0, over R1: 1.5 V/100 ohm
     # = 15 mA at DC (Ohm's law), and an inductor's current is continuous at the switching.
     report = handcheck.check_text(STEADY)
     assert verdicts(report) == {"iL0": "agrees"}

@@ -330,7 +330,7 @@ def test_delayed_step_against_solve_ivp():
     solution = transient_solution(
         circuit(
             """
-            V2 = { voltage = "5 V", shape = "step", delay = "1 ms", nodes = ["in", "gnd"] }
+            V2 = { voltage = "5*step(t - 1 ms) V", nodes = ["in", "gnd"] }
             R1 = { resistor = "20 ohm", nodes = ["in", "a"] }
             L1 = { inductor = "10 mH", nodes = ["a", "out"] }
             C1 = { capacitor = "10 uF", nodes = ["out", "gnd"] }
@@ -360,7 +360,7 @@ def test_points_source_against_solve_ivp():
     solution = transient_solution(
         circuit(
             """
-            V5 = { voltage = "0 V", shape = "points", points = [["0 ms", "0 V"], ["1 ms", "5 V"], ["3 ms", "5 V"], ["4 ms", "0 V"]], nodes = ["d", "gnd"] }
+            V5 = { voltage = [["0 ms", "0 V"], ["1 ms", "5 V"], ["3 ms", "5 V"], ["4 ms", "0 V"]], nodes = ["d", "gnd"] }
             R1 = { resistor = "20 ohm", nodes = ["d", "a"] }
             L1 = { inductor = "10 mH", nodes = ["a", "out"] }
             C1 = { capacitor = "10 uF", nodes = ["out", "gnd"] }
@@ -397,7 +397,7 @@ def test_pulse_train_against_solve_ivp():
     solution = transient_solution(
         circuit(
             """
-            V4 = { voltage = "1 V", shape = "pulse", low = "0 V", width = "1 ms", period = "4 ms", rise = "10 us", fall = "10 us", nodes = ["c", "gnd"] }
+            V4 = { voltage = "repeat(4 ms, edge(t, 10 us) - edge(t - 10 us - 1 ms, 10 us)) V", nodes = ["c", "gnd"] }
             R1 = { resistor = "1 kohm", nodes = ["c", "a"] }
             C1 = { capacitor = "1 uF", nodes = ["a", "gnd"] }
             """
@@ -485,7 +485,7 @@ def test_damped_delayed_sine_with_offset_against_solve_ivp():
     solution = transient_solution(
         circuit(
             """
-            V1 = { voltage = "2 V", frequency = "50 Hz", phase = "30 deg", damping = "100 Hz", delay = "2 ms", offset = "1 V", nodes = ["in", "gnd"] }
+            V1 = { voltage = "(1 + 2*exp(-100 1/s*(t - 2 ms))*cos(2*pi*50 Hz*(t - 2 ms) + 30 deg))*step(t - 2 ms) V", nodes = ["in", "gnd"] }
             R1 = { resistor = "20 ohm", nodes = ["in", "a"] }
             L1 = { inductor = "10 mH", nodes = ["a", "out"] }
             C1 = { capacitor = "10 uF", nodes = ["out", "gnd"] }
@@ -495,7 +495,7 @@ def test_damped_delayed_sine_with_offset_against_solve_ivp():
     v = solution.node_voltage("out")
     d = 2e-3
 
-    def u(time):  # the Source docstring: offset + peak exp(-damping tau) cos(w tau + phase), tau = t - delay
+    def u(time):  # the source function as written, for t >= the delay (tau = t - delay)
         return 1 + 2 * np.exp(-100 * (time - d)) * np.cos(2 * np.pi * 50 * (time - d) + np.pi / 6)
 
     times = np.linspace(d, 0.05, 193)
@@ -732,7 +732,7 @@ def test_resistive_circuit_follows_its_source():
     solution = transient_solution(
         circuit(
             """
-            V1 = { voltage = "10 V", shape = "step", delay = "1 ms", nodes = ["in", "gnd"] }
+            V1 = { voltage = "10*step(t - 1 ms) V", nodes = ["in", "gnd"] }
             R1 = { resistor = "3 kohm", nodes = ["in", "out"] }
             R2 = { resistor = "2 kohm", nodes = ["out", "gnd"] }
             """

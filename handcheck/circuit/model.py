@@ -12,77 +12,73 @@ from typing import Literal
 
 import sympy
 
+from handcheck.circuit.kinds import Kind
 from handcheck.worksheet.model import PhasorConvention
+from handcheck.worksheet.sourcefunction import SourceFunction
 
-__all__ = ["GROUND", "Circuit", "Part", "Shape", "Source", "Start"]
+__all__ = ["GROUND", "Circuit", "Part", "Source", "Start"]
 
 Start = Literal["rest", "steady"]
 
 GROUND = "gnd"
 
 
-Shape = Literal["constant", "sine", "step", "pulse", "points"]
-
-
 @dataclass(frozen=True)
 class Source:
-    """An independent source's waveform.
+    """An independent source: its exact function of time (see
+    :mod:`handcheck.worksheet.sourcefunction`), in V or A.
 
-    ``peak`` is the amplitude: the peak of a sinusoid ``peak*cos(omega*t + phase)``,
-    the value of a constant or step, the high level of a pulse train. ``omega`` is
-    None for every shape but "sine". ``rms_written`` records that the amplitude was
-    written as an rms value.
-
-    Time-domain keys (all exact, in SI units; see docs/transients.md). With
-    tau = t - delay, a source is zero before ``delay`` when the circuit starts from
-    rest, and from ``delay`` on it is:
-
-    - "constant", "step": ``offset + peak``;
-    - "sine": ``offset + peak*exp(-damping*tau)*cos(omega*tau + phase)``;
-    - "pulse": ``offset + low`` plus ``peak - low`` times a trapezoid train: rising
-      over ``rise`` from tau = k*period, high for ``width`` (measured from the end of
-      the rise), falling over ``fall``;
-    - "points": ``offset`` plus the straight-line interpolation of ``points``
-      (time, value) pairs (time measured from ``delay``), holding the last value.
-
-    A "step" differs from a "constant" only when the circuit starts in its own steady
-    state: a constant source was on before t = 0, a step sat at ``offset + low``
-    until ``delay``. In a steady start, constant and undamped sinusoidal sources run
-    for all time (a delay only shifts a sinusoid's phase) and ``initial`` values are
-    not used.
+    The steady-state drive is read exactly from the function: each term
+    ``A*cos(w*t + phi)`` or ``A*sin(w*t + phi)`` that runs for all t >= 0 drives the
+    frequency w with the peak phasor ``A*exp(j*phi)`` (``-j*A*exp(j*phi)`` for a sine),
+    each constant term drives DC; terms that decay, start later or repeat drive no
+    phasor. ``rms_written`` records that the amplitude was written as an rms value.
     """
 
-    peak: sympy.Expr
-    omega: sympy.Expr | None = None
-    phase: sympy.Expr = sympy.Integer(0)
+    function: SourceFunction
     rms_written: bool = False
-    shape: Shape = "constant"
-    offset: sympy.Expr = sympy.Integer(0)
-    delay: sympy.Expr = sympy.Integer(0)
-    damping: sympy.Expr = sympy.Integer(0)
-    low: sympy.Expr = sympy.Integer(0)
-    width: sympy.Expr | None = None
-    period: sympy.Expr | None = None
-    rise: sympy.Expr = sympy.Integer(0)
-    fall: sympy.Expr = sympy.Integer(0)
-    points: tuple[tuple[sympy.Expr, sympy.Expr], ...] = ()
 
     @property
-    def steady_sinusoid(self) -> bool:
-        """True for an undamped sinusoid: one that has a steady-state phasor."""
-        return self.shape == "sine" and self.damping == 0
+    def omega(self) -> sympy.Expr | None:
+        """The one frequency (rad/s) of the source's steady sinusoids, or None."""
+        return self.function.omega
 
-    def phasor(self, convention: PhasorConvention) -> sympy.Expr:
-        """The source's phasor in the given convention (a constant's phasor is its value)."""
-        if self.omega is None:
-            return self.peak + self.offset
-        magnitude = self.peak if convention == "peak" else self.peak / sympy.sqrt(2)
-        return magnitude * sympy.exp(sympy.I * self.phase)
+    @property
+    def frequencies(self) -> tuple[sympy.Expr, ...]:
+        """Every frequency (rad/s, > 0) of the source's steady sinusoids."""
+        return self.function.frequencies
+
+    @property
+    def dc(self) -> sympy.Expr:
+        """The constant part of the steady drive."""
+        return self.function.steady(sympy.Integer(0))
+
+    def steady(self, omega: sympy.Expr) -> sympy.Expr:
+        """The exact peak phasor of the drive at ``omega`` rad/s (0: the DC value)."""
+        return self.function.steady(omega)
+
+    def phasor(self, convention: PhasorConvention, omega: sympy.Expr | None = None) -> sympy.Expr:
+        """The source's phasor at ``omega`` in the given convention.
+
+        A source with no sinusoid gives its DC value at any frequency (the value a
+        formula sees for its id); ``omega`` defaults to the source's own frequency.
+        """
+        if not self.frequencies:
+            return self.dc
+        if omega is None:
+            omega = self.frequencies[0]
+        value = self.steady(omega)
+        if omega == 0:
+            return value
+        return value if convention == "peak" else value / sympy.sqrt(2)
 
     @property
     def rms(self) -> sympy.Expr:
-        """The rms value of the waveform."""
-        return self.peak if self.omega is None else self.peak / sympy.sqrt(2)
+        """The rms value of the steady drive (DC and every sinusoid together)."""
+        total = self.dc**2
+        for omega in self.frequencies:
+            total += sympy.Abs(self.steady(omega)) ** 2 / 2
+        return sympy.sqrt(total)
 
 
 @dataclass(frozen=True)
@@ -95,7 +91,7 @@ class Part:
     """
 
     id: str
-    kind: str
+    kind: Kind
     nodes: tuple[str, ...]
     value: sympy.Expr
     source: Source | None = None
@@ -103,10 +99,6 @@ class Part:
     inductors: tuple[str, ...] = ()
     initial: sympy.Expr | None = None
     line: int | None = None
-
-    @property
-    def two_terminal(self) -> bool:
-        return self.kind not in ("opamp", "transformer", "coupling")
 
 
 @dataclass(frozen=True)
@@ -143,8 +135,4 @@ class Circuit:
         source = part.source
         if source is None:
             return False
-        if source.omega is None:
-            return self.omega == 0 and source.shape not in ("pulse", "points")
-        if not source.steady_sinusoid:
-            return False
-        return bool(sympy.simplify(source.omega - self.omega) == 0)
+        return source.steady(self.omega) != 0

@@ -195,22 +195,13 @@ def settling(subject: Circuit | Simulation, tolerance: float = 1e-6) -> Settling
         circuit, modes, sim = subject.circuit, subject.modes, subject
     else:
         circuit, modes, sim = subject, state_model(subject).modes, None
-    model_exo_damping = [
-        float(p.source.damping) for p in circuit.parts if p.source is not None and p.source.damping != 0
-    ]
+    model_exo_damping = [float(d) for p in circuit.parts if p.source is not None for d in p.source.function.decays]
     omega = float(circuit.omega)
     rate, slowest, _, lasting = slowest_rate(modes, omega, model_exo_damping)
     after = (
         sim.settles_from
         if sim is not None
-        else max(
-            (
-                float(p.source.delay) + (float(p.source.points[-1][0]) if p.source.shape == "points" else 0.0)
-                for p in circuit.parts
-                if p.source is not None
-            ),
-            default=0.0,
-        )
+        else max((float(p.source.function.last_start) for p in circuit.parts if p.source is not None), default=0.0)
     )
     if lasting:
         seconds = math.inf

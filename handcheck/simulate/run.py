@@ -3,7 +3,7 @@
 Method
 ------
 The circuit equations ``E x' + G x = B u(t)`` (:mod:`.assemble`) are joined by the
-sources' own linear generator ``w' = S w``, ``u = H w`` (:mod:`.waveforms`), which
+sources' own linear generator ``w' = S w``, ``u = H w`` (:mod:`.generators`), which
 makes the whole system homogeneous,
 
     [E 0] [x]'   [-G  B H] [x]
@@ -43,7 +43,7 @@ from handcheck.circuit.model import Circuit
 from handcheck.errors import CircuitError, LimitError
 from handcheck.simulate.assemble import Equations, assemble
 from handcheck.simulate.reduce import reduce_pencil
-from handcheck.simulate.waveforms import Breakpoint, Exosystem, breakpoints, exosystem
+from handcheck.simulate.generators import Breakpoint, Exosystem, breakpoints, exo_step, exosystem
 
 __all__ = [
     "FIT_PERIODS",
@@ -195,8 +195,6 @@ class Simulation:
     settles_from : float
         The last isolated breakpoint (a delay or the last listed point), from which
         the transient is counted.
-    fit_periods : int
-        Periods (time constants for DC) at the end of a default run set aside for a fit.
     breakpoints : tuple of float
         Times at which a step was split for a source breakpoint.
     index : int
@@ -215,7 +213,6 @@ class Simulation:
     modes: np.ndarray
     rules: str
     settles_from: float
-    fit_periods: int
     breakpoints: tuple[float, ...] = ()
     index: int = 1
     samples_per_period: float = math.inf
@@ -277,18 +274,16 @@ def _steady_before(circuit: Circuit, exo: Exosystem) -> tuple[np.ndarray, list[s
             "the one of smallest size was taken"
         )
     for k, plan in enumerate(exo.plans):
-        if plan.before_phasor is None:
-            continue
-        omega, U = plan.before_phasor
-        M = 1j * omega * eq.E + eq.G
-        if np.linalg.cond(M) > 1e13:
-            raise CircuitError(
-                f"before t = 0 the circuit has no steady state at the frequency of {plan.id}: it resonates there "
-                "without loss",
-                (plan.id,),
-                file=circuit.path,
-            )
-        x = x + np.linalg.solve(M, eq.B[:, k] * U).real
+        for omega, U in plan.before_phasors:
+            M = 1j * omega * eq.E + eq.G
+            if np.linalg.cond(M) > 1e13:
+                raise CircuitError(
+                    f"before t = 0 the circuit has no steady state at the frequency of {plan.id}: it resonates "
+                    "there without loss",
+                    (plan.id,),
+                    file=circuit.path,
+                )
+            x = x + np.linalg.solve(M, eq.B[:, k] * U).real
     return x, notes
 
 
@@ -313,34 +308,12 @@ def _rest_state(circuit: Circuit, eq: Equations) -> np.ndarray:
 
 
 def _periods(circuit: Circuit, exo: Exosystem) -> list[float]:
-    periods = [2 * math.pi / plan.omega for plan in exo.plans if plan.omega > 0]
-    periods += [plan.period for plan in exo.plans if plan.period > 0]
+    periods = [2 * math.pi / w for plan in exo.plans for w in plan.frequencies]
+    periods += [p for plan in exo.plans for p in plan.periods]
     omega = float(circuit.omega)
     if omega > 0:
         periods.append(2 * math.pi / omega)
     return periods
-
-
-def exo_step(exo: Exosystem, dt: float) -> np.ndarray:
-    """The sources' own transition matrix ``expm(S dt)``, in closed form.
-
-    A level is kept; an oscillator turns by ``omega dt`` and shrinks by
-    ``exp(-damping dt)``; a ramp's level gains ``slope dt``. Closed forms keep the
-    sinusoids exact over any number of steps, independent of the circuit's own
-    (possibly very fast) modes.
-    """
-    out = np.zeros((exo.size, exo.size))
-    for plan in exo.plans:
-        k = plan.offset
-        out[k, k] = 1.0
-        if plan.size == 3:
-            shrink = math.exp(-plan.damping * dt)
-            c, s = math.cos(plan.omega * dt), math.sin(plan.omega * dt)
-            out[k + 1 : k + 3, k + 1 : k + 3] = shrink * np.array([[c, -s], [s, c]])
-        elif plan.size == 2:
-            out[k, k + 1] = dt
-            out[k + 1, k + 1] = 1.0
-    return out
 
 
 @dataclass(frozen=True)
@@ -479,14 +452,14 @@ def simulate(
     notes: list[str] = []
 
     # ---- time scale, span and sample interval -----------------------------------
-    damping = [plan.damping for plan in exo.plans if plan.damping > 0]
+    damping = [d for plan in exo.plans for d in plan.decays]
     rate, _, held, lasting = slowest_rate(model.modes, omega, damping)
     settles_from = max((plan.settles_from for plan in exo.plans), default=0.0)
     settle = math.log(1 / tolerance) / rate if math.isfinite(rate) else 0.0
     if lasting:
         settle = math.inf
     periods = _periods(circuit, exo)
-    pulses = [plan.period for plan in exo.plans if plan.period > 0]
+    pulses = [p for plan in exo.plans for p in plan.periods]
     if omega > 0:
         unit, unit_name = 2 * math.pi / omega, "period"
     elif pulses:
@@ -534,7 +507,7 @@ def simulate(
             if least > max_samples:
                 raise LimitError(
                     f"a span of {span:g} s needs {least} samples at {MIN_PER_PERIOD} per period of the fastest "
-                    f"source; the limit is {max_samples}: shorten the span or raise max_samples",
+                    f"source; the limit is {max_samples}: shorten [transient] span",
                     file=circuit.path,
                 )
             total = max_samples
@@ -615,7 +588,6 @@ def simulate(
         modes=model.modes,
         rules=rules,
         settles_from=settles_from,
-        fit_periods=FIT_PERIODS,
         breakpoints=tuple(p.time for p in points),
         index=model.index,
         samples_per_period=per_period,

@@ -4,11 +4,11 @@ A response in the s-domain arrives here as a sum of *pieces*
 
     Y(s) = sum_i  w_i * N_i(s) / (D_i(s) * S_i(s)) * exp(-s d_i)
 
-with exact scalar weights ``w_i`` (any exact sympy number, e.g. ``cos(22.1 deg)``
-times a peak), ``N_i`` and monic ``D_i`` polynomials with exact coefficients (over
-the rationals or the circuit's algebraic number field), ``S_i`` either 1 or one
-quadratic ``(s + a)**2 + w**2`` whose coefficients are not in that field (a
-sinusoid at ``w = 2*pi*50``), and exact delays ``d_i``.
+with exact scalar weights ``w_i`` (any exact sympy number, complex allowed, e.g.
+``exp(j*22.1 deg)`` times a peak), ``N_i`` and monic ``D_i`` polynomials with exact
+coefficients (over the rationals or the circuit's algebraic number field), ``S_i``
+either 1 or ``(s - q)**m`` for one exact pole ``q`` that is not in that field (a
+sinusoid at ``w = 2*pi*50``: ``q = j*100*pi``), and exact delays ``d_i``.
 
 Each distinct rational function is expanded once. Its denominator is split over a
 shared book of exact irreducible factors (:mod:`handcheck.solve.roots`), so every
@@ -49,11 +49,11 @@ __all__ = ["Piece", "PoleBook", "Shape", "inverse_laplace"]
 
 @dataclass(frozen=True)
 class Shape:
-    """``num(s) / (den(s) * ((s + a)**2 + w**2))``; ``sine = (a, w)`` or None for no such factor."""
+    """``num(s) / (den(s) * (s - q)**m)``; ``extra = (q, m)``, or None for no such factor."""
 
     num: Any  # sympy.Poly
     den: Any  # sympy.Poly, monic
-    sine: tuple[Any, Any] | None = None
+    extra: tuple[Any, int] | None = None
 
 
 @dataclass(frozen=True)
@@ -88,14 +88,14 @@ class PoleBook:
 
     def __init__(self, factors: Sequence[Factor] = ()) -> None:
         self.factors: list[Factor] = list(factors)
-        self.sines: list[tuple[Any, Any, tuple[_Pole, _Pole]]] = []
+        self.extras: list[tuple[Any, _Pole]] = []
 
     def pole(self, key: tuple[str, int, int]) -> _Pole:
         kind, i, j = key
         if kind == "f":
             root: Root = self.factors[i].roots[j]
             return _Pole(root.value, root.approx, root.real_sign, root.imag_sign)
-        return self.sines[i][2][j]
+        return self.extras[i][1]
 
     def split(self, den: sympy.Poly, deadline: float | None) -> list[tuple[int, int]]:
         """Exact factorisation of ``den`` over the book: ``[(factor index, multiplicity)]``."""
@@ -121,20 +121,34 @@ class PoleBook:
                 out.append((len(self.factors) - 1, mult))
         return out
 
-    def sine_index(self, a: Any, w: Any) -> int:
+    def extra_index(self, q: Any) -> int:
+        """The index of the exact pole ``q`` (outside the circuit's field) in the book."""
         import mpmath
         import sympy
 
-        for i, (a0, w0, _) in enumerate(self.sines):
-            if sympy.simplify(a - a0) == 0 and sympy.simplify(w - w0) == 0:
+        for i, (q0, _) in enumerate(self.extras):
+            if q == q0 or sympy.simplify(q - q0) == 0:
                 return i
-        upper = -a + sympy.I * w
-        lower = -a - sympy.I * w
+        re, im = sympy.re(q), sympy.im(q)
         with mpmath.workdps(WORK_DPS):
-            ra = approx(-a).real
-        sign = 0 if ra == 0 else (1 if ra > 0 else -1)
-        self.sines.append((a, w, (_Pole(upper, approx(upper), sign, 1), _Pole(lower, approx(lower), sign, -1))))
-        return len(self.sines) - 1
+            value = approx(q)
+        self.extras.append((q, _Pole(q, value, _sign(re), _sign(im))))
+        return len(self.extras) - 1
+
+
+def _sign(x: Any) -> int:
+    """The exact sign of a real exact number."""
+    if x == 0:
+        return 0
+    if x.is_positive:
+        return 1
+    if x.is_negative:
+        return -1
+    import mpmath
+
+    with mpmath.workdps(WORK_DPS):
+        value = approx(x).real
+    return 0 if value == 0 else (1 if value > 0 else -1)
 
 
 def _check(deadline: float | None) -> None:
@@ -201,6 +215,13 @@ def _taylor(coeffs_high: list[Any], p: Any, order: int, exact: bool) -> list[Any
     return out
 
 
+def _power_series(c: Any, k: int, order: int) -> list[Any]:
+    """Taylor coefficients of ``(c + e)**k`` in ``e``, up to ``order`` terms."""
+    import sympy
+
+    return [_tidy(sympy.binomial(k, j) * c ** (k - j)) if j <= k else 0 for j in range(order)]
+
+
 def _mul_series(a: list[Any], b: list[Any], order: int, exact: bool) -> list[Any]:
     out = []
     for k in range(order):
@@ -244,15 +265,16 @@ def _expand(shape: Shape, book: PoleBook, deadline: float | None) -> _Expansion:
     den = list(shape.den.all_coeffs())
     if shape.num.is_zero:
         return _Expansion((), (), sympy.Integer(0))
-    # full denominator (exact): den * sine quadratic
+    # full denominator (exact): den * (s - q)**m
     full = den
-    if shape.sine is not None:
-        a, w = shape.sine
-        quad = [sympy.Integer(1), 2 * a, a * a + w * w]
-        full = [sympy.Integer(0)] * (len(den) + 2)
-        for i, c in enumerate(den):
-            for j, q in enumerate(quad):
-                full[i + j] = full[i + j] + c * q
+    if shape.extra is not None:
+        q, m = shape.extra
+        for _ in range(m):
+            nxt = [sympy.Integer(0)] * (len(full) + 1)
+            for i, c in enumerate(full):
+                nxt[i] += c
+                nxt[i + 1] -= c * q
+            full = nxt
         full = [_tidy(c) for c in full]
     # polynomial part by long division (full is monic)
     impulses: list[tuple[int, Any]] = []
@@ -280,9 +302,9 @@ def _expand(shape: Shape, book: PoleBook, deadline: float | None) -> _Expansion:
     for i, mult in split:
         for j in range(len(book.factors[i].roots)):
             poles.append((("f", i, j), mult))
-    if shape.sine is not None:
-        k = book.sine_index(*shape.sine)
-        poles += [(("q", k, 0), 1), (("q", k, 1), 1)]
+    if shape.extra is not None:
+        k = book.extra_index(shape.extra[0])
+        poles.append((("q", k, 0), shape.extra[1]))
 
     terms: list[tuple[tuple[str, int, int], int, Any]] = []
     for key, m in poles:
@@ -290,18 +312,15 @@ def _expand(shape: Shape, book: PoleBook, deadline: float | None) -> _Expansion:
         pole = book.pole(key)
         if pole.exact:
             p = pole.value
-            if key[0] == "q":
-                other = book.pole((key[0], key[1], 1 - key[2])).value
-                q0 = _tidy(_taylor(den, p, 1, True)[0] * (p - other))
-                coeffs = [_tidy(_taylor(num, p, 1, True)[0] / q0)]
+            nt = _taylor(num, p, m, True)
+            if key[0] == "q":  # the extra pole: the whole of den is the rest
+                dt = _taylor(den, p, m, True)
             else:
-                nt = _taylor(num, p, m, True)
                 dt = _taylor(den, p, 2 * m, True)[m:]
-                if shape.sine is not None:
-                    a, w = shape.sine
-                    st = [_tidy((p + a) ** 2 + w * w), _tidy(2 * (p + a)), sympy.Integer(1)]
-                    dt = _mul_series(dt, st, m, True)
-                coeffs = _div_series(nt, dt, m, True)
+                if shape.extra is not None:
+                    q, mq = shape.extra
+                    dt = _mul_series(dt, _power_series(_tidy(p - q), mq, m), m, True)
+            coeffs = _div_series(nt, dt, m, True)
         else:
             with mpmath.workdps(WORK_DPS):
                 p = pole.approx

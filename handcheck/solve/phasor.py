@@ -166,7 +166,7 @@ def solve(circuit: Circuit, system: MnaSystem | None = None) -> Solution:
         check_dc(circuit)
     system = system or stamp(circuit)
     u = {
-        ident: (circuit.part(ident).source.phasor(circuit.phasors) if circuit.active(circuit.part(ident)) else sympy.Integer(0))  # type: ignore[union-attr]
+        ident: (circuit.part(ident).source.phasor(circuit.phasors, circuit.omega) if circuit.active(circuit.part(ident)) else sympy.Integer(0))  # type: ignore[union-attr]
         for ident in system.sources
     }
     active = [k for k, ident in enumerate(system.sources) if u[ident] != 0]

@@ -54,13 +54,13 @@ RC sections give one time constant, not a double pole. Its degree is the order.
 from __future__ import annotations
 
 import dataclasses
-import itertools
 import time
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
 from handcheck.circuit.mna import MnaSystem, stamp
 from handcheck.circuit.model import GROUND, Circuit, Part, Source
+from handcheck.worksheet.sourcefunction import SourceFunction, SourceTerm
 from handcheck.errors import CircuitError, LimitError, TimeLimitError
 from handcheck.solve.laplace import Piece, PoleBook, Shape, compact, inverse_laplace
 from handcheck.solve.roots import Factor, irreducible_factors, roots_of_irreducible
@@ -88,7 +88,6 @@ MAX_ORDER = 40
 TIME_LIMIT = 60.0
 #: Pulse trains are expanded over this many periods when no horizon is given.
 DEFAULT_PERIODS = 20
-_MAX_PERIODS = 2000
 _SEED = 20240607
 
 
@@ -99,23 +98,12 @@ _SEED = 20240607
 
 @dataclass(frozen=True)
 class _Basis:
-    """An elementary transform ``num/den`` (polynomials over QQ), or with a transcendental sine factor."""
+    """An elementary transform ``num/den`` (polynomials over QQ), times ``1/(s - q)**m`` when
+    ``extra = (q, m)`` holds an exact pole outside the rationals' reach (``q = j*100*pi``)."""
 
     num: tuple[Any, ...]  # coefficients, highest power first
     den: tuple[Any, ...]
-    sine: tuple[Any, Any] | None = None
-
-
-def _basis_step() -> _Basis:
-    import sympy
-
-    return _Basis((sympy.Integer(1),), (sympy.Integer(1), sympy.Integer(0)))
-
-
-def _basis_ramp() -> _Basis:
-    import sympy
-
-    return _Basis((sympy.Integer(1),), (sympy.Integer(1), sympy.Integer(0), sympy.Integer(0)))
+    extra: tuple[Any, int] | None = None
 
 
 def _basis_one() -> _Basis:
@@ -124,105 +112,72 @@ def _basis_one() -> _Basis:
     return _Basis((sympy.Integer(1),), (sympy.Integer(1),))
 
 
-def _basis_sine(a: Any, w: Any, numerator_s: bool) -> _Basis:
-    """``s/((s+a)**2 + w**2)`` or ``1/((s+a)**2 + w**2)``."""
-    import sympy
-
-    num = (sympy.Integer(1), sympy.Integer(0)) if numerator_s else (sympy.Integer(1),)
-    if a.is_Rational and sympy.expand(w * w).is_Rational:
-        return _Basis(num, (sympy.Integer(1), 2 * a, sympy.expand(a * a + w * w)))
-    return _Basis(num, (sympy.Integer(1),), (a, w))
-
-
 _Wave = tuple[Any, _Basis, Any]  # (weight, basis, delay)
 
 
-def _sine_pieces(peak: Any, a: Any, w: Any, phase: Any, delay: Any) -> list[_Wave]:
-    """peak*exp(-a tau)*cos(w tau + phase): transform peak*((s+a)cos(phase) - w sin(phase))/((s+a)^2 + w^2)."""
+def _term_waves(term: SourceTerm) -> list[_Wave]:
+    """The transform of ``Re[X tau**n exp((-a + j w) tau)]`` from ``start`` on.
+
+    ``L{tau**n exp(p tau)} = n!/(s - p)**(n+1)`` (standard table; e.g. Kreyszig,
+    *Advanced Engineering Mathematics*, 10th ed., sec. 6.9, from memory). With a and
+    w**2 rational the conjugate pair is one rational function: with
+    ``(s + a + j w)**(n+1) = P(s) + j Q(s)``, the transform is
+    ``n! (Re X * P - Im X * Q) / ((s + a)**2 + w**2)**(n+1)``. Otherwise each half
+    keeps its exact pole.
+    """
     import sympy
 
-    cos, sin = sympy.cos(phase), sympy.sin(phase)
-    out: list[_Wave] = []
-    if cos != 0:
-        out.append((peak * cos, _basis_sine(a, w, True), delay))
-    rest = sympy.expand(peak * (a * cos - w * sin))
-    if rest != 0:
-        out.append((rest, _basis_sine(a, w, False), delay))
-    return out
-
-
-def _source_waves(source: Source, start: str, horizon: Any) -> list[_Wave]:
-    """The source's waveform for t >= 0 as weighted, delayed elementary transforms."""
-    import sympy
-
+    s = sympy.Symbol("s", real=True)
+    n, a, w, x = term.power, term.decay, term.omega, term.phasor
+    fact = sympy.factorial(n)
     zero = sympy.Integer(0)
-    d = source.delay
-    eternal = start == "steady" and (source.shape == "constant" or source.steady_sinusoid)
-    out: list[_Wave] = []
+    if w == 0 and a.is_Rational:
+        den = sympy.Poly((s + a) ** (n + 1), s).all_coeffs()
+        return [(x * fact, _Basis((sympy.Integer(1),), tuple(den)), term.start)]
+    if w != 0 and a.is_Rational and sympy.expand(w * w).is_Rational:
+        den = tuple(sympy.Poly(((s + a) ** 2 + w * w) ** (n + 1), s).all_coeffs())
+        p_part, q_part = sympy.expand((s + a + sympy.I * w) ** (n + 1)).as_real_imag()
+        re_x, im_x = sympy.expand_complex(x).as_real_imag()
+        out: list[_Wave] = []
+        p_poly = sympy.Poly(sympy.expand(p_part), s)
+        q_poly = sympy.Poly(sympy.expand(q_part / w), s)
+        if re_x != 0:
+            out.append((compact(re_x * fact), _Basis(tuple(p_poly.all_coeffs()), den), term.start))
+        if im_x != 0:
+            out.append((compact(-im_x * fact * w), _Basis(tuple(q_poly.all_coeffs()), den), term.start))
+        return out
+    one = (sympy.Integer(1),)
+    pole = -a + sympy.I * w
+    re_x, im_x = sympy.expand_complex(x).as_real_imag()
+    x = re_x + sympy.I * im_x  # cos and sin of the phase, not exp(j phase): one canonical form
+    if w == 0:
+        return [(x * fact, _Basis(one, one, (pole, n + 1)), term.start)]
+    half = fact / 2
+    return [
+        (compact(x * half), _Basis(one, one, (pole, n + 1)), term.start),
+        (compact(sympy.conjugate(x) * half), _Basis(one, one, (sympy.conjugate(pole), n + 1)), term.start),
+    ] if x != zero else []
 
-    def step(weight: Any, at: Any) -> None:
-        if weight != 0:
-            out.append((weight, _basis_step(), at))
 
-    def ramp(slope: Any, at: Any) -> None:
-        if slope != 0:
-            out.append((slope, _basis_ramp(), at))
+def _source_waves(source: Source, horizon: Any) -> list[_Wave]:
+    """The source's function for t >= 0 as weighted, delayed elementary transforms.
 
-    shape = source.shape
-    if shape == "constant" or (shape == "step" and start == "rest"):
-        step(source.offset + source.peak, zero if eternal else d)
-    elif shape == "step":  # steady start: at offset + low until the delay
-        step(source.offset + source.low, zero)
-        step(source.peak - source.low, d)
-    elif shape == "sine":
-        assert source.omega is not None
-        if eternal:
-            step(source.offset, zero)
-            out += _sine_pieces(source.peak, zero, source.omega, source.phase - source.omega * d, zero)
-        else:
-            step(source.offset, d)
-            out += _sine_pieces(source.peak, source.damping, source.omega, source.phase, d)
-    elif shape == "pulse":
-        assert source.period is not None and source.width is not None
-        step(source.offset + source.low, d)
-        height = source.peak - source.low
-        period, rise, width, fall = source.period, source.rise, source.width, source.fall
-        if height != 0:
-            count = 0
-            k = 0
-            while d + k * period <= horizon:
-                base = d + k * period
-                if rise == 0:
-                    step(height, base)
-                else:
-                    ramp(height / rise, base)
-                    ramp(-height / rise, base + rise)
-                if fall == 0:
-                    step(-height, base + rise + width)
-                else:
-                    ramp(-height / fall, base + rise + width)
-                    ramp(height / fall, base + rise + width + fall)
-                k += 1
-                count += 1
-                if count > _MAX_PERIODS:
-                    raise LimitError(
-                        f"the pulse train would need more than {_MAX_PERIODS} periods up to t = {horizon} s; "
-                        "ask for an earlier horizon (`until`)"
-                    )
-    elif shape == "points":
-        points = source.points
-        step(source.offset + points[0][1], d)
-        previous = zero
-        for (t0, v0), (t1, v1) in itertools.pairwise(points):
-            slope = (v1 - v0) / (t1 - t0)
-            ramp(slope - previous, d + t0)
-            previous = slope
-        ramp(-previous, d + points[-1][0])
-    # merge equal (basis, delay) pairs
+    Repeats are written out for the periods that start up to ``horizon``.
+    """
+    import sympy
+
+    terms, _ = source.function.expanded(horizon if horizon is not None else sympy.Integer(0))
     merged: dict[tuple[_Basis, Any], Any] = {}
-    for weight, basis, at in out:
-        merged[(basis, at)] = merged.get((basis, at), zero) + weight
-    return [(sympy.expand(w), b, at) for (b, at), w in merged.items() if sympy.expand(w) != 0]
+    zero = sympy.Integer(0)
+    for term in terms:
+        for weight, basis, at in _term_waves(term):
+            merged[(basis, at)] = merged.get((basis, at), zero) + weight
+    out = []
+    for (basis, at), weight in merged.items():
+        weight = compact(sympy.expand(weight)) if not weight.is_Rational else weight
+        if weight != 0:
+            out.append((weight, basis, at))
+    return out
 
 
 # --------------------------------------------------------------------------
@@ -241,7 +196,12 @@ def _rest_state(circuit: Circuit) -> dict[str, Any]:
 
 
 def _steady_state(circuit: Circuit) -> dict[str, Any]:
-    """Capacitor voltages and inductor currents at t = 0- of the circuit in its earlier steady state."""
+    """Capacitor voltages and inductor currents at t = 0- of the circuit in its earlier steady state.
+
+    Before t = 0 each source is the part of its function that ran for all time
+    (constants and sinusoids outside every step, edge and repeat); the state is the
+    DC solution plus, per frequency, ``Re(X)`` of the phasor solution.
+    """
     import sympy
 
     from handcheck.solve import phasor
@@ -250,15 +210,6 @@ def _steady_state(circuit: Circuit) -> dict[str, Any]:
     before = [dataclasses.replace(p, value=1 - p.value) if p.kind == "switch" else p for p in circuit.parts]
     reactive = [p for p in before if p.kind in ("capacitor", "inductor")]
     state = {p.id: zero for p in reactive}
-
-    def dc_value(source: Source) -> Any:
-        if source.shape == "constant":
-            return source.peak + source.offset
-        if source.steady_sinusoid:
-            return source.offset
-        if source.shape == "step":
-            return source.offset + source.low
-        return zero
 
     def solve(parts: list[Part], omega: Any, what: str) -> Any:
         pre = dataclasses.replace(circuit, parts=tuple(parts), omega=omega, phasors="peak")
@@ -280,34 +231,29 @@ def _steady_state(circuit: Circuit) -> dict[str, Any]:
                 value = sympy.expand_complex(value).as_real_imag()[0]
             state[p.id] = state[p.id] + value
 
-    dc_parts = []
-    for p in before:
-        if p.source is not None:
-            value = dc_value(p.source)
-            dc_parts.append(dataclasses.replace(p, value=value, source=Source(peak=value)))
-        else:
-            dc_parts.append(p)
-    collect(solve(dc_parts, zero, "at DC"), False)
+    earlier = {p.id: p.source.function.before_zero() for p in before if p.source is not None}
 
+    def driven(omega: Any) -> list[Part]:
+        out = []
+        for p in before:
+            if p.source is not None:
+                value = earlier[p.id].steady(omega)
+                if omega == 0:
+                    function = SourceFunction((SourceTerm(value, before_zero=True),))
+                else:
+                    function = SourceFunction((SourceTerm(value, omega=omega, before_zero=True),))
+                p = dataclasses.replace(p, source=Source(function))
+            out.append(p)
+        return out
+
+    collect(solve(driven(zero), zero, "at DC"), False)
     omegas: list[Any] = []
-    for p in before:
-        if p.source is not None and p.source.steady_sinusoid:
-            w = p.source.omega
+    for function in earlier.values():
+        for w in function.frequencies:
             if not any(sympy.simplify(w - o) == 0 for o in omegas):
                 omegas.append(w)
     for w in omegas:
-        ac_parts = []
-        for p in before:
-            src = p.source
-            if src is not None:
-                if src.steady_sinusoid and sympy.simplify(src.omega - w) == 0:  # type: ignore[operator]
-                    src = Source(peak=src.peak, omega=w, phase=src.phase - w * src.delay, shape="sine")
-                else:
-                    src = Source(peak=zero)
-                ac_parts.append(dataclasses.replace(p, value=src.peak, source=src))
-            else:
-                ac_parts.append(p)
-        collect(solve(ac_parts, w, f"at {sympy.N(w / (2 * sympy.pi), 6)} Hz"), True)
+        collect(solve(driven(w), w, f"at {sympy.N(w / (2 * sympy.pi), 6)} Hz"), True)
     return {k: compact(v) for k, v in state.items()}
 
 
@@ -440,10 +386,10 @@ class TransientSolution:
     def node_voltage(self, name: str) -> TimeFunction:
         """The voltage of a node to ground, ``v(name)``."""
         if name == GROUND:
-            return TimeFunction((), horizon=self.valid, name="v(gnd)")
+            return TimeFunction((), horizon=self.valid, name="voltage(gnd)")
         if name not in self.system.nodes:
             raise CircuitError(f'there is no node "{name}" in the circuit', file=self.circuit.path)
-        return self._function(f"v({name})", _node_form(self.system, name), [])
+        return self._function(f"voltage({name})", _node_form(self.system, name), [])
 
     def _part(self, ident: str) -> Part:
         try:
@@ -459,12 +405,12 @@ class TransientSolution:
                 f"{ident} is a coupling; it has no voltage of its own", (ident,), file=self.circuit.path, line=part.line
             )
         if part.kind == "opamp":
-            return self._function(f"v({ident})", _node_form(self.system, part.nodes[0]), [])
+            return self._function(f"voltage({ident})", _node_form(self.system, part.nodes[0]), [])
         form = _node_form(self.system, part.nodes[0])
         for k, (c0, c1) in _node_form(self.system, part.nodes[1]).items():
             a0, a1 = form.get(k, (0, 0))
             form[k] = (a0 - c0, a1 - c1)
-        return self._function(f"v({ident})", form, [])
+        return self._function(f"voltage({ident})", form, [])
 
     def part_current(self, ident: str) -> TimeFunction:
         """The current entering ``nodes[0]`` of a part (op-amp: output current; transformer: primary)."""
@@ -472,7 +418,7 @@ class TransientSolution:
 
         part = self._part(ident)
         system = self.system
-        name = f"i({ident})"
+        name = f"current({ident})"
         kind = part.kind
         if ident in system.branches:
             return self._function(name, {system.branches[ident]: (1, 0)}, [])
@@ -505,7 +451,7 @@ class TransientSolution:
             return self._function(name, {system.branches[str(part.control)]: (part.value, 0)}, [])
         if kind == "current":
             assert part.source is not None
-            waves = _source_waves(part.source, self.circuit.start, self.horizon)
+            waves = _source_waves(part.source, self.horizon)
             return self._function(name, {}, waves)
         raise CircuitError(
             f"{ident} is a {kind}; it has no current of its own", (ident,), file=self.circuit.path, line=part.line
@@ -677,7 +623,7 @@ def _shape(num: Any, den: Any, basis: _Basis) -> Shape:
     g = n.gcd(d)
     n, d = n.exquo(g), d.exquo(g)
     lc = d.LC()
-    return Shape(n.quo_ground(lc), d.monic(), basis.sine)
+    return Shape(n.quo_ground(lc), d.monic(), basis.extra)
 
 
 def _to_time(value: Any) -> Any:
@@ -698,6 +644,30 @@ def _to_time(value: Any) -> Any:
     raise TypeError(f"a time must be a number, not {type(value).__name__}")
 
 
+def _horizon(circuit: Circuit, until: Any) -> tuple[Any, Any]:
+    """The time up to which repeats are written out, and the first period start left out.
+
+    Without ``until``: :data:`DEFAULT_PERIODS` periods of the slowest repeat after
+    the latest start of any source. (None, None) when no source repeats.
+    """
+    import sympy
+
+    repeats = [r for p in circuit.parts if p.source is not None for r in p.source.function.repeats]
+    if not repeats:
+        return None, None
+    if until is not None:
+        horizon = _to_time(until)
+    else:
+        latest = max(p.source.function.last_start for p in circuit.parts if p.source is not None)
+        horizon = latest + DEFAULT_PERIODS * max(r.period for r in repeats)
+    valid = None
+    for p in circuit.parts:
+        if p.source is not None and p.source.function.repeats:
+            _, first_out = p.source.function.expanded(horizon)
+            valid = first_out if valid is None else sympy.Min(valid, first_out)
+    return horizon, valid
+
+
 def transient_solution(
     circuit: Circuit,
     *,
@@ -713,9 +683,10 @@ def transient_solution(
         With ``circuit.start`` ("rest" or "steady") and switch parts changing state
         at t = 0.
     until : time, optional
-        Horizon up to which pulse trains are expanded (seconds; sympy Rational,
-        int, Fraction, or a float taken as the decimal it prints as). Default: each
-        pulse source's delay plus :data:`DEFAULT_PERIODS` periods.
+        Horizon up to which repeating sources are written out (seconds; sympy
+        Rational, int, Fraction, or a float taken as the decimal it prints as).
+        Default: the latest start of any source plus :data:`DEFAULT_PERIODS`
+        periods of the slowest repeat.
     max_order : int
         Largest order accepted (:data:`MAX_ORDER`).
     time_limit : float
@@ -763,21 +734,7 @@ def transient_solution(
         raise CircuitError(f'start = "{start}" must be "rest" or "steady"', file=circuit.path)
     state = _rest_state(circuit) if start == "rest" else _steady_state(circuit)
 
-    pulses = [p.source for p in circuit.parts if p.source is not None and p.source.shape == "pulse"]
-    horizon = None  # the time up to which pulse trains are expanded
-    valid = None  # the first edge left out: the waveforms are complete before it
-    if pulses:
-        if until is not None:
-            horizon = _to_time(until)
-        else:
-            horizon = max(src.delay + DEFAULT_PERIODS * src.period for src in pulses)  # type: ignore[operator]
-        for src in pulses:
-            if src.peak != src.low:
-                assert src.period is not None
-                periods = sympy.floor((horizon - src.delay) / src.period) + 1 if horizon >= src.delay else 0
-                edge = src.delay + periods * src.period
-                valid = edge if valid is None else sympy.Min(valid, edge)
-
+    horizon, valid = _horizon(circuit, until)
     reactive = [p for p in circuit.parts if p.kind in ("capacitor", "inductor")]
     energy = {p.id: _energy_vector(system, circuit, p) for p in reactive}
 
@@ -837,7 +794,7 @@ def transient_solution(
     for k, ident in enumerate(system.sources):
         part = circuit.part(ident)
         assert part.source is not None
-        waves = _source_waves(part.source, start, horizon)
+        waves = _source_waves(part.source, horizon)
         if not waves:
             continue
         rhs = [system.B[r][k] for r in range(system.size)]

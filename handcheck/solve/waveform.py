@@ -375,7 +375,7 @@ class TimeFunction:
         expanded period by period, whose next edge falls here); evaluation at or
         after it is refused.
     name : str
-        The quantity's label, for messages (``"v(out)"``, ``"i(L1)"``).
+        The quantity's label, for messages (``"voltage(out)"``, ``"current(L1)"``).
     """
 
     terms: tuple[Term, ...]
@@ -440,8 +440,8 @@ class TimeFunction:
             raise ValueError(f"{self.name} is described for t >= 0 only; t = {t} was asked for")
         if self.horizon is not None and value >= to_mpf_time(self.horizon):
             raise LimitError(
-                f"{self.name} is driven by a pulse train that was expanded up to (not including) "
-                f"t = {mpmath.nstr(to_mpf_time(self.horizon), 6)} s; ask for the solution with a later `until` "
+                f"{self.name} is driven by a repeating source written out up to (not including) "
+                f"t = {mpmath.nstr(to_mpf_time(self.horizon), 6)} s; give a longer [transient] span "
                 "to evaluate it at later times"
             )
         return value
@@ -633,7 +633,7 @@ class TimeFunction:
 
         if self.horizon is not None:
             raise CircuitError(
-                f"{self.name} is driven by a pulse train, which never stops: it has no final value "
+                f"{self.name} is driven by a repeating source, which never stops: it has no final value "
                 "(its steady state is periodic, not constant)"
             )
         why = self._growth()
@@ -994,7 +994,7 @@ class TimeFunction:
 
         if self.horizon is not None:
             raise CircuitError(
-                f"{self.name} is driven by a pulse train and never settles; ask for its peak or values instead"
+                f"{self.name} is driven by a repeating source and never settles; ask for its peak or values instead"
             )
         why = self._growth()
         if why is not None:

@@ -25,7 +25,9 @@ from typing import Any
 
 import sympy
 
-from handcheck.circuit.build import build, read_span
+from handcheck.circuit.build import build
+from handcheck.circuit.kinds import KINDS
+from handcheck.worksheet.values import read_span
 from handcheck.circuit.model import Circuit
 from handcheck.errors import CircuitError, HandcheckError, TimeLimitError, UnitError, WorksheetError
 from handcheck.solve.phasor import Solution, solve
@@ -64,13 +66,12 @@ def part_environment(circuit: Circuit) -> dict[str, Value]:
         "f": Value(circuit.frequency, dim_of("Hz")),
         "w": Value(circuit.omega, dim_of("Hz")),
     }
-    units = {"resistor": "ohm", "inductor": "H", "capacitor": "F", "vccs": "S", "ccvs": "ohm"}
     for part in circuit.parts:
+        unit = KINDS[part.kind].unit
         if part.source is not None:
-            unit = "V" if part.kind == "voltage" else "A"
-            env[part.id] = Value(part.source.phasor(circuit.phasors), dim_of(unit))
-        elif part.kind in units:
-            env[part.id] = Value(part.value, dim_of(units[part.kind]))
+            env[part.id] = Value(part.source.phasor(circuit.phasors, circuit.omega), dim_of(unit))
+        elif unit:
+            env[part.id] = Value(part.value, dim_of(unit))
         elif part.kind in ("vcvs", "cccs", "coupling", "transformer"):
             env[part.id] = Value(part.value, DIMENSIONLESS)
     return env
@@ -142,8 +143,12 @@ class _Checker:
             if rate > 0:
                 candidates.append(5 / rate)
         for part in self.circuit.parts:
-            if part.source is not None and part.source.omega is not None:
-                candidates.append(3 * 2 * math.pi / float(part.source.omega))
+            if part.source is not None:
+                function = part.source.function
+                candidates += [3 * 2 * math.pi / float(w) for w in part.source.frequencies]
+                candidates += [float(function.last_start) + 3 * float(r.period) for r in function.repeats]
+                if function.last_start > 0:
+                    candidates.append(2 * float(function.last_start))
         return max(candidates, default=1e-3)
 
     @property

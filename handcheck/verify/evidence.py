@@ -102,6 +102,22 @@ def _numeric(sim: Any, q: Quantity) -> Any:
     return node(args[0])
 
 
+def _settles_to_steady(function: Any) -> bool:
+    """Whether a source ends as constants and undamped sinusoids (no repeat, no ramp)."""
+    if function.repeats:
+        return False
+    return all(term.power == 0 and term.decay >= 0 for term in function.tail())
+
+
+def _other_frequency(function: Any, omega: Any) -> bool:
+    """Whether a source ends with an undamped sinusoid at a frequency other than ``omega``."""
+    import sympy
+
+    return any(
+        term.decay == 0 and term.omega != 0 and sympy.simplify(term.omega - omega) != 0 for term in function.tail()
+    )
+
+
 def _phasor_comparison(circuit: Circuit, sim: Any) -> tuple[list[tuple[str, complex, complex]], float | None, list[str]]:
     from handcheck.simulate import fit_phasors
     from handcheck.solve.phasor import part_current, solve
@@ -110,8 +126,12 @@ def _phasor_comparison(circuit: Circuit, sim: Any) -> tuple[list[tuple[str, comp
     sources = [p for p in circuit.parts if p.source is not None]
     if circuit.omega == 0:
         return [], None, notes
-    others = [p.id for p in sources if p.source is not None and p.source.shape not in ("sine", "constant", "step")]
-    foreign = [p.id for p in sources if p.source is not None and p.source.shape == "sine" and not circuit.active(p)]
+    others = [p.id for p in sources if p.source is not None and not _settles_to_steady(p.source.function)]
+    foreign = [
+        p.id
+        for p in sources
+        if p.source is not None and p.id not in others and _other_frequency(p.source.function, circuit.omega)
+    ]
     if others or foreign:
         notes.append(
             "no phasors fitted: the sources "
@@ -124,7 +144,7 @@ def _phasor_comparison(circuit: Circuit, sim: Any) -> tuple[list[tuple[str, comp
     to_peak = 1.0 if circuit.phasors == "peak" else math.sqrt(2)
     rows: list[tuple[str, complex, complex]] = []
     for node in circuit.nodes:
-        rows.append((f"v({node})", complex(fit.voltages[node]), to_complex(exact.node_voltage(node)) * to_peak))
+        rows.append((f"voltage({node})", complex(fit.voltages[node]), to_complex(exact.node_voltage(node)) * to_peak))
     for part in circuit.parts:
         if part.kind in ("coupling", "transformer") or part.id not in fit.currents:
             continue
@@ -132,12 +152,12 @@ def _phasor_comparison(circuit: Circuit, sim: Any) -> tuple[list[tuple[str, comp
             value = to_complex(part_current(exact, part)) * to_peak
         except HandcheckError:
             continue
-        rows.append((f"i({part.id})", complex(fit.currents[part.id]), value))
-    scale_v = max([abs(e) for n, _, e in rows if n.startswith("v(")] + [1e-300])
-    scale_i = max([abs(e) for n, _, e in rows if n.startswith("i(")] + [1e-300])
+        rows.append((f"current({part.id})", complex(fit.currents[part.id]), value))
+    scale_v = max([abs(e) for n, _, e in rows if n.startswith("voltage(")] + [1e-300])
+    scale_i = max([abs(e) for n, _, e in rows if n.startswith("current(")] + [1e-300])
     worst = 0.0
     for name, fitted, want in rows:
-        scale = scale_v if name.startswith("v(") else scale_i
+        scale = scale_v if name.startswith("voltage(") else scale_i
         worst = max(worst, abs(fitted - want) / scale)
     return rows, worst, notes
 

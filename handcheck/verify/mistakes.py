@@ -99,8 +99,9 @@ def _at_omega(circuit: Circuit, omega: sympy.Expr) -> Circuit:
     parts = []
     for part in circuit.parts:
         source = part.source
-        if source is not None and source.omega is not None and circuit.active(part):
-            part = dataclasses.replace(part, source=dataclasses.replace(source, omega=omega))
+        if source is not None and source.frequencies and circuit.active(part):
+            moved = source.function.moved(circuit.omega, omega)
+            part = dataclasses.replace(part, source=dataclasses.replace(source, function=moved))
         parts.append(part)
     return dataclasses.replace(circuit, parts=tuple(parts), omega=omega)
 
@@ -109,9 +110,10 @@ def _with_phases(circuit: Circuit, scale: sympy.Expr) -> Circuit | None:
     parts, changed = [], False
     for part in circuit.parts:
         source = part.source
-        if source is not None and source.phase != 0:
+        scaled = source.function.phases_scaled(scale) if source is not None else None
+        if source is not None and scaled is not None:
             changed = True
-            part = dataclasses.replace(part, source=dataclasses.replace(source, phase=source.phase * scale))
+            part = dataclasses.replace(part, source=dataclasses.replace(source, function=scaled))
         parts.append(part)
     return dataclasses.replace(circuit, parts=tuple(parts)) if changed else None
 

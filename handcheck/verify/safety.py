@@ -24,14 +24,32 @@ CAUTION = (
 )
 
 
+def _crest(function: object) -> float:
+    """The largest absolute value of a source function over its first breakpoints and periods
+    (sampled: a caution, not a measurement)."""
+    import numpy as np
+
+    starts = [float(t.start) for t in function.terms]  # type: ignore[attr-defined]
+    scales = [float(r.period) for r in function.repeats]  # type: ignore[attr-defined]
+    scales += [1 / float(t.decay) for t in function.terms if t.decay > 0]  # type: ignore[attr-defined]
+    scales += [2 * np.pi / float(t.omega) for t in function.terms if t.omega != 0]  # type: ignore[attr-defined]
+    span = max(starts + [0.0]) + 3 * max(scales + [1e-3])
+    times = np.linspace(0.0, span, 2001)
+    return max(abs(function.value(float(t))) for t in times)  # type: ignore[attr-defined]
+
+
 def _worst(circuit: Circuit, solution: Solution | None) -> str | None:
     for part in circuit.parts:
         if part.kind != "voltage" or part.source is None:
             continue
-        if part.source.omega is None and abs(float(sympy.N(part.source.peak))) > DC_LIMIT:
-            return f"{part.id}: {float(sympy.N(part.source.peak)):g} V DC"
-        if part.source.omega is not None and float(sympy.N(part.source.rms)) > AC_LIMIT_RMS:
-            return f"{part.id}: {float(sympy.N(part.source.rms)):.4g} V rms"
+        source = part.source
+        if not source.frequencies and abs(float(sympy.N(source.dc))) > DC_LIMIT:
+            return f"{part.id}: {float(sympy.N(source.dc)):g} V DC"
+        if source.frequencies and float(sympy.N(source.rms)) > AC_LIMIT_RMS:
+            return f"{part.id}: {float(sympy.N(source.rms)):.4g} V rms"
+        crest = _crest(source.function)
+        if crest > DC_LIMIT:
+            return f"{part.id}: reaches {crest:.4g} V"
     if solution is not None and circuit.omega != 0:
         scale = 1.0 if circuit.phasors == "rms" else 2**-0.5
         for node in circuit.nodes:

@@ -50,6 +50,11 @@ def unit_of(words: tuple[tuple[str, int], ...]) -> tuple[sympy.Expr, Dim]:
     return factor, dim
 
 
+def without_time(dim: Dim) -> Dim:
+    """The dimension with its power of time dropped (times read as seconds)."""
+    return Dim(dim.mass, dim.length, Fraction(0), dim.current)
+
+
 def _rational(value: Fraction) -> sympy.Rational:
     return sympy.Rational(value.numerator, value.denominator)
 
@@ -106,10 +111,19 @@ _TRIG = frozenset({"sin", "cos", "tan", "polar"})
 
 
 class _Evaluator:
-    def __init__(self, text: str, env: Mapping[str, Value], angle_scale: sympy.Expr | None = None) -> None:
+    def __init__(
+        self,
+        text: str,
+        env: Mapping[str, Value],
+        angle_scale: sympy.Expr | None = None,
+        functions: Mapping[str, Function] | None = None,
+        seconds: bool = False,
+    ) -> None:
+        self.seconds = seconds
         self.text = text
         self.env = env
         self.angle_scale = angle_scale
+        self.functions = {**FUNCTIONS, **functions} if functions else FUNCTIONS
 
     def quote(self, node: Node) -> str:
         return self.text[node.start : node.end].strip()
@@ -154,6 +168,8 @@ class _Evaluator:
         if node.imaginary:
             value = value * sympy.I
         factor, dim = unit_of(node.unit)
+        if self.seconds:
+            dim = without_time(dim)
         return Value(value * factor, dim)
 
     def name(self, node: Name) -> Value:
@@ -222,9 +238,9 @@ class _Evaluator:
         return Value(base.expr**exponent.expr, dim)
 
     def call(self, node: Call) -> Value:
-        fn = FUNCTIONS.get(node.function)
+        fn = self.functions.get(node.function)
         if fn is None:
-            known = " ".join(FUNCTIONS)
+            known = " ".join(self.functions)
             raise ParseError(f'unknown function "{node.function}"; known functions: {known}', self.text, node.start + 1)
         if len(node.args) != fn.arity:
             plural = "s" if fn.arity > 1 else ""
@@ -244,6 +260,10 @@ class _Evaluator:
         elif fn.dims == "same2":
             if args[0].dim != args[1].dim:
                 raise UnitError(f'{name} needs two arguments of one unit, not {args[0].dim} and {args[1].dim}')
+        elif fn.dims == "repeat":  # repeat(period, g): a time (in seconds), and g's unit
+            if not args[0].dim.dimensionless:
+                raise UnitError(f'the period of {name} must be a time, like 1 ms, not "{self.quote(node.args[0])}"')
+            dim = args[1].dim
         elif fn.dims == "polar":
             _dimensionless(name + " angle", args[1], self.text, node.args[1])
             dim = args[0].dim
@@ -256,15 +276,26 @@ class _Evaluator:
         return Value(fn.rule(*exprs), dim)
 
 
-def evaluate(node: Node, env: Mapping[str, Value], text: str, *, angle_scale: sympy.Expr | None = None) -> Value:
+def evaluate(
+    node: Node,
+    env: Mapping[str, Value],
+    text: str,
+    *,
+    angle_scale: sympy.Expr | None = None,
+    functions: Mapping[str, Function] | None = None,
+    seconds: bool = False,
+) -> Value:
     """Evaluate a parsed tree in an environment of named values.
 
     ``angle_scale`` multiplies every angle given to sin, cos, tan, polar and the
     angle operator; the mistake catalogue uses it to replay a calculator left in
-    the wrong angle mode.
+    the wrong angle mode. ``functions`` adds functions to the formula language's
+    own (the source functions ``step``, ``edge`` and ``repeat``). With ``seconds``
+    every time and rate is read as a plain number in seconds and 1/s (as ``t`` is in
+    a source function), so ``2000*t``, ``t/5 ms`` and ``2*pi*50 Hz*t`` all read.
     """
     try:
-        return _Evaluator(text, env, angle_scale).run(node)
+        return _Evaluator(text, env, angle_scale, functions, seconds).run(node)
     except HandcheckError as exc:
         raise one_line(exc) from None
     except (ValueError, TypeError, ZeroDivisionError, OverflowError, RecursionError) as exc:

@@ -14,7 +14,7 @@ Grammar, loosest binding first::
     unary   := ("-" | "+") unary | power
     power   := atom [ ("^" | "**") unary ]
     atom    := number [unit] | name | name "(" args ")" | "(" polar ")"
-    unit    := word ["^" int] { ("/" | "*") word ["^" int] }
+    unit    := ["1" "/"] word ["^" int] { ("/" | "*") word ["^" int] }
 
 A number and the unit after it bind as one value, so ``t/3.2 ms`` divides by
 3.2 ms. A number written with a trailing ``j`` (``4.5j``) is imaginary.
@@ -362,6 +362,8 @@ class _Parser:
 
     def unit(self, end: int) -> tuple[tuple[tuple[str, int], ...], int]:
         tok = self.tok
+        if tok.kind == "num" and tok.text == "1" and self.peek().text == "/" and self._unit_word(self.peek(2)):
+            return self.reciprocal_unit()
         if tok.kind != "name":
             return (), end
         if not self._unit_word(tok):
@@ -378,6 +380,20 @@ class _Parser:
             words.append((word.text, sign * self._exponent()))
             end = self.tokens[self.index - 1].start + len(self.tokens[self.index - 1].text)
         return tuple(words), end
+
+
+    def reciprocal_unit(self) -> tuple[tuple[tuple[str, int], ...], int]:
+        """A unit written ``1/s`` or ``1/ms`` after a number (``100 1/s``)."""
+        self.advance()  # "1"
+        self.advance()  # "/"
+        word = self.advance()
+        words = [(word.text, -self._exponent())]
+        while self.at_op("/", "*") and self._unit_word(self.peek()):
+            sign = -1 if self.advance().text == "/" else 1
+            more = self.advance()
+            words.append((more.text, sign * self._exponent()))
+        last = self.tokens[self.index - 1]
+        return tuple(words), last.start + len(last.text)
 
 
 def _regionalise(node: Node, start: int, end: int) -> Node:

@@ -14,9 +14,12 @@ import tomllib
 from pathlib import Path
 from typing import Any
 
+from handcheck.circuit.kinds import KINDS
 from handcheck.errors import HandcheckError, LimitError, WorksheetError
 from handcheck.worksheet.expr import RESERVED, printable
-from handcheck.worksheet.model import PART_KINDS, SOURCE_TIME_KEYS, PartSpec, StepSpec, Worksheet
+from handcheck.worksheet.model import PartSpec, StepSpec, Worksheet
+from handcheck.worksheet.oldkeys import OLD_KEYS, rewrite
+from handcheck.worksheet.partvalues import read_part_values
 
 __all__ = ["MAX_BYTES", "load", "loads"]
 
@@ -35,23 +38,7 @@ _LINE_BREAKS = re.compile(r"[\r\n\t\v\f\x1c-\x1e\x85\u2028\u2029]+")
 
 _WORKSHEET_KEYS = ("format", "title", "reference", "phasors", "frequency", "tolerance")
 _STEP_KEYS = ("name", "quantity", "formula", "claim", "tolerance")
-_PART_KEYS = {
-    "resistor": ("nodes", "initial"),
-    "inductor": ("nodes", "initial"),
-    "capacitor": ("nodes", "initial"),
-    "voltage": ("nodes", "frequency", "phase", *SOURCE_TIME_KEYS),
-    "current": ("nodes", "frequency", "phase", *SOURCE_TIME_KEYS),
-    "vcvs": ("nodes", "control"),
-    "vccs": ("nodes", "control"),
-    "cccs": ("nodes", "control"),
-    "ccvs": ("nodes", "control"),
-    "opamp": ("nodes",),
-    "coupling": ("inductors",),
-    "transformer": ("nodes",),
-    "switch": ("nodes",),
-}
 _TRANSIENT_KEYS = ("start", "span")
-_TERMINALS = {"opamp": 3, "transformer": 4, "coupling": 0}
 
 
 def _is_time(text: str) -> bool:
@@ -241,11 +228,23 @@ class _Reader:
             reference=self.string(head, "reference", "worksheet"),
             phasors=phasors,  # type: ignore[arg-type]
             frequency=self.string(head, "frequency", "worksheet"),
+            omega=self.analysis_omega(head),
             tolerance=self.string(head, "tolerance", "worksheet") or "digits",
             parts=self.parts(),
             steps=self.steps(),
             transient=tuple((str(k), str(v)) for k, v in transient.items()),
             lines=lines,
+        )
+
+    def analysis_omega(self, head: dict[str, Any]) -> Any:
+        """The ``[worksheet] frequency`` in rad/s, exactly, or None."""
+        from handcheck.worksheet.values import read_frequency
+
+        written = self.string(head, "frequency", "worksheet")
+        if written is None:
+            return None
+        return read_frequency(
+            written, "the analysis frequency", file=self.path, line=self.where.key("worksheet", "frequency")
         )
 
     def string(self, table: dict[str, Any], key: str, where: str, *, required: bool = False, line: int | None = None) -> str | None:
@@ -310,18 +309,21 @@ class _Reader:
     def part(self, ident: str, body: Any, line: int | None) -> PartSpec:
         if not isinstance(body, dict):
             raise self.fail(f'part "{ident}" must be a table, like {ident} = {{ resistor = "1 kohm", nodes = ["a", "b"] }}', line)
-        kinds = [key for key in body if key in PART_KINDS]
+        kinds = [key for key in body if key in KINDS]
         if not kinds:
-            common = ("nodes", "frequency", "phase", "initial", "control", "inductors", *SOURCE_TIME_KEYS)
+            common = ("nodes", "frequency", "phase", "initial", "control", "inductors", *OLD_KEYS)
             others = [key for key in body if key not in common]
-            hint = _suggest(others[0], tuple(PART_KINDS)) if others else ""
+            hint = _suggest(others[0], tuple(KINDS)) if others else ""
             raise self.fail(
-                f'part "{ident}" has no kind{hint}; give one of: {", ".join(PART_KINDS)}', line
+                f'part "{ident}" has no kind{hint}; give one of: {", ".join(KINDS)}', line
             )
         if len(kinds) > 1:
             raise self.fail(f'part "{ident}" has two kinds, {kinds[0]} and {kinds[1]}; give it one', line)
         kind = kinds[0]
-        allowed = _PART_KEYS[kind]
+        allowed = KINDS[kind].keys
+        old = [key for key in body if key in OLD_KEYS]
+        if old and kind in ("voltage", "current"):
+            raise self.old_keys(ident, kind, body, old, line)
         for key in body:
             if key != kind and key not in allowed:
                 raise self.fail(
@@ -330,13 +332,19 @@ class _Reader:
                     line,
                 )
         where = f"parts.{ident}"
-        value = self.string(body, kind, where, required=True, line=line) or ""
+        raw: Any
+        if kind in ("voltage", "current") and isinstance(body.get(kind), list):
+            raw = self.points(body[kind], ident, kind, line)
+            value = str(body[kind])
+        else:
+            value = self.string(body, kind, where, required=True, line=line) or ""
+            raw = value
         nodes: tuple[str, ...] = ()
         inductors: tuple[str, ...] = ()
         if kind == "coupling":
             inductors = self.names(body, "inductors", ident, 2, line)
         else:
-            nodes = self.names(body, "nodes", ident, _TERMINALS.get(kind, 2), line)
+            nodes = self.names(body, "nodes", ident, KINDS[kind].terminals, line)
             if kind not in ("opamp", "transformer") and nodes[0] == nodes[1]:
                 raise self.fail(
                     f'part "{ident}" has both ends on node "{nodes[0]}"; connect it between two different nodes', line
@@ -348,32 +356,45 @@ class _Reader:
             control = self.string(body, "control", where, line=line)
             if not control:
                 raise self.fail(f'part "{ident}" ({kind}) needs control = "<part id>", the part whose current controls it', line)
-        extra: list[tuple[str, object]] = []
-        for key in SOURCE_TIME_KEYS:
-            if key not in body:
-                continue
-            if key == "points":
-                extra.append((key, self.points(body[key], ident, line)))
-            else:
-                extra.append((key, self.string(body, key, where, line=line)))
+        keys = {key: self.string(body, key, where, line=line) for key in ("frequency", "phase", "initial")}
+        values = read_part_values(ident, kind, raw, keys, file=self.path, line=line)
         return PartSpec(
             id=ident,
             kind=kind,
             value=value,
             nodes=nodes,
-            frequency=self.string(body, "frequency", where, line=line),
-            phase=self.string(body, "phase", where, line=line),
-            initial=self.string(body, "initial", where, line=line),
             control=control,
             inductors=inductors,
             line=line,
-            extra=tuple(extra),
+            number=values.number,
+            source=values.source,
+            rms=values.rms,
+            initial=values.initial,
         )
 
-    def points(self, value: Any, ident: str, line: int | None) -> tuple[tuple[str, str], ...]:
-        example = 'points = [["0 ms", "0 V"], ["1 ms", "5 V"]]'
+    def old_keys(self, ident: str, kind: str, body: dict[str, Any], old: list[str], line: int | None) -> WorksheetError:
+        """The first version's source keys: refused, with the same source in the new form."""
+        names = ", ".join(f'"{key}"' for key in old)
+        gone = "that key is" if len(old) == 1 else "those keys are"
+        fix = rewrite(ident, kind, body.get(kind, ""), body)
+        if fix:
+            return self.fail(
+                f'part "{ident}" uses {names}: {gone} gone, a source is now written as a function of t '
+                f"(see docs/transients.md); write it as {ident} = {{ {fix}, nodes = [...] }}",
+                line,
+            )
+        unit = "V" if kind == "voltage" else "A"
+        return self.fail(
+            f'part "{ident}" uses {names}: {gone} gone, a source is now written as a function of t '
+            f'(see docs/transients.md); write the {kind} as a function of t, like {kind} = "12*step(t - 1 ms) {unit}"',
+            line,
+        )
+
+    def points(self, value: Any, ident: str, kind: str, line: int | None) -> tuple[tuple[str, str], ...]:
+        unit = "V" if kind == "voltage" else "A"
+        example = f'{kind} = [["0 ms", "0 {unit}"], ["1 ms", "5 {unit}"]]'
         if not isinstance(value, list) or not value:
-            raise self.fail(f"points of part \"{ident}\" must be a list of [time, value] pairs, like {example}", line)
+            raise self.fail(f"the {kind} of part \"{ident}\" must be a list of [time, value] pairs, like {example}", line)
         pairs = []
         for item in value:
             if (
@@ -381,7 +402,10 @@ class _Reader:
                 or len(item) != 2
                 or not all(isinstance(v, str) for v in item)
             ):
-                raise self.fail(f"each entry of points of part \"{ident}\" must be a [time, value] pair in quotes, like {example}", line)
+                raise self.fail(
+                    f"each entry of the {kind} of part \"{ident}\" must be a [time, value] pair in quotes, like {example}",
+                    line,
+                )
             pairs.append((item[0].strip(), item[1].strip()))
         return tuple(pairs)
 

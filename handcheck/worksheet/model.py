@@ -1,7 +1,8 @@
-"""The worksheet as written: frozen records of the TOML file's contents.
+"""The worksheet: frozen records of the TOML file's contents.
 
-Values are still text here (``"0.22 uF"``); :mod:`handcheck.circuit.build` turns
-parts into exact circuit elements and :mod:`handcheck.verify` reads the steps.
+Part values are read here, once, into exact numbers and source functions (the text
+as written is kept beside them for messages and records); :mod:`handcheck.circuit.build`
+turns parts into circuit elements and :mod:`handcheck.verify` reads the steps.
 """
 
 from __future__ import annotations
@@ -9,50 +10,36 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Literal
 
+import sympy
+
+from handcheck.worksheet.sourcefunction import SourceFunction
+
 __all__ = ["PartSpec", "PhasorConvention", "StepSpec", "Worksheet"]
 
 PhasorConvention = Literal["peak", "rms"]
 
-#: Part kinds of worksheet format 1, and the unit each kind's value is in.
-PART_KINDS: dict[str, str] = {
-    "resistor": "ohm",
-    "inductor": "H",
-    "capacitor": "F",
-    "voltage": "V",
-    "current": "A",
-    "vcvs": "",
-    "vccs": "S",
-    "cccs": "",
-    "ccvs": "ohm",
-    "opamp": "",
-    "coupling": "",
-    "transformer": "",
-    "switch": "",
-}
-
-#: Time-domain keys of independent sources (docs/transients.md).
-SOURCE_TIME_KEYS = ("shape", "offset", "delay", "damping", "low", "width", "period", "rise", "fall", "points")
-
 
 @dataclass(frozen=True)
 class PartSpec:
-    """One entry of ``[parts]``, as written."""
+    """One entry of ``[parts]``: its value as written and read.
+
+    ``value`` is the kind's value as written; ``number`` its exact value in SI units
+    (see :class:`~handcheck.worksheet.partvalues.PartValues`), ``source`` a source's
+    function of time, ``rms`` whether its amplitude was written as rms, ``initial``
+    the exact state of a capacitor or inductor at t = 0-.
+    """
 
     id: str
     kind: str
     value: str
     nodes: tuple[str, ...] = ()
-    frequency: str | None = None
-    phase: str | None = None
-    initial: str | None = None
     control: tuple[str, ...] | str | None = None
     inductors: tuple[str, ...] = ()
     line: int | None = None
-    extra: tuple[tuple[str, object], ...] = ()
-
-    def get(self, key: str) -> object | None:
-        """A time-domain key's raw value, or None."""
-        return dict(self.extra).get(key)
+    number: sympy.Expr = sympy.Integer(0)
+    source: SourceFunction | None = None
+    rms: bool = False
+    initial: sympy.Expr | None = None
 
 
 @dataclass(frozen=True)
@@ -84,6 +71,7 @@ class Worksheet:
     reference: str | None = None
     phasors: PhasorConvention = "peak"
     frequency: str | None = None
+    omega: sympy.Expr | None = None  # the analysis frequency read from ``frequency``, rad/s
     tolerance: str = "digits"
     parts: tuple[PartSpec, ...] = ()
     steps: tuple[StepSpec, ...] = ()
