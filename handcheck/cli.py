@@ -93,6 +93,9 @@ def _run(args: argparse.Namespace) -> int:
     plot = getattr(args, "plot", None)
     if plot and not plot.lower().endswith((".svg", ".png")):
         raise WorksheetError(f'--plot writes .svg or .png files, not "{plot}"')
+    from handcheck.worksheet.units import lookup_unit
+
+    lookup_unit("ohm")  # build the unit registry before the alarm can fire inside pint
     with _time_limit(args.time_limit):
         worksheet = load(args.file)
         if args.command == "simulate":

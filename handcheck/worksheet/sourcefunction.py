@@ -278,7 +278,8 @@ class SourceFunction:
 
 
 def _tidy(x: sympy.Expr) -> sympy.Expr:
-    x = sympy.sympify(x)
+    if not isinstance(x, sympy.Basic):
+        x = sympy.Integer(x) if isinstance(x, int) else sympy.Rational(str(x))
     if x.is_Rational:
         return x
     if x.has(sympy.pi, sympy.E) or x.atoms(sympy.Function):
@@ -577,7 +578,6 @@ OLD_KEYS = ("shape", "offset", "delay", "damping", "low", "width", "period", "ri
 
 def decimal(value: sympy.Expr) -> str:
     """An exact number as a short decimal (exact where it ends, else 12 digits)."""
-    value = sympy.nsimplify(value) if not isinstance(value, sympy.Basic) else value
     if value.is_Rational:
         q = int(value.q)
         while q % 2 == 0:
