@@ -428,7 +428,7 @@ def test_pulse_train_against_solve_ivp():
     assert worst < 1e-9
     # periods starting up to `until` (12 ms) are expanded: complete before the next edge at 16 ms
     v(sympy.Rational(159, 10000))
-    with pytest.raises(LimitError, match="pulse train"):
+    with pytest.raises(LimitError, match="repeating source"):
         v(sympy.Rational(16, 1000))
     with pytest.raises(CircuitError):
         v.final()
