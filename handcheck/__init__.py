@@ -22,7 +22,7 @@ from __future__ import annotations
 
 from importlib.metadata import PackageNotFoundError, version
 
-from handcheck.errors import CircuitError, HandcheckError, LimitError, ParseError, UnitError, WorksheetError
+from handcheck.errors import CircuitError, HandcheckError, LimitError, ParseError, TimeLimitError, UnitError, WorksheetError
 from handcheck.verify.check import check
 from handcheck.verify.findings import Report, StepFinding
 from handcheck.worksheet.load import load, loads
@@ -39,6 +39,7 @@ __all__ = [
     "ParseError",
     "Report",
     "StepFinding",
+    "TimeLimitError",
     "UnitError",
     "WorksheetError",
     "__version__",
@@ -50,11 +51,47 @@ __all__ = [
 ]
 
 
-def check_file(path: str) -> Report:
-    """Load and check the worksheet at ``path``."""
-    return check(load(path))
+def check_file(path: str, *, time_limit: float | None = None) -> Report:
+    """Load and check the worksheet at ``path``.
+
+    Parameters
+    ----------
+    path
+        The worksheet file (TOML, format 1).
+    time_limit
+        Seconds allowed (default :data:`handcheck.budget.DEFAULT_TIME_LIMIT`).
+
+    Returns
+    -------
+    Report
+    """
+    from handcheck.pipeline import run
+
+    report = run(path, time_limit=time_limit).report
+    assert report is not None
+    return report
 
 
-def check_text(text: str, path: str = "<worksheet>") -> Report:
-    """Check a worksheet given as text."""
-    return check(loads(text, path))
+def check_text(text: str, path: str = "<worksheet>", *, name: str | None = None, time_limit: float | None = None) -> Report:
+    """Check a worksheet given as text.
+
+    Parameters
+    ----------
+    text
+        The worksheet's TOML text.
+    path
+        The name shown for it in messages and reports (kept for compatibility).
+    name
+        The same as ``path``; wins when both are given.
+    time_limit
+        Seconds allowed (default :data:`handcheck.budget.DEFAULT_TIME_LIMIT`).
+
+    Returns
+    -------
+    Report
+    """
+    from handcheck.pipeline import run_text
+
+    report = run_text(text, name or path, time_limit=time_limit).report
+    assert report is not None
+    return report

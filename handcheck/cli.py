@@ -7,11 +7,9 @@ Exit status: 0 every step agrees (or is unchecked); 1 a step does not agree;
 from __future__ import annotations
 
 import argparse
-import contextlib
 import json
-import signal
 import sys
-from collections.abc import Iterator, Sequence
+from collections.abc import Sequence
 from typing import Any
 
 from handcheck.errors import HandcheckError, TimeLimitError, WorksheetError
@@ -44,7 +42,7 @@ def _parser() -> argparse.ArgumentParser:
         type=_seconds,
         default=None,
         metavar="SECONDS",
-        help="stop with exit status 2 if the check takes longer than this (wall clock)",
+        help="stop with exit status 2 if the check takes longer than this (wall clock; default 120)",
     )
     simulate = commands.add_parser("simulate", help="solve a worksheet's circuit numerically in time and compare")
     simulate.add_argument("file", metavar="FILE", help="the worksheet (TOML, format 1)")
@@ -64,46 +62,37 @@ def _seconds(text: str) -> float:
     return value
 
 
-@contextlib.contextmanager
-def _time_limit(seconds: float | None) -> Iterator[None]:
-    """Raise LimitError when the wall-clock budget runs out (POSIX interval timer)."""
-    if seconds is None or not hasattr(signal, "setitimer"):
-        yield
-        return
-
-    def expire(signum: int, frame: object) -> None:
-        raise TimeLimitError(f"the check ran out of its time limit of {seconds:g} s; simplify the worksheet or raise --time-limit")
-
-    previous = signal.signal(signal.SIGALRM, expire)
-    signal.setitimer(signal.ITIMER_REAL, seconds)
-    try:
-        yield
-    finally:
-        signal.setitimer(signal.ITIMER_REAL, 0)
-        signal.signal(signal.SIGALRM, previous)
-
-
 def _run(args: argparse.Namespace) -> int:
     from handcheck import __version__
+    from handcheck.budget import DEFAULT_TIME_LIMIT, Budget, watchdog
+    from handcheck.pipeline import run
     from handcheck.record.jsonout import evidence_dict, report_dict
     from handcheck.record.text import render
-    from handcheck.verify.check import check
-    from handcheck.worksheet.load import load
 
     plot = getattr(args, "plot", None)
     if plot and not plot.lower().endswith((".svg", ".png")):
         raise WorksheetError(f'--plot writes .svg or .png files, not "{plot}"')
-    from handcheck.worksheet.units import lookup_unit
+    budget = Budget(DEFAULT_TIME_LIMIT if args.time_limit is None else args.time_limit)
+    timer = watchdog(budget, args.file)
+    try:
+        simulating = args.command == "simulate"
+        wants_evidence = simulating or args.evidence or bool(plot)
+        if wants_evidence:
+            sys.stderr.write("handcheck: solving the circuit numerically in time...\n")
+        result = run(args.file, check=not simulating or bool(plot), evidence=wants_evidence, budget=budget)
+        if plot:
+            _plot(result, plot)
+    finally:
+        if timer is not None:
+            timer.cancel()
+    evidence = result.evidence
+    if simulating:
+        from handcheck.verify.evidence import describe
 
-    lookup_unit("ohm")  # build the unit registry before the alarm can fire inside pint
-    with _time_limit(args.time_limit):
-        worksheet = load(args.file)
-        if args.command == "simulate":
-            return _simulate(args, worksheet)
-        report = check(worksheet)
-        evidence = _evidence(worksheet) if (args.evidence or args.plot) else None
-        if args.plot and evidence is not None:
-            _plot(report, evidence, args.plot)
+        print(json.dumps(evidence_dict(evidence), ensure_ascii=False) if args.json else "\n".join(describe(evidence)))
+        return EXIT_OK if evidence.ok else EXIT_DISAGREES
+    report = result.report
+    assert report is not None
     if args.json:
         data = report_dict(report, __version__)
         if evidence is not None:
@@ -111,39 +100,14 @@ def _run(args: argparse.Namespace) -> int:
         print(json.dumps(data, ensure_ascii=False))
     else:
         print(render(report, __version__, evidence))
-    return EXIT_OK if report.ok and (evidence is None or evidence.ok) else EXIT_DISAGREES
+    return EXIT_OK if result.ok else EXIT_DISAGREES
 
 
-def _evidence(worksheet: Any) -> Any:
-    from handcheck.circuit.build import build
-    from handcheck.verify.evidence import gather_evidence
-    from handcheck.worksheet.values import read_span
-
-    span = read_span(worksheet)
-    sys.stderr.write("handcheck: solving the circuit numerically in time...\n")
-    return gather_evidence(build(worksheet), worksheet.steps, span=span)
-
-
-def _plot(report: Any, evidence: Any, out: str) -> None:
+def _plot(result: Any, out: str) -> None:
     from handcheck.record.plots import plot_evidence
 
-    path = plot_evidence(report, evidence, out)
+    path = plot_evidence(result.report, result.evidence, out)
     sys.stderr.write(f"handcheck: plots written to {path}\n")
-
-
-def _simulate(args: argparse.Namespace, worksheet: Any) -> int:
-    from handcheck.record.jsonout import evidence_dict
-    from handcheck.verify.check import check
-    from handcheck.verify.evidence import describe
-
-    evidence = _evidence(worksheet)
-    if args.plot:
-        _plot(check(worksheet), evidence, args.plot)
-    if args.json:
-        print(json.dumps(evidence_dict(evidence), ensure_ascii=False))
-    else:
-        print("\n".join(describe(evidence)))
-    return EXIT_OK if evidence.ok else EXIT_DISAGREES
 
 
 def main(argv: Sequence[str] | None = None) -> int:
@@ -155,7 +119,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         return EXIT_BAD_INPUT
     try:
         return _run(args)
-    except HandcheckError as exc:
+    except (HandcheckError, TimeLimitError) as exc:
         where = "" if exc.file else f"{args.file}: "
         sys.stderr.write(f"handcheck: {where}{exc}\n")
         return EXIT_BAD_INPUT

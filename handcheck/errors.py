@@ -105,5 +105,23 @@ class LimitError(HandcheckError, ValueError):
     """An input goes beyond a limit that keeps handcheck from hanging."""
 
 
-class TimeLimitError(LimitError):
-    """The wall-clock budget of a check ran out. Never swallowed by fallbacks."""
+class TimeLimitError(BaseException):
+    """The wall-clock budget of a check ran out (:mod:`handcheck.budget`).
+
+    It derives from ``BaseException``, as ``KeyboardInterrupt`` does, so that no
+    ``except Exception`` in a library or a fallback can swallow it; it carries the
+    same ``message``, ``file`` and ``line`` as a :class:`HandcheckError` and the
+    command line reports it the same way (exit status 2, one line).
+    """
+
+    def __init__(self, message: str, *, file: str | None = None, line: int | None = None) -> None:
+        super().__init__(message)
+        self.message = message
+        self.file = file
+        self.line = line
+
+    where = HandcheckError.where
+    located = HandcheckError.located  # type: ignore[assignment]
+
+    def __str__(self) -> str:
+        return f"{self.where()}{self.message}"

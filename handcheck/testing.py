@@ -8,9 +8,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from handcheck.verify.check import check
 from handcheck.verify.findings import Report
-from handcheck.worksheet.load import load
 
 __all__ = ["assert_checks_out"]
 
@@ -21,7 +19,10 @@ def assert_checks_out(path: str | Path) -> Report:
     Returns the report when every step agrees (or is unchecked), so a test can look
     further.
     """
-    report = check(load(path))
+    from handcheck.pipeline import run
+
+    report = run(path).report
+    assert report is not None
     if not report.ok:
         lines = [f"{report.path}: first divergence at {report.first_divergence}"]
         for step in report.steps:

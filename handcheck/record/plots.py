@@ -67,11 +67,7 @@ def plot_evidence(report: Report, evidence: Evidence, path: str | Path) -> Path:
     waves = figure.add_subplot(grid[0, 0])
     transient = figure.add_subplot(grid[1, 0], sharex=waves)
     omega = float(circuit.omega)
-    fit = None
-    if omega > 0 and evidence.phasor_agreement is not None:
-        from handcheck.simulate import fit_phasors
-
-        fit = fit_phasors(sim, omega)
+    fit = evidence.fit if omega > 0 and evidence.phasor_agreement is not None else None
     for q in signals:
         try:
             values = _numeric(sim, q)

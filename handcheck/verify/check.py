@@ -30,7 +30,8 @@ from handcheck.circuit.kinds import KINDS
 from handcheck.worksheet.values import read_span
 from handcheck.circuit.model import Circuit
 from handcheck.errors import CircuitError, HandcheckError, TimeLimitError, UnitError, WorksheetError
-from handcheck.solve.phasor import Solution, solve
+from handcheck.solve.phasor import Solution
+from handcheck.solve.solutions import ExactSolutions
 from handcheck.solve.quantities import TIME_DOMAIN, Quantity, evaluate_quantity, parse_quantity
 from handcheck.solve.timequantities import evaluate_time_quantity, waveform_of
 from handcheck.verify.claims import (
@@ -78,11 +79,11 @@ def part_environment(circuit: Circuit) -> dict[str, Value]:
 
 
 class _Checker:
-    def __init__(self, worksheet: Worksheet, circuit: Circuit) -> None:
+    def __init__(self, worksheet: Worksheet, circuit: Circuit, exact: ExactSolutions) -> None:
         self.worksheet = worksheet
         self.circuit = circuit
-        self._solution: Solution | None = None
-        self._transient: Any = None
+        self.exact = exact
+        self.budget = exact.budget
         base = part_environment(circuit)
         self.true_env: dict[str, Value] = dict(base)
         self.claimed_env: dict[str, Value] = dict(base)
@@ -100,11 +101,7 @@ class _Checker:
     @property
     def transient(self) -> Any:
         """The closed-form complete response (computed on first use)."""
-        if self._transient is None:
-            from handcheck.solve.transient import transient_solution
-
-            self._transient = transient_solution(self.circuit)
-        return self._transient
+        return self.exact.transient
 
     def check_function(self, base: dict[str, Any], claim: Claim, quantity: Quantity, tolerance: Tolerance) -> StepFinding:
         """Compare a claimed time function with the true waveform over a span of time.
@@ -153,9 +150,8 @@ class _Checker:
 
     @property
     def solution(self) -> Solution:
-        if self._solution is None:
-            self._solution = solve(self.circuit)
-        return self._solution
+        """The exact steady-state phasors (computed on first use)."""
+        return self.exact.phasors
 
     def located(self, exc: HandcheckError, step: StepSpec, key: str | None = None) -> HandcheckError:
         """The error with the file, the step's line, and the step's name in front
@@ -199,11 +195,12 @@ class _Checker:
 
     def run(self) -> Report:
         for step in self.worksheet.steps:
+            self.budget.check(f'step "{step.name}"')
             finding = self.check_step(step)
             self.findings[step.name] = finding
             if step.name not in self.function_steps:
                 self.full_env[step.name] = self.unrounded(step, finding)
-        solved = self._solution
+        solved = self.exact.phasors if self.exact.has_phasors else None
         if solved is None:
             try:
                 solved = self.solution  # the caution looks at node voltages too
@@ -440,8 +437,23 @@ class _Checker:
         return dataclasses.replace(finding, diagnosis=tuple(Diagnosis(code, detail) for code, detail in found))
 
 
-def check(worksheet: Worksheet) -> Report:
+def check(worksheet: Worksheet, circuit: Circuit | None = None, *, exact: ExactSolutions | None = None) -> Report:
     """Check every step of a loaded worksheet.
+
+    Parameters
+    ----------
+    worksheet
+        The loaded worksheet.
+    circuit
+        Its circuit, when already built (:func:`handcheck.circuit.build.build`).
+    exact
+        The exact solutions to use and fill (they carry the time budget); a fresh
+        holder without a time limit by default.
+
+    Returns
+    -------
+    Report
+        One finding per step.
 
     Raises
     ------
@@ -449,6 +461,9 @@ def check(worksheet: Worksheet) -> Report:
         For a worksheet that cannot be checked (malformed values or formulas, a
         circuit that cannot be solved); the error names the file and line.
     """
-    circuit = build(worksheet)
-    return _Checker(worksheet, circuit).run()
+    if circuit is None:
+        circuit = exact.circuit if exact is not None else build(worksheet)
+    if exact is None:
+        exact = ExactSolutions(circuit)
+    return _Checker(worksheet, circuit, exact).run()
 

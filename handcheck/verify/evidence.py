@@ -19,6 +19,7 @@ from typing import Any
 from handcheck.circuit.model import Circuit
 from handcheck.errors import HandcheckError, TimeLimitError
 from handcheck.solve.quantities import Quantity, parse_quantity
+from handcheck.solve.solutions import ExactSolutions
 from handcheck.verify.claims import to_complex
 
 __all__ = ["AGREEMENT_TARGET", "Evidence", "describe", "gather_evidence"]
@@ -48,6 +49,7 @@ class Evidence:
     notes: tuple[str, ...] = ()
     simulation: Any = field(default=None, compare=False, repr=False)
     transient: Any = field(default=None, compare=False, repr=False)
+    fit: Any = field(default=None, compare=False, repr=False)  # the phasor fit, when one was made
 
     @property
     def agreement(self) -> float | None:
@@ -118,14 +120,16 @@ def _other_frequency(function: Any, omega: Any) -> bool:
     )
 
 
-def _phasor_comparison(circuit: Circuit, sim: Any) -> tuple[list[tuple[str, complex, complex]], float | None, list[str]]:
+def _phasor_comparison(
+    circuit: Circuit, sim: Any, exact_solutions: ExactSolutions
+) -> tuple[list[tuple[str, complex, complex]], float | None, list[str], Any]:
     from handcheck.simulate import fit_phasors
-    from handcheck.solve.phasor import part_current, solve
+    from handcheck.solve.phasor import part_current
 
     notes: list[str] = []
     sources = [p for p in circuit.parts if p.source is not None]
     if circuit.omega == 0:
-        return [], None, notes
+        return [], None, notes, None
     others = [p.id for p in sources if p.source is not None and not _settles_to_steady(p.source.function)]
     foreign = [
         p.id
@@ -138,9 +142,9 @@ def _phasor_comparison(circuit: Circuit, sim: Any) -> tuple[list[tuple[str, comp
             + ", ".join(others + foreign)
             + " do not run as steady sinusoids at the analysis frequency"
         )
-        return [], None, notes
+        return [], None, notes, None
     fit = fit_phasors(sim, float(circuit.omega))
-    exact = solve(circuit)
+    exact = exact_solutions.phasors
     to_peak = 1.0 if circuit.phasors == "peak" else math.sqrt(2)
     rows: list[tuple[str, complex, complex]] = []
     for node in circuit.nodes:
@@ -159,10 +163,17 @@ def _phasor_comparison(circuit: Circuit, sim: Any) -> tuple[list[tuple[str, comp
     for name, fitted, want in rows:
         scale = scale_v if name.startswith("voltage(") else scale_i
         worst = max(worst, abs(fitted - want) / scale)
-    return rows, worst, notes
+    return rows, worst, notes, fit
 
 
-def gather_evidence(circuit: Circuit, steps: Any = (), *, tolerance: float = AGREEMENT_TARGET, span: float | None = None) -> Evidence:
+def gather_evidence(
+    circuit: Circuit,
+    steps: Any = (),
+    *,
+    tolerance: float = AGREEMENT_TARGET,
+    span: float | None = None,
+    exact: ExactSolutions | None = None,
+) -> Evidence:
     """Simulate the circuit and compare the numerical answers with the exact ones.
 
     Parameters
@@ -177,11 +188,22 @@ def gather_evidence(circuit: Circuit, steps: Any = (), *, tolerance: float = AGR
         accepted disagreement.
     span
         The time to simulate (s); by default long enough for the transient to decay.
+    exact
+        The check's exact solutions (shared, so nothing is solved twice); a fresh
+        holder by default.
+
+    Returns
+    -------
+    Evidence
+        The numerical solution, its phasor fit, and the comparisons.
     """
     import numpy as np
 
     from handcheck.simulate import kcl_residual, settling, simulate
 
+    if exact is None:
+        exact = ExactSolutions(circuit)
+    exact.budget.check("the numerical time-domain solution")
     sim = simulate(circuit, span=span, tolerance=tolerance)
     settle = settling(sim, tolerance)
     kcl = kcl_residual(sim)
@@ -192,7 +214,7 @@ def gather_evidence(circuit: Circuit, steps: Any = (), *, tolerance: float = AGR
             f"Kirchhoff's current law is off by {kcl.relative:.2g} of the largest current at node {kcl.node} "
             f"(t = {kcl.time:.4g} s): an error of handcheck's numerical solution"
         )
-    rows, phasor_worst, phasor_notes = _phasor_comparison(circuit, sim)
+    rows, phasor_worst, phasor_notes, fit = _phasor_comparison(circuit, sim, exact)
     notes.extend(phasor_notes)
     if phasor_worst is not None and settle.long_enough and phasor_worst > max(tolerance, 1e-9) * 10:
         problems.append(
@@ -203,9 +225,7 @@ def gather_evidence(circuit: Circuit, steps: Any = (), *, tolerance: float = AGR
     transient = None
     try:
         from handcheck.solve.timequantities import waveform_of
-        from handcheck.solve.transient import transient_solution
-
-        transient = transient_solution(circuit)
+        transient = exact.transient
         for q in _signals(steps):
             try:
                 wave, _ = waveform_of(transient, q)
@@ -242,6 +262,7 @@ def gather_evidence(circuit: Circuit, steps: Any = (), *, tolerance: float = AGR
         notes=tuple(notes),
         simulation=sim,
         transient=transient,
+        fit=fit,
     )
 
 

@@ -1,0 +1,182 @@
+"""The stages of a check, run in order, each result kept once.
+
+::
+
+    worksheet text --load--> Worksheet --build--> Circuit --solve/check--> Report
+                                                     \\--simulate--> Evidence
+
+:func:`run` is the one entry point of the command line and of the Python API: it
+loads the worksheet, builds its circuit once, makes one
+:class:`~handcheck.solve.solutions.ExactSolutions` (phasors and closed-form
+transient, each solved at most once) that the checker and the numerical evidence
+share, and, when asked, runs the numerical time-domain solution once; the plots
+draw from that same evidence.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from handcheck.budget import DEFAULT_TIME_LIMIT, Budget
+from handcheck.circuit.model import Circuit
+from handcheck.verify.findings import Report
+from handcheck.worksheet.model import Worksheet
+
+__all__ = ["Result", "evidence_for", "run", "run_text", "run_worksheet"]
+
+
+@dataclass(frozen=True)
+class Result:
+    """Everything one run of the pipeline produced.
+
+    ``evidence`` is ``None`` unless the numerical solution was asked for;
+    ``report`` is ``None`` for a run that only simulated.
+    """
+
+    worksheet: Worksheet
+    circuit: Circuit
+    report: Report | None
+    evidence: Any = None
+    exact: Any = field(default=None, compare=False, repr=False)
+
+    @property
+    def ok(self) -> bool:
+        """Whether every step agrees (or is unchecked) and the evidence found no problem."""
+        report_ok = self.report is None or self.report.ok
+        return report_ok and (self.evidence is None or self.evidence.ok)
+
+
+def _budget(budget: Budget | None, time_limit: float | None) -> Budget:
+    if budget is not None:
+        return budget
+    return Budget(DEFAULT_TIME_LIMIT if time_limit is None else time_limit)
+
+
+def evidence_for(worksheet: Worksheet, circuit: Circuit, exact: Any) -> Any:
+    """The numerical evidence of a built circuit, sharing the check's exact solutions.
+
+    Parameters
+    ----------
+    worksheet
+        The worksheet (its steps name the signals compared; ``[transient] span``).
+    circuit
+        Its circuit.
+    exact
+        The :class:`~handcheck.solve.solutions.ExactSolutions` of the check.
+
+    Returns
+    -------
+    Evidence
+    """
+    from handcheck.worksheet.values import read_span
+    from handcheck.verify.evidence import gather_evidence
+
+    return gather_evidence(circuit, worksheet.steps, span=read_span(worksheet), exact=exact)
+
+
+def run_worksheet(
+    worksheet: Worksheet,
+    *,
+    check: bool = True,
+    evidence: bool = False,
+    budget: Budget | None = None,
+    time_limit: float | None = None,
+) -> Result:
+    """Run the stages on a loaded worksheet.
+
+    Parameters
+    ----------
+    worksheet
+        The loaded worksheet.
+    check
+        Whether to check the steps (``False`` for the numerical solution alone).
+    evidence
+        Whether to add the independent numerical time-domain solution.
+    budget
+        The time budget; by default one of ``time_limit`` seconds.
+    time_limit
+        Seconds allowed when no budget is given (default
+        :data:`~handcheck.budget.DEFAULT_TIME_LIMIT`).
+
+    Returns
+    -------
+    Result
+    """
+    from handcheck.circuit.build import build
+    from handcheck.solve.solutions import ExactSolutions
+    from handcheck.verify.check import check as check_steps
+
+    budget = _budget(budget, time_limit)
+    budget.check("the circuit")
+    circuit = build(worksheet)
+    exact = ExactSolutions(circuit, budget)
+    report = check_steps(worksheet, circuit, exact=exact) if check else None
+    found = evidence_for(worksheet, circuit, exact) if evidence else None
+    return Result(worksheet=worksheet, circuit=circuit, report=report, evidence=found, exact=exact)
+
+
+def run(
+    path: str | Path,
+    *,
+    check: bool = True,
+    evidence: bool = False,
+    budget: Budget | None = None,
+    time_limit: float | None = None,
+) -> Result:
+    """Load the worksheet at ``path`` and run the stages (see :func:`run_worksheet`).
+
+    Parameters
+    ----------
+    path
+        The worksheet file.
+    check, evidence, budget, time_limit
+        As for :func:`run_worksheet`.
+
+    Returns
+    -------
+    Result
+
+    Raises
+    ------
+    HandcheckError
+        For a worksheet that cannot be read or checked (the message names the file
+        and line).
+    TimeLimitError
+        When the budget runs out.
+    """
+    from handcheck.worksheet.load import load
+
+    budget = _budget(budget, time_limit)
+    return run_worksheet(load(path), check=check, evidence=evidence, budget=budget)
+
+
+def run_text(
+    text: str,
+    name: str = "<worksheet>",
+    *,
+    check: bool = True,
+    evidence: bool = False,
+    budget: Budget | None = None,
+    time_limit: float | None = None,
+) -> Result:
+    """Run the stages on a worksheet given as text (see :func:`run_worksheet`).
+
+    Parameters
+    ----------
+    text
+        The worksheet's TOML text.
+    name
+        The name shown in messages and reports in place of a file name.
+    check, evidence, budget, time_limit
+        As for :func:`run_worksheet`.
+
+    Returns
+    -------
+    Result
+    """
+    from handcheck.worksheet.load import loads
+
+    budget = _budget(budget, time_limit)
+    return run_worksheet(loads(text, name), check=check, evidence=evidence, budget=budget)
