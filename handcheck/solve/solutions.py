@@ -80,7 +80,9 @@ class ExactSolutions:
             self.counts["transient"] += 1
             limit = self.budget.remaining(TIME_LIMIT)
             try:
-                self._transient = transient_solution(self.circuit, time_limit=limit if limit is not None else TIME_LIMIT)
+                self._transient = transient_solution(
+                    self.circuit, time_limit=limit if limit is not None else TIME_LIMIT
+                )
             except LimitError:
                 if self.budget.expired:
                     raise self.budget.error("the closed-form transient") from None
