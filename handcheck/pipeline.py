@@ -70,8 +70,8 @@ def evidence_for(worksheet: Worksheet, circuit: Circuit, exact: Any) -> Any:
     -------
     Evidence
     """
-    from handcheck.worksheet.values import read_span
     from handcheck.verify.evidence import gather_evidence
+    from handcheck.worksheet.values import read_span
 
     return gather_evidence(circuit, worksheet.steps, span=read_span(worksheet), exact=exact)
 
