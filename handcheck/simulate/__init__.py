@@ -7,7 +7,8 @@ exponential (see :mod:`handcheck.simulate.run`).
 
 from handcheck.simulate.analysis import KclResidual, PhasorFit, Settling, fit_phasors, kcl_residual, settling
 from handcheck.simulate.assemble import Equations, assemble
-from handcheck.simulate.run import Simulation, StateModel, simulate, state_model
+from handcheck.simulate.run import Simulation, simulate
+from handcheck.simulate.statemodel import StateModel, state_model
 
 __all__ = [
     "Equations",

@@ -19,7 +19,8 @@ from types import MappingProxyType
 import numpy as np
 
 from handcheck.circuit.model import GROUND, Circuit
-from handcheck.simulate.run import FIT_PERIODS, Simulation, slowest_rate, state_model
+from handcheck.simulate.run import FIT_PERIODS, Simulation
+from handcheck.simulate.statemodel import slowest_rate, state_model
 
 __all__ = ["KclResidual", "PhasorFit", "Settling", "fit_phasors", "kcl_residual", "settling"]
 

@@ -38,8 +38,9 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
 from handcheck.errors import LimitError
+from handcheck.solve.exact import compact, tidy
 from handcheck.solve.roots import WORK_DPS, Factor, Root, approx, irreducible_factors, roots_of_irreducible
-from handcheck.solve.waveform import Impulse, Term, TimeFunction
+from handcheck.solve.timefunction import Impulse, Term, TimeFunction
 
 if TYPE_CHECKING:  # pragma: no cover - typing only
     import sympy
@@ -163,38 +164,6 @@ def _check(deadline: float | None) -> None:
 # --------------------------------------------------------------------------
 
 
-def _tidy(x: Any) -> Any:
-    """An exact number in a canonical-enough form: expanded, radicals out of denominators."""
-    import sympy
-
-    if not isinstance(x, sympy.Basic) or x.is_Rational:
-        return x
-    if _transcendental(x):
-        return sympy.cancel(x)
-    x = sympy.expand(x)
-    if x.has(sympy.Pow):
-        x = sympy.expand(sympy.radsimp(x))
-    return x
-
-
-def _transcendental(x: Any) -> bool:
-    """True when ``x`` holds pi or a function value (cos of a phase...): no radical tricks then."""
-    import sympy
-
-    return x.has(sympy.pi, sympy.E) or bool(x.atoms(sympy.Function))
-
-
-def compact(x: Any) -> Any:
-    """A short exact form: one fraction (``sympy.cancel``) when transcendental numbers occur."""
-    import sympy
-
-    if not isinstance(x, sympy.Basic) or x.is_Rational:
-        return x
-    if _transcendental(x):
-        return sympy.cancel(x)
-    return _tidy(x)
-
-
 def _taylor(coeffs_high: list[Any], p: Any, order: int, exact: bool) -> list[Any]:
     """Taylor coefficients ``[P(p), P'(p), P''(p)/2, ...]`` up to ``order`` terms (synthetic division)."""
     work = list(coeffs_high)
@@ -208,7 +177,7 @@ def _taylor(coeffs_high: list[Any], p: Any, order: int, exact: bool) -> list[Any
         for c in work[1:]:
             acc = acc * p + c
             if exact:
-                acc = _tidy(acc)
+                acc = tidy(acc)
             quotient.append(acc)
         out.append(quotient[-1])
         work = quotient[:-1]
@@ -219,7 +188,7 @@ def _power_series(c: Any, k: int, order: int) -> list[Any]:
     """Taylor coefficients of ``(c + e)**k`` in ``e``, up to ``order`` terms."""
     import sympy
 
-    return [_tidy(sympy.binomial(k, j) * c ** (k - j)) if j <= k else 0 for j in range(order)]
+    return [tidy(sympy.binomial(k, j) * c ** (k - j)) if j <= k else 0 for j in range(order)]
 
 
 def _mul_series(a: list[Any], b: list[Any], order: int, exact: bool) -> list[Any]:
@@ -229,7 +198,7 @@ def _mul_series(a: list[Any], b: list[Any], order: int, exact: bool) -> list[Any
         for i in range(k + 1):
             if i < len(a) and k - i < len(b):
                 acc = acc + a[i] * b[k - i]
-        out.append(_tidy(acc) if exact else acc)
+        out.append(tidy(acc) if exact else acc)
     return out
 
 
@@ -241,7 +210,7 @@ def _div_series(a: list[Any], b: list[Any], order: int, exact: bool) -> list[Any
             if k - i < len(b):
                 acc = acc - out[i] * b[k - i]
         value = acc / b[0]
-        out.append(_tidy(value) if exact else value)
+        out.append(tidy(value) if exact else value)
     return out
 
 
@@ -258,6 +227,7 @@ class _Expansion:
 
 
 def _expand(shape: Shape, book: PoleBook, deadline: float | None) -> _Expansion:
+    # Long by design: the residue formula for each kind of pole, side by side.
     import mpmath
     import sympy
 
@@ -275,7 +245,7 @@ def _expand(shape: Shape, book: PoleBook, deadline: float | None) -> _Expansion:
                 nxt[i] += c
                 nxt[i + 1] -= c * q
             full = nxt
-        full = [_tidy(c) for c in full]
+        full = [tidy(c) for c in full]
     # polynomial part by long division (full is monic)
     impulses: list[tuple[int, Any]] = []
     rem = list(num)
@@ -286,7 +256,7 @@ def _expand(shape: Shape, book: PoleBook, deadline: float | None) -> _Expansion:
             lead = rem[0]
             quotient.append(lead)
             for k in range(len(full)):
-                rem[k] = _tidy(rem[k] - lead * full[k])
+                rem[k] = tidy(rem[k] - lead * full[k])
             rem = rem[1:]
         for order, c in enumerate(reversed(quotient)):
             if c != 0:
@@ -319,7 +289,7 @@ def _expand(shape: Shape, book: PoleBook, deadline: float | None) -> _Expansion:
                 dt = _taylor(den, p, 2 * m, True)[m:]
                 if shape.extra is not None:
                     q, mq = shape.extra
-                    dt = _mul_series(dt, _power_series(_tidy(p - q), mq, m), m, True)
+                    dt = _mul_series(dt, _power_series(tidy(p - q), mq, m), m, True)
             coeffs = _div_series(nt, dt, m, True)
         else:
             with mpmath.workdps(WORK_DPS):
@@ -339,11 +309,11 @@ def _expand(shape: Shape, book: PoleBook, deadline: float | None) -> _Expansion:
             power = m - 1 - j
             coefficient = c / math.factorial(power) if power > 1 else c
             if pole.exact:
-                coefficient = compact(_tidy(coefficient))
+                coefficient = compact(tidy(coefficient))
                 if coefficient == 0:
                     continue
             terms.append((key, power, coefficient))
-    return _Expansion(tuple(terms), tuple(impulses), _tidy(initial))
+    return _Expansion(tuple(terms), tuple(impulses), tidy(initial))
 
 
 def inverse_laplace(
@@ -372,6 +342,7 @@ def inverse_laplace(
     -------
     TimeFunction
     """
+    # Long by design: exact and numerical accumulation of the same terms, side by side.
     import mpmath
     import sympy
 
@@ -427,7 +398,7 @@ def inverse_laplace(
         if summed is not None:
             impulses.append(Impulse(summed[0], order, delay))
     impulses.sort(key=lambda i: (i.delay, i.order))
-    init = _tidy(initial)
+    init = tidy(initial)
     if not init.is_real:
         init = sympy.expand_complex(init).as_real_imag()[0]
     init = compact(init)
@@ -448,7 +419,7 @@ def _sum_exact(parts: list[tuple[Any, Any]]) -> tuple[Any, Any] | None:
         value = sum((v for _, v in parts), mpmath.mpc(0))
         if len(parts) == 1:
             return (parts[0][0], value) if parts[0][0] != 0 else None
-        total = compact(_tidy(sympy.Add(*(p for p, _ in parts))))
+        total = compact(tidy(sympy.Add(*(p for p, _ in parts))))
         if total == 0:
             return None
         size = sum((abs(v) for _, v in parts), mpmath.mpf(0))

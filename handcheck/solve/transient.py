@@ -16,32 +16,14 @@ current ``i0`` adds ``-L i0`` to its branch row and ``-M i0`` to the branch row 
 each inductor it is coupled to.
 
 Every right-hand side (one per independent source, one for the stored energy) is
-solved exactly for rational functions of s with
-:func:`handcheck.solve.network.solve_rational`. Each source's transform is a short
-sum of weighted, delayed elementary transforms: ``1/s`` (constants and steps),
-``1/s**2`` (ramps: the edges of pulse trains and of point lists), and
-``(s + a)/((s + a)**2 + w**2)``, ``1/((s + a)**2 + w**2)`` (damped sinusoids). The
-response is inverted by exact partial fractions (:mod:`handcheck.solve.laplace`)
-with poles from :mod:`handcheck.solve.roots`; ``sympy.inverse_laplace_transform`` is
-not used (too slow beyond order four, see docs/DESIGN.md).
-
-State before t = 0
-------------------
-``start = "rest"``: each capacitor's voltage and inductor's current at ``t = 0-``
-is its ``initial`` value (0 if none). ``start = "steady"``: the circuit before
-t = 0 (each switch in its earlier state: a closing switch open, an opening one
-closed) sat in its steady state, driven by the sources' values for ``t < 0``:
-constant sources and undamped sinusoids as for ``t >= 0`` (they run for all time;
-a delay only shifts a sinusoid's phase), a step source at its ``low`` level, every
-other source off. That state is the DC solution plus the real part of each
-sinusoid's phasor (``x(t) = Re(X exp(j w t))`` at ``t = 0``), found with the exact
-phasor solver :func:`handcheck.solve.phasor.solve`, one solve per frequency.
-
-Waveforms, as in :class:`handcheck.circuit.model.Source` (tau = t - delay): with
-``start = "rest"`` every source is 0 before its delay; a "points" source holds its
-first value from its delay until its first point, then follows the straight lines
-and holds its last value. A pulse train is expanded period by period up to the
-horizon ``until``.
+solved exactly for rational functions of s (:mod:`handcheck.solve.columns`). Each
+source function is a sum of weighted, delayed elementary transforms
+(:mod:`handcheck.solve.sourcetransforms`); a repeating source is written out period
+by period up to the horizon ``until``. The response is inverted by exact partial
+fractions (:mod:`handcheck.solve.laplace`) with poles from
+:mod:`handcheck.solve.roots`; ``sympy.inverse_laplace_transform`` is not used (too
+slow beyond order four, see docs/DESIGN.md). The state at t = 0- comes from
+:mod:`handcheck.solve.initialstate` (``start = "rest"`` or ``"steady"``).
 
 Natural modes: the roots of ``det(G + s C)`` after cancelling the factors common to
 every entry of the adjugate, i.e. of the least common denominator of ``X(s)`` for a
@@ -53,23 +35,33 @@ RC sections give one time constant, not a double pole. Its degree is the order.
 
 from __future__ import annotations
 
-import dataclasses
 import time
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
 from handcheck.circuit.mna import MnaSystem, stamp
-from handcheck.circuit.model import GROUND, Circuit, Part, Source
-from handcheck.worksheet.sourcefunction import SourceFunction, SourceTerm
-from handcheck.errors import CircuitError, LimitError, TimeLimitError
-from handcheck.solve.laplace import Piece, PoleBook, Shape, compact, inverse_laplace
+from handcheck.circuit.model import GROUND, Circuit, Part
+from handcheck.errors import CircuitError, LimitError
+from handcheck.solve.columns import (
+    Column,
+    combine,
+    energy_vector,
+    laplace_s,
+    node_form,
+    shape_of,
+    solve_column,
+    timeout_error,
+    to_time,
+)
+from handcheck.solve.initialstate import rest_state, steady_state
+from handcheck.solve.laplace import Piece, PoleBook, inverse_laplace
 from handcheck.solve.roots import Factor, irreducible_factors, roots_of_irreducible
-from handcheck.solve.waveform import Impulse, Term, TimeFunction
+from handcheck.solve.sourcetransforms import Basis, basis_one, source_waves
+from handcheck.solve.timefunction import Impulse, Term, TimeFunction
 
 if TYPE_CHECKING:  # pragma: no cover - typing only
     import sympy
 
-    from handcheck.solve.network import RationalFunction
 
 __all__ = [
     "DEFAULT_PERIODS",
@@ -92,234 +84,6 @@ _SEED = 20240607
 
 
 # --------------------------------------------------------------------------
-# elementary transforms of the source waveforms
-# --------------------------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class _Basis:
-    """An elementary transform ``num/den`` (polynomials over QQ), times ``1/(s - q)**m`` when
-    ``extra = (q, m)`` holds an exact pole outside the rationals' reach (``q = j*100*pi``)."""
-
-    num: tuple[Any, ...]  # coefficients, highest power first
-    den: tuple[Any, ...]
-    extra: tuple[Any, int] | None = None
-
-
-def _basis_one() -> _Basis:
-    import sympy
-
-    return _Basis((sympy.Integer(1),), (sympy.Integer(1),))
-
-
-_Wave = tuple[Any, _Basis, Any]  # (weight, basis, delay)
-
-
-def _term_waves(term: SourceTerm) -> list[_Wave]:
-    """The transform of ``Re[X tau**n exp((-a + j w) tau)]`` from ``start`` on.
-
-    ``L{tau**n exp(p tau)} = n!/(s - p)**(n+1)`` (standard table; e.g. Kreyszig,
-    *Advanced Engineering Mathematics*, 10th ed., sec. 6.9, from memory). With a and
-    w**2 rational the conjugate pair is one rational function: with
-    ``(s + a + j w)**(n+1) = P(s) + j Q(s)``, the transform is
-    ``n! (Re X * P - Im X * Q) / ((s + a)**2 + w**2)**(n+1)``. Otherwise each half
-    keeps its exact pole.
-    """
-    import sympy
-
-    s = sympy.Symbol("s", real=True)
-    n, a, w, x = term.power, term.decay, term.omega, term.phasor
-    fact = sympy.factorial(n)
-    zero = sympy.Integer(0)
-    if w == 0 and a.is_Rational:
-        den = sympy.Poly((s + a) ** (n + 1), s).all_coeffs()
-        return [(x * fact, _Basis((sympy.Integer(1),), tuple(den)), term.start)]
-    if w != 0 and a.is_Rational and sympy.expand(w * w).is_Rational:
-        den = tuple(sympy.Poly(((s + a) ** 2 + w * w) ** (n + 1), s).all_coeffs())
-        p_part, q_part = sympy.expand((s + a + sympy.I * w) ** (n + 1)).as_real_imag()
-        re_x, im_x = sympy.expand_complex(x).as_real_imag()
-        out: list[_Wave] = []
-        p_poly = sympy.Poly(sympy.expand(p_part), s)
-        q_poly = sympy.Poly(sympy.expand(q_part / w), s)
-        if re_x != 0:
-            out.append((compact(re_x * fact), _Basis(tuple(p_poly.all_coeffs()), den), term.start))
-        if im_x != 0:
-            out.append((compact(-im_x * fact * w), _Basis(tuple(q_poly.all_coeffs()), den), term.start))
-        return out
-    one = (sympy.Integer(1),)
-    pole = -a + sympy.I * w
-    re_x, im_x = sympy.expand_complex(x).as_real_imag()
-    x = re_x + sympy.I * im_x  # cos and sin of the phase, not exp(j phase): one canonical form
-    if w == 0:
-        return [(x * fact, _Basis(one, one, (pole, n + 1)), term.start)]
-    half = fact / 2
-    return [
-        (compact(x * half), _Basis(one, one, (pole, n + 1)), term.start),
-        (compact(sympy.conjugate(x) * half), _Basis(one, one, (sympy.conjugate(pole), n + 1)), term.start),
-    ] if x != zero else []
-
-
-def _source_waves(source: Source, horizon: Any) -> list[_Wave]:
-    """The source's function for t >= 0 as weighted, delayed elementary transforms.
-
-    Repeats are written out for the periods that start up to ``horizon``.
-    """
-    import sympy
-
-    terms, _ = source.function.expanded(horizon if horizon is not None else sympy.Integer(0))
-    merged: dict[tuple[_Basis, Any], Any] = {}
-    zero = sympy.Integer(0)
-    for term in terms:
-        for weight, basis, at in _term_waves(term):
-            merged[(basis, at)] = merged.get((basis, at), zero) + weight
-    out = []
-    for (basis, at), weight in merged.items():
-        weight = compact(sympy.expand(weight)) if not weight.is_Rational else weight
-        if weight != 0:
-            out.append((weight, basis, at))
-    return out
-
-
-# --------------------------------------------------------------------------
-# the state before t = 0
-# --------------------------------------------------------------------------
-
-
-def _rest_state(circuit: Circuit) -> dict[str, Any]:
-    import sympy
-
-    return {
-        p.id: (p.initial if p.initial is not None else sympy.Integer(0))
-        for p in circuit.parts
-        if p.kind in ("capacitor", "inductor")
-    }
-
-
-def _steady_state(circuit: Circuit) -> dict[str, Any]:
-    """Capacitor voltages and inductor currents at t = 0- of the circuit in its earlier steady state.
-
-    Before t = 0 each source is the part of its function that ran for all time
-    (constants and sinusoids outside every step, edge and repeat); the state is the
-    DC solution plus, per frequency, ``Re(X)`` of the phasor solution.
-    """
-    import sympy
-
-    from handcheck.solve import phasor
-
-    zero = sympy.Integer(0)
-    before = [dataclasses.replace(p, value=1 - p.value) if p.kind == "switch" else p for p in circuit.parts]
-    reactive = [p for p in before if p.kind in ("capacitor", "inductor")]
-    state = {p.id: zero for p in reactive}
-
-    def solve(parts: list[Part], omega: Any, what: str) -> Any:
-        pre = dataclasses.replace(circuit, parts=tuple(parts), omega=omega, phasors="peak")
-        try:
-            return phasor.solve(pre)
-        except CircuitError as exc:
-            raise CircuitError(
-                f"the circuit before t = 0 (switches in their earlier state) has no unique steady state {what}: "
-                f'{exc.message}; if that is how it was, give start = "rest" with the `initial` values of the '
-                "capacitors and inductors instead",
-                exc.parts,
-                file=circuit.path,
-            ) from None
-
-    def collect(solution: Any, real_part: bool) -> None:
-        for p in reactive:
-            value = phasor.part_voltage(solution, p) if p.kind == "capacitor" else phasor.part_current(solution, p)
-            if real_part:
-                value = sympy.expand_complex(value).as_real_imag()[0]
-            state[p.id] = state[p.id] + value
-
-    earlier = {p.id: p.source.function.before_zero() for p in before if p.source is not None}
-
-    def driven(omega: Any) -> list[Part]:
-        out = []
-        for p in before:
-            if p.source is not None:
-                value = earlier[p.id].steady(omega)
-                if omega == 0:
-                    function = SourceFunction((SourceTerm(value, before_zero=True),))
-                else:
-                    function = SourceFunction((SourceTerm(value, omega=omega, before_zero=True),))
-                p = dataclasses.replace(p, source=Source(function))
-            out.append(p)
-        return out
-
-    collect(solve(driven(zero), zero, "at DC"), False)
-    omegas: list[Any] = []
-    for function in earlier.values():
-        for w in function.frequencies:
-            if not any(sympy.simplify(w - o) == 0 for o in omegas):
-                omegas.append(w)
-    for w in omegas:
-        collect(solve(driven(w), w, f"at {sympy.N(w / (2 * sympy.pi), 6)} Hz"), True)
-    return {k: compact(v) for k, v in state.items()}
-
-
-# --------------------------------------------------------------------------
-# right-hand sides
-# --------------------------------------------------------------------------
-
-
-def _energy_vector(system: MnaSystem, circuit: Circuit, part: Part) -> list[Any]:
-    """``C x(0-)`` for a unit initial voltage (capacitor) or current (inductor) of one part."""
-    import sympy
-
-    zero = sympy.Integer(0)
-    rhs = [zero] * system.size
-    if part.kind == "capacitor":
-        if part.id in system.branches:
-            rhs[system.branches[part.id]] += part.value
-        else:
-            for node, sign in ((part.nodes[0], 1), (part.nodes[1], -1)):
-                row = system.node(node)
-                if row is not None:
-                    rhs[row] += sign * part.value
-    else:  # inductor: its column of C holds -L on its row and -M on each coupled inductor's row
-        col = system.branches[part.id]
-        for row in range(system.size):
-            rhs[row] += system.C[row][col]
-    return rhs
-
-
-@dataclass(frozen=True)
-class _Column:
-    """One right-hand side, its exact solution, and what multiplies it."""
-
-    label: str
-    responses: tuple[Any, ...]  # RationalFunction per unknown
-    waves: tuple[_Wave, ...]
-
-
-def _solve(system: MnaSystem, circuit: Circuit, rhs: list[Any], deadline: float) -> tuple[RationalFunction, ...]:
-    from handcheck.solve.network import solve_rational
-
-    remaining = deadline - time.monotonic()
-    if remaining <= 0:
-        raise _timeout()
-    try:
-        return solve_rational(system.G, system.C, rhs, time_limit=remaining)
-    except TimeLimitError:
-        raise  # the command's own budget: never turned into another finding
-    except TimeoutError:
-        raise _timeout() from None
-    except ValueError as exc:
-        raise CircuitError(
-            "the circuit after t = 0 has no unique solution: its equations are singular for every s "
-            f"({exc}); look for a loop of voltage sources and capacitors or a cut of current sources and inductors",
-            file=circuit.path,
-        ) from None
-
-
-def _timeout() -> LimitError:
-    return LimitError(
-        "the transient solution took longer than its time limit; simplify the circuit (fewer capacitors and "
-        "inductors) or raise the limit"
-    )
-
-
-# --------------------------------------------------------------------------
 # the solution
 # --------------------------------------------------------------------------
 
@@ -335,7 +99,7 @@ class TransientSolution:
 
     circuit: Circuit
     system: MnaSystem
-    columns: tuple[_Column, ...]
+    columns: tuple[Column, ...]
     initial: tuple[tuple[str, Any], ...]
     modes: tuple[tuple[Factor, int], ...]
     polynomial: Any  # sympy.Poly: the characteristic (minimal) polynomial
@@ -355,7 +119,7 @@ class TransientSolution:
     # ----- waveforms -----------------------------------------------------------
 
     def _function(
-        self, name: str, linear: dict[int, tuple[Any, Any]], direct: list[tuple[Any, _Basis, Any]]
+        self, name: str, linear: dict[int, tuple[Any, Any]], direct: list[tuple[Any, Basis, Any]]
     ) -> TimeFunction:
         import sympy
 
@@ -363,16 +127,16 @@ class TransientSolution:
         book = PoleBook([f for f, _ in self.modes])
         pieces: list[Piece] = []
         for column in self.columns:
-            num, den = _combine(column.responses, linear)
+            num, den = combine(column.responses, linear)
             if num is None:
                 continue
             for weight, basis, delay in column.waves:
-                pieces.append(Piece(weight, _shape(num, den, basis), delay))
+                pieces.append(Piece(weight, shape_of(num, den, basis), delay))
         domain = self._domain()
-        s = _s()
+        s = laplace_s()
         one = sympy.Poly(1, s, domain=domain)
         for weight, basis, delay in direct:
-            pieces.append(Piece(weight, _shape(one, one, basis), delay))
+            pieces.append(Piece(weight, shape_of(one, one, basis), delay))
         return inverse_laplace(pieces, book, name=name, horizon=self.valid, deadline=deadline)
 
     def _domain(self) -> Any:
@@ -389,7 +153,7 @@ class TransientSolution:
             return TimeFunction((), horizon=self.valid, name="voltage(gnd)")
         if name not in self.system.nodes:
             raise CircuitError(f'there is no node "{name}" in the circuit', file=self.circuit.path)
-        return self._function(f"voltage({name})", _node_form(self.system, name), [])
+        return self._function(f"voltage({name})", node_form(self.system, name), [])
 
     def _part(self, ident: str) -> Part:
         try:
@@ -405,9 +169,9 @@ class TransientSolution:
                 f"{ident} is a coupling; it has no voltage of its own", (ident,), file=self.circuit.path, line=part.line
             )
         if part.kind == "opamp":
-            return self._function(f"voltage({ident})", _node_form(self.system, part.nodes[0]), [])
-        form = _node_form(self.system, part.nodes[0])
-        for k, (c0, c1) in _node_form(self.system, part.nodes[1]).items():
+            return self._function(f"voltage({ident})", node_form(self.system, part.nodes[0]), [])
+        form = node_form(self.system, part.nodes[0])
+        for k, (c0, c1) in node_form(self.system, part.nodes[1]).items():
             a0, a1 = form.get(k, (0, 0))
             form[k] = (a0 - c0, a1 - c1)
         return self._function(f"voltage({ident})", form, [])
@@ -445,13 +209,13 @@ class TransientSolution:
             if kind == "capacitor":  # i = C dv/dt: transform s C V(s) - C v(0-)
                 v0 = self._initial_of(ident)
                 if v0 != 0:
-                    direct.append((-part.value * v0, _basis_one(), sympy.Integer(0)))
+                    direct.append((-part.value * v0, basis_one(), sympy.Integer(0)))
             return self._function(name, form, direct)
         if kind == "cccs":
             return self._function(name, {system.branches[str(part.control)]: (part.value, 0)}, [])
         if kind == "current":
             assert part.source is not None
-            waves = _source_waves(part.source, self.horizon)
+            waves = source_waves(part.source, self.horizon)
             return self._function(name, {}, waves)
         raise CircuitError(
             f"{ident} is a {kind}; it has no current of its own", (ident,), file=self.circuit.path, line=part.line
@@ -462,10 +226,6 @@ class TransientSolution:
     def order(self) -> int:
         """The order of the circuit: the number of natural modes, with multiplicity."""
         return int(self.polynomial.degree())
-
-    def characteristic_polynomial(self) -> sympy.Poly:
-        """The monic polynomial in s whose roots are the natural modes (exact)."""
-        return self.polynomial
 
     def natural_modes(self) -> tuple[Any, ...]:
         """The natural modes (poles, in 1/s), each repeated by its multiplicity.
@@ -524,26 +284,6 @@ class TransientSolution:
             return sympy.radsimp(1 / slow)
         return 2 / c1
 
-    def time_constants(self) -> tuple[Any, ...]:
-        """``1/|Re p|`` for every decaying natural mode, slowest first (a conjugate pair once).
-
-        Exact for closed-form modes, else ``mpmath.mpf`` with 30+ digits; any order.
-        """
-        import mpmath
-        import sympy
-
-        out = []
-        for factor, _ in self.modes:
-            for root in factor.roots:
-                if root.real_sign >= 0 or root.imag_sign < 0:
-                    continue
-                if root.exact is not None:
-                    out.append(sympy.radsimp(-1 / sympy.re(root.exact)))
-                else:
-                    with mpmath.workdps(60):
-                        out.append(-1 / root.approx.real)
-        return tuple(sorted(out, key=lambda x: -float(x)))
-
     def natural_frequency(self) -> sympy.Expr:
         """``w_n = sqrt(p1 p2)`` in rad/s (second-order circuits), exactly."""
         import sympy
@@ -572,78 +312,6 @@ class TransientSolution:
         return sympy.radsimp(sympy.sqrt(c0) / c1)
 
 
-def _s() -> Any:
-    from handcheck.solve.network import laplace_symbol
-
-    return laplace_symbol()
-
-
-def _node_form(system: MnaSystem, node: str) -> dict[int, tuple[Any, Any]]:
-    index = system.node(node)
-    return {} if index is None else {index: (1, 0)}
-
-
-def _combine(responses: tuple[Any, ...], linear: dict[int, tuple[Any, Any]]) -> tuple[Any, Any]:
-    """``sum (c0 + c1 s) x_k(s)`` as a reduced fraction ``(num, den)``; ``(None, None)`` if zero."""
-    import sympy
-
-    if not responses:
-        return None, None
-    s = _s()
-    domain = responses[0].den.domain
-    num = sympy.Poly(0, s, domain=domain)
-    den = sympy.Poly(1, s, domain=domain)
-    for k, (c0, c1) in linear.items():
-        if c0 == 0 and c1 == 0:
-            continue
-        rf = responses[k]
-        if rf.num.is_zero:
-            continue
-        mult = sympy.Poly([c1, c0], s, domain=domain) if c1 != 0 else sympy.Poly(c0, s, domain=domain)
-        g = den.gcd(rf.den)
-        lcm = den.exquo(g) * rf.den
-        num = num * lcm.exquo(den) + mult * rf.num * lcm.exquo(rf.den)
-        den = lcm
-    if num.is_zero:
-        return None, None
-    g = num.gcd(den)
-    num, den = num.exquo(g), den.exquo(g)
-    lc = den.LC()
-    return num.quo_ground(lc), den.monic()
-
-
-def _shape(num: Any, den: Any, basis: _Basis) -> Shape:
-    import sympy
-
-    s = num.gen
-    domain = num.domain
-    bn = sympy.Poly(list(basis.num), s, domain=domain)
-    bd = sympy.Poly(list(basis.den), s, domain=domain)
-    n, d = num * bn, den * bd
-    g = n.gcd(d)
-    n, d = n.exquo(g), d.exquo(g)
-    lc = d.LC()
-    return Shape(n.quo_ground(lc), d.monic(), basis.extra)
-
-
-def _to_time(value: Any) -> Any:
-    from fractions import Fraction
-
-    import sympy
-
-    if isinstance(value, sympy.Basic):
-        return value
-    if isinstance(value, bool):
-        raise TypeError("a time must be a number")
-    if isinstance(value, int):
-        return sympy.Integer(value)
-    if isinstance(value, Fraction):
-        return sympy.Rational(value.numerator, value.denominator)
-    if isinstance(value, float):
-        return sympy.Rational(repr(value))  # the decimal as written, exactly
-    raise TypeError(f"a time must be a number, not {type(value).__name__}")
-
-
 def _horizon(circuit: Circuit, until: Any) -> tuple[Any, Any]:
     """The time up to which repeats are written out, and the first period start left out.
 
@@ -656,7 +324,7 @@ def _horizon(circuit: Circuit, until: Any) -> tuple[Any, Any]:
     if not repeats:
         return None, None
     if until is not None:
-        horizon = _to_time(until)
+        horizon = to_time(until)
     else:
         latest = max(p.source.function.last_start for p in circuit.parts if p.source is not None)
         horizon = latest + DEFAULT_PERIODS * max(r.period for r in repeats)
@@ -723,6 +391,7 @@ def transient_solution(
     >>> solution.time_constant()
     1/1000
     """
+    # Long by design: the steps of the solution in the order the module docstring gives them.
     import random
 
     import sympy
@@ -732,23 +401,23 @@ def transient_solution(
     start = circuit.start
     if start not in ("rest", "steady"):
         raise CircuitError(f'start = "{start}" must be "rest" or "steady"', file=circuit.path)
-    state = _rest_state(circuit) if start == "rest" else _steady_state(circuit)
+    state = rest_state(circuit) if start == "rest" else steady_state(circuit)
 
     horizon, valid = _horizon(circuit, until)
     reactive = [p for p in circuit.parts if p.kind in ("capacitor", "inductor")]
-    energy = {p.id: _energy_vector(system, circuit, p) for p in reactive}
+    energy = {p.id: energy_vector(system, circuit, p) for p in reactive}
 
     # natural modes first: a generic stored-energy vector excites every mode
     modes: list[tuple[Factor, int]] = []
-    polynomial = sympy.Poly(1, _s(), domain=sympy.QQ)
+    polynomial = sympy.Poly(1, laplace_s(), domain=sympy.QQ)
     if reactive:
         rng = random.Random(_SEED)
         generic = [sympy.Integer(0)] * system.size
         for p in reactive:
             weight = sympy.Rational(rng.randint(1, 10**6), rng.randint(1, 10**3))
             generic = [g + weight * e for g, e in zip(generic, energy[p.id], strict=True)]
-        responses = _solve(system, circuit, generic, deadline)
-        polynomial = sympy.Poly(1, _s(), domain=responses[0].den.domain)
+        responses = solve_column(system, circuit, generic, deadline)
+        polynomial = sympy.Poly(1, laplace_s(), domain=responses[0].den.domain)
         for rf in responses:
             polynomial = polynomial.lcm(rf.den)
         polynomial = polynomial.monic()
@@ -760,10 +429,10 @@ def transient_solution(
             )
         for f, mult in irreducible_factors(polynomial):
             if time.monotonic() > deadline:
-                raise _timeout()
+                raise timeout_error()
             modes.append((Factor(f, roots_of_irreducible(f)), mult))
 
-    columns: list[_Column] = []
+    columns: list[Column] = []
     zero_delay = sympy.Integer(0)
     # stored energy: rational initial values in one column, others one column each
     rational_rhs = [sympy.Integer(0)] * system.size
@@ -777,28 +446,28 @@ def transient_solution(
             any_rational = True
         else:
             columns.append(
-                _Column(
+                Column(
                     f"stored energy in {p.id}",
-                    _solve(system, circuit, energy[p.id], deadline),
-                    ((v0, _basis_one(), zero_delay),),
+                    solve_column(system, circuit, energy[p.id], deadline),
+                    ((v0, basis_one(), zero_delay),),
                 )
             )
     if any_rational and any(r != 0 for r in rational_rhs):
         columns.append(
-            _Column(
+            Column(
                 "stored energy",
-                _solve(system, circuit, rational_rhs, deadline),
-                ((sympy.Integer(1), _basis_one(), zero_delay),),
+                solve_column(system, circuit, rational_rhs, deadline),
+                ((sympy.Integer(1), basis_one(), zero_delay),),
             )
         )
     for k, ident in enumerate(system.sources):
         part = circuit.part(ident)
         assert part.source is not None
-        waves = _source_waves(part.source, horizon)
+        waves = source_waves(part.source, horizon)
         if not waves:
             continue
         rhs = [system.B[r][k] for r in range(system.size)]
-        columns.append(_Column(ident, _solve(system, circuit, rhs, deadline), tuple(waves)))
+        columns.append(Column(ident, solve_column(system, circuit, rhs, deadline), tuple(waves)))
 
     return TransientSolution(
         circuit=circuit,

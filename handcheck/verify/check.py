@@ -27,7 +27,6 @@ import sympy
 
 from handcheck.circuit.build import build
 from handcheck.circuit.kinds import KINDS
-from handcheck.worksheet.values import read_span
 from handcheck.circuit.model import Circuit
 from handcheck.errors import CircuitError, HandcheckError, TimeLimitError, UnitError, WorksheetError
 from handcheck.solve.phasor import Solution
@@ -52,6 +51,7 @@ from handcheck.worksheet.evaluate import Value, evaluate
 from handcheck.worksheet.expr import Node, names_in, parse
 from handcheck.worksheet.model import StepSpec, Worksheet
 from handcheck.worksheet.units import DIMENSIONLESS, dim_of
+from handcheck.worksheet.values import read_span
 
 __all__ = ["ROUNDING_SLACK", "check", "part_environment"]
 

@@ -29,7 +29,7 @@ from typing import Any
 
 import sympy
 
-from handcheck.errors import HandcheckError, ParseError, UnitError, WorksheetError
+from handcheck.errors import HandcheckError, ParseError, UnitError
 from handcheck.worksheet.evaluate import Function, Value, evaluate, unit_of, without_time
 from handcheck.worksheet.expr import Name, Number, one_line, parse, walk
 from handcheck.worksheet.units import DIMENSIONLESS, dim_of
