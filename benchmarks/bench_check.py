@@ -111,9 +111,9 @@ def main() -> None:
             rows.append((f"bundled {sheet.name}", median_cpu([*check, str(sheet)], args.repeat), "4x"))
         sizes = (8, 32, 64) if args.quick else (8, 32, 64, 128)
         for n in sizes:
-            probe = folder / f"probe{n}.toml"
-            probe.write_text(ladder(n, "1 V", tolerance="99%"), encoding="utf-8")  # agrees: no catalogue
-            claim = right_claim(probe)  # the exact value, printed to the digits shown
+            trial = folder / f"trial{n}.toml"
+            trial.write_text(ladder(n, "1 V", tolerance="99%"), encoding="utf-8")  # agrees: no catalogue
+            claim = right_claim(trial)  # the exact value, printed to the digits shown
             path = folder / f"ladder{n}.toml"
             path.write_text(ladder(n, claim), encoding="utf-8")
             rows.append((f"ladder {n} sections, right claim", median_cpu([*check, str(path)], args.repeat), "4x"))
