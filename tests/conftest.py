@@ -7,6 +7,10 @@ from collections.abc import Callable, Mapping, Sequence
 
 import pytest
 
+# the contract cases' generator runs (and is checked) in test_contract_blind.py; collecting
+# its doctests would only build every case once more
+collect_ignore = ["contract/generate.py"]
+
 Parts = Mapping[str, Mapping[str, object]]
 Steps = Sequence[Mapping[str, str]]
 

@@ -357,6 +357,7 @@ def test_caution_thresholds(tmp_path, capsys, volts, freq, phasors, amps, cautio
 # --------------------------------------------------------------------------
 
 
+@pytest.mark.slow
 def test_subprocess_python_m_handcheck_cli(tmp_path):
     env = dict(os.environ)
     env["PYTHONPATH"] = os.pathsep.join(filter(None, [str(REPO), env.get("PYTHONPATH")]))

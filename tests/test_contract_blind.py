@@ -213,7 +213,12 @@ KINDS = {
 # the cases
 # ---------------------------------------------------------------------------------
 def _params():
-    return [pytest.param(name, sub, id=f"{name}::{sub}") for name, expect in GOOD.items() for sub in expect["checks"]]
+    # the transient cases (tr_*) solve in the time domain and take seconds each: slow
+    return [
+        pytest.param(name, sub, id=f"{name}::{sub}", marks=[pytest.mark.slow] if name.startswith("tr_") else [])
+        for name, expect in GOOD.items()
+        for sub in expect["checks"]
+    ]
 
 
 @pytest.mark.parametrize(("name", "sub"), _params())
@@ -247,6 +252,7 @@ def test_worksheet_count():
     assert all(expect == {"exit": 2} or set(expect) == {"exit", "line"} for expect in MALFORMED.values())
 
 
+@pytest.mark.slow
 def test_cases_are_what_the_generator_writes(tmp_path, monkeypatch):
     spec = importlib.util.spec_from_file_location("contract_generate", CONTRACT / "generate.py")
     assert spec is not None and spec.loader is not None
@@ -274,6 +280,7 @@ def shell_runs() -> dict[str, Run]:
         return {name: future.result() for name, future in futures.items()}
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("name", ["rc_peak", "rc_mistakes"])
 def test_subprocess_exit_status_and_json(shell_runs, name):
     run = shell_runs[name]
@@ -284,6 +291,7 @@ def test_subprocess_exit_status_and_json(shell_runs, name):
     assert run.stdout.count("\n") == 1 and run.stdout.endswith("}\n")
 
 
+@pytest.mark.slow
 def test_subprocess_bad_worksheet_one_line_naming_the_line(shell_runs):
     run = shell_runs["bad_toml_syntax"]
     _assert_refused(run)
@@ -291,6 +299,7 @@ def test_subprocess_bad_worksheet_one_line_naming_the_line(shell_runs):
     assert re.search(rf"\b{MALFORMED['bad_toml_syntax']['line']}\b", run.stderr), run.stderr
 
 
+@pytest.mark.slow
 def test_subprocess_missing_file_exits_2(shell_runs):
     run = shell_runs["bad_missing_file"]
     _assert_refused(run)

@@ -10,7 +10,9 @@ against an independent evaluation in Python's exact ``fractions``.
 The tests call library functions directly (no subprocesses). Hypothesis runs
 derandomized, so every run draws the same cases. ``HANDCHECK_FUZZ_EXAMPLES`` sets the
 total number of generated cases across this file (default :data:`DEFAULT_TOTAL`);
-each test gets a fixed share of it.
+each test gets a fixed share of it. Each Hypothesis example is a batch of
+:data:`BATCH` cases, which draws the same cases at a third of the cost of one example
+per case. These tests are marked ``slow`` (``pytest -m "not slow"`` leaves them out).
 """
 
 from __future__ import annotations
@@ -50,17 +52,25 @@ SHARES = {
 }
 DEFAULT_TOTAL = sum(SHARES.values())
 TOTAL = int(os.environ.get("HANDCHECK_FUZZ_EXAMPLES", DEFAULT_TOTAL))
+#: Cases drawn in one Hypothesis example.
+BATCH = 10
 
 
-def fuzz(share: str) -> settings:
-    """Hypothesis settings for one test: its share of the total, seeded, no deadline."""
-    return settings(
-        max_examples=max(1, round(SHARES[share] * TOTAL / DEFAULT_TOTAL)),
+def fuzz(share: str):
+    """Decorate one test: its share of the total in batches, seeded, no deadline, marked slow."""
+    configured = settings(
+        max_examples=max(1, round(SHARES[share] * TOTAL / DEFAULT_TOTAL / BATCH)),
         deadline=None,
         derandomize=True,
         database=None,
         suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large, HealthCheck.filter_too_much],
     )
+    return lambda test: pytest.mark.slow(configured(test))
+
+
+def batch(strategy: st.SearchStrategy) -> st.SearchStrategy[list]:
+    """:data:`BATCH` cases from ``strategy``."""
+    return st.lists(strategy, min_size=BATCH, max_size=BATCH)
 
 
 def only_handcheck_errors(function, *args, **kwargs):
@@ -345,11 +355,18 @@ def broken_text(draw) -> str:
 
 @fuzz("random_text")
 @given(
-    text=st.text(max_size=40)
-    | st.text(st.characters(codec="utf-8"), max_size=40)
-    | st.text(st.characters(categories=["Cs"]) | st.sampled_from('ab1 [="\n'), max_size=12)
+    texts=batch(
+        st.text(max_size=40)
+        | st.text(st.characters(codec="utf-8"), max_size=40)
+        | st.text(st.characters(categories=["Cs"]) | st.sampled_from('ab1 [="\n'), max_size=12)
+    )
 )
-def test_any_text_is_read_or_refused(text):
+def test_any_text_is_read_or_refused(texts):
+    for text in texts:
+        _any_text_is_read_or_refused(text)
+
+
+def _any_text_is_read_or_refused(text):
     # Arbitrary Unicode, lone surrogates too, in every reader of user text.
     only_handcheck_errors(parse, text)
     only_handcheck_errors(evaluate_text, text, ENV)
@@ -364,12 +381,13 @@ def test_any_text_is_read_or_refused(text):
 
 
 @fuzz("formulas")
-@given(text=FORMULAS | mutated(FORMULAS))
-def test_formulas_evaluate_or_refuse(text):
-    result = only_handcheck_errors(evaluate_text, text, ENV)
-    if not isinstance(result, HandcheckError):
-        assert isinstance(result, Value)
-        assert not result.expr.has(sympy.nan, sympy.zoo, sympy.oo, -sympy.oo)
+@given(texts=batch(FORMULAS | mutated(FORMULAS)))
+def test_formulas_evaluate_or_refuse(texts):
+    for text in texts:
+        result = only_handcheck_errors(evaluate_text, text, ENV)
+        if not isinstance(result, HandcheckError):
+            assert isinstance(result, Value)
+            assert not result.expr.has(sympy.nan, sympy.zoo, sympy.oo, -sympy.oo)
 
 
 @st.composite
@@ -405,34 +423,44 @@ def exact_trees(draw, depth: int = 0) -> tuple[str, Fraction | None]:
 
 
 @fuzz("exact_arithmetic")
-@given(tree=exact_trees())
-def test_exact_arithmetic_matches_fractions(tree):
+@given(trees=batch(exact_trees()))
+def test_exact_arithmetic_matches_fractions(trees):
     # The parser and evaluator against Python's own exact rational arithmetic.
-    text, expected = tree
-    if expected is None:
-        with pytest.raises(ParseError, match="division by zero"):
-            evaluate_text(text)
-        return
-    value = evaluate_text(text)
-    assert value.dim.dimensionless
-    assert value.expr == sympy.Rational(expected.numerator, expected.denominator), text
+    for text, expected in trees:
+        if expected is None:
+            with pytest.raises(ParseError, match="division by zero"):
+                evaluate_text(text)
+            continue
+        value = evaluate_text(text)
+        assert value.dim.dimensionless
+        assert value.expr == sympy.Rational(expected.numerator, expected.denominator), text
 
 
 @fuzz("claims")
-@given(text=CLAIMS | mutated(CLAIMS))
-def test_claims_read_or_refuse(text):
-    only_handcheck_errors(read_claim, text)
+@given(texts=batch(CLAIMS | mutated(CLAIMS)))
+def test_claims_read_or_refuse(texts):
+    for text in texts:
+        only_handcheck_errors(read_claim, text)
 
 
 @fuzz("exact_claims")
 @given(
-    real=DECIMALS,
-    imag=DECIMALS,
-    unit=st.sampled_from(sorted(CLAIM_UNITS)),
-    form=st.sampled_from(("real", "rect", "polar")),
-    angle=st.integers(-179, 180),
+    cases=batch(
+        st.tuples(
+            DECIMALS,
+            DECIMALS,
+            st.sampled_from(sorted(CLAIM_UNITS)),
+            st.sampled_from(("real", "rect", "polar")),
+            st.integers(-179, 180),
+        )
+    )
 )
-def test_written_claims_read_exactly(real, imag, unit, form, angle):
+def test_written_claims_read_exactly(cases):
+    for case in cases:
+        _written_claim_reads_exactly(*case)
+
+
+def _written_claim_reads_exactly(real, imag, unit, form, angle):
     # A claim written from known numbers reads back as exactly those numbers.
     factor, si_unit = CLAIM_UNITS[unit]
     if form == "real":
@@ -453,20 +481,22 @@ def test_written_claims_read_exactly(real, imag, unit, form, angle):
 
 
 @fuzz("worksheet_text")
-@given(text=worksheets() | broken_text())
-def test_worksheet_text_loads_or_refuses(text):
-    result = only_handcheck_errors(handcheck.loads, text, "<fuzz>")
-    if isinstance(result, HandcheckError):
-        assert result.file == "<fuzz>", f"the message does not name the file: {result}"
+@given(texts=batch(worksheets() | broken_text()))
+def test_worksheet_text_loads_or_refuses(texts):
+    for text in texts:
+        result = only_handcheck_errors(handcheck.loads, text, "<fuzz>")
+        if isinstance(result, HandcheckError):
+            assert result.file == "<fuzz>", f"the message does not name the file: {result}"
 
 
 @fuzz("whole_worksheets")
-@given(text=worksheets() | broken_text())
-def test_whole_worksheets_check_or_refuse(text):
-    result = only_handcheck_errors(handcheck.check_text, text, "<fuzz>")
-    if isinstance(result, handcheck.Report):
-        assert all(step.verdict in ("agrees", "arithmetic", "formula", "carried", "differs", "unit", "unchecked")
-                   for step in result.steps)
+@given(texts=batch(worksheets() | broken_text()))
+def test_whole_worksheets_check_or_refuse(texts):
+    for text in texts:
+        result = only_handcheck_errors(handcheck.check_text, text, "<fuzz>")
+        if isinstance(result, handcheck.Report):
+            assert all(step.verdict in ("agrees", "arithmetic", "formula", "carried", "differs", "unit", "unchecked")
+                       for step in result.steps)
 
 
 @st.composite
@@ -490,16 +520,16 @@ def valid_dividers(draw) -> tuple[str, Fraction]:
 
 
 @fuzz("valid_worksheets")
-@given(case=valid_dividers())
-def test_valid_worksheets_agree(case):
+@given(cases=batch(valid_dividers()))
+def test_valid_worksheets_agree(cases):
     # V_out = V * R2 / (R1 + R2) (Ohm's law for two resistors in series), computed
     # here in fractions and written to 12 significant digits.
-    text, exact = case
-    claim = f"{float(exact):.12g} V"
-    report = handcheck.check_text(text.replace('"@"', json.dumps(claim)), "<fuzz>")
-    (step,) = report.steps
-    assert step.verdict == "agrees", (claim, step)
-    assert report.ok
+    for text, exact in cases:
+        claim = f"{float(exact):.12g} V"
+        report = handcheck.check_text(text.replace('"@"', json.dumps(claim)), "<fuzz>")
+        (step,) = report.steps
+        assert step.verdict == "agrees", (claim, step)
+        assert report.ok
 
 
 #: Texts beyond a limit; the second field says whether the claim reader meets the

@@ -28,6 +28,7 @@ def ladder(sections: int) -> str:
     return "\n".join(lines) + "\n"
 
 
+@pytest.mark.slow
 def test_time_limit_is_honoured(tmp_path):
     # A 60-section ladder's peak needs a closed form of order 120: far longer than 1 s.
     path = tmp_path / "long.toml"

@@ -366,6 +366,7 @@ def true_claims(r: int, l_mh: int, c_uf: int, v: int) -> tuple[dict[str, str], d
     return {"xl": sig(xl, 6), "xc": sig(xc, 6), "z": rect(z, "ohm", 6), "i": polar(i, "A", 6), "p": sig(p, 6)}, nums
 
 
+@pytest.mark.slow
 @settings(max_examples=25, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])
 @given(values)
 def test_random_correct_derivations_never_diverge(parts):
@@ -383,6 +384,7 @@ MISTAKES = {
 }
 
 
+@pytest.mark.slow
 @settings(max_examples=25, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])
 @given(values, st.sampled_from(sorted(MISTAKES)))
 def test_one_random_mistake_is_found_at_its_step(parts, where):

@@ -253,6 +253,7 @@ def systems(draw):
     return G, C, b
 
 
+@pytest.mark.slow
 @settings(derandomize=True, max_examples=40, deadline=None,
           suppress_health_check=[HealthCheck.too_slow])
 @given(systems())

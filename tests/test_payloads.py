@@ -169,6 +169,7 @@ def test_every_string_field_is_covered():
     assert ("transient", "start") in covered and ("transient", "span") in covered
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("field", FIELDS, ids=["/".join(map(str, f)) for f in FIELDS])
 def test_payloads_in_a_field_are_refused_and_run_nothing(field, tmp_path, monkeypatch, capsys):
     monkeypatch.chdir(tmp_path)

@@ -57,6 +57,7 @@ def verdicts(report: handcheck.Report) -> dict[str, str]:
     return {s.name: s.verdict for s in report.steps}
 
 
+@pytest.mark.slow
 def test_first_order_rc_against_the_textbook_closed_form():
     # v(t) = V (1 - exp(-t/RC)): 63.2 % at one time constant, 99.3 % at five
     # (textbook closed form of a first-order step response; 1 - e^-1 = 0.63212, 1 - e^-5 = 0.99326).
@@ -66,6 +67,7 @@ def test_first_order_rc_against_the_textbook_closed_form():
     assert v1.expected_si[0] == pytest.approx(10 * (1 - math.exp(-1)), rel=1e-12)
 
 
+@pytest.mark.slow
 def test_a_wrong_time_function_and_value_are_found():
     report = handcheck.check_text(RC.format(v1="3.679 V", vt="10*(1 - exp(-t/(2 ms))) V"))
     result = verdicts(report)
@@ -92,6 +94,7 @@ def test_lc_filter_demo_verdicts():
     assert peak == pytest.approx(final * (1 + math.exp(-math.pi * zeta / math.sqrt(1 - zeta**2))), rel=1e-9)
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("name", sorted(p.name for p in WORKSHEETS.glob("*.toml")))
 def test_bundled_demos_have_closed_form_and_numerical_agreement(name):
     # The agreement target of the evidence: below 1e-6 of the waveform's peak.
@@ -104,6 +107,7 @@ def test_bundled_demos_have_closed_form_and_numerical_agreement(name):
     assert evidence.samples >= 200
 
 
+@pytest.mark.slow
 def test_evidence_in_json_and_plot(tmp_path, capsys):
     out = tmp_path / "snubber.svg"
     status = main(["check", str(WORKSHEETS / "coil-snubber.toml"), "--json", "--plot", str(out)])

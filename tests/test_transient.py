@@ -277,6 +277,7 @@ def _rlc_state_equations(R, L, C, source):
     return rhs
 
 
+@pytest.mark.slow
 def test_sine_driven_series_rlc_from_rest_against_lsim_and_solve_ivp():
     import numpy as np
     from scipy import signal
@@ -353,6 +354,7 @@ def test_delayed_step_against_solve_ivp():
     assert expr.has(sympy.Heaviside)
 
 
+@pytest.mark.slow
 def test_points_source_against_solve_ivp():
     import numpy as np
     from scipy.integrate import solve_ivp
@@ -434,6 +436,7 @@ def test_pulse_train_against_solve_ivp():
         v.final()
 
 
+@pytest.mark.slow
 def test_steady_ac_start_with_closing_switch_against_solve_ivp():
     # Before t = 0 the series RLC ran in its sinusoidal steady state with 20 ohm; the switch
     # shorts 10 ohm of it at t = 0. Initial state: Re of the phasors V/Z and V/(Z j w C) with
@@ -478,6 +481,7 @@ def test_steady_ac_start_with_closing_switch_against_solve_ivp():
     assert abs(v.initial() - sympy.N(state["C1"], 40)) < 1e-35 and abs(i.initial() - sympy.N(state["L1"], 40)) < 1e-35
 
 
+@pytest.mark.slow
 def test_damped_delayed_sine_with_offset_against_solve_ivp():
     import numpy as np
     from scipy.integrate import solve_ivp
@@ -603,6 +607,7 @@ def _ladder_state_matrix(sections: int):
     return A, B
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("sections", [2, 3])
 def test_ladder_against_scipy_signal_and_mpmath_roots(sections):
     import numpy as np
