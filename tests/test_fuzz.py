@@ -577,3 +577,16 @@ def test_a_value_beyond_floating_point_agrees_with_no_claim(formula, claim):
     )
     with pytest.raises(LimitError, match='step "x": a value is beyond the range of numbers handcheck compares'):
         handcheck.check_text(text, "<fuzz>")
+
+
+def test_a_deep_root_is_an_error_not_a_hang():
+    # Found by fuzzing: sympy's exact power of an integer searches for perfect powers up to
+    # the exponent's denominator, so "w^2.2e-6 || w^2.2e-6" (a denominator of 5,000,000) ran
+    # for minutes. Roots up to the 100th are accepted; 5 s allows for a loaded machine.
+    started = time.perf_counter()
+    with pytest.raises(LimitError, match="takes a root deeper than the 100th"):
+        evaluate_text("w^2.2e-6 || w^2.2e-6", ENV)
+    with pytest.raises(LimitError, match="takes a root deeper than the 100th"):
+        evaluate_text("x^(1/97) * x^(1/89)", ENV)  # two roots within the limit, their product beyond
+    assert evaluate_text("x^0.01", ENV).expr == sympy.Rational(3, 2) ** sympy.Rational(1, 100)
+    assert time.perf_counter() - started < 5

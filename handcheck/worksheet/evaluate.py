@@ -22,6 +22,10 @@ __all__ = ["FUNCTIONS", "Value", "evaluate", "evaluate_text", "unit_of"]
 
 #: Largest whole power accepted (keeps exact arithmetic from exploding).
 MAX_POWER = 64
+#: Deepest root accepted, the largest denominator of a fractional exponent: sympy's exact
+#: powers of integers search for perfect powers up to that denominator, which takes
+#: minutes past a few hundred thousand (``w^2.2e-6 || w^2.2e-6`` did not finish).
+MAX_ROOT = 100
 #: Most decimal digits in the numerator or denominator of an exact intermediate value.
 #: Below Python's limit for converting an integer to text (4,300 digits), so that every
 #: exact value can still be printed.
@@ -161,7 +165,16 @@ class _Evaluator:
         for atom in expr.atoms(sympy.Rational):
             if max(abs(atom.p).bit_length(), atom.q.bit_length()) > _MAX_BITS:
                 raise self.too_large(node)
+        for power in expr.atoms(sympy.Pow):
+            if power.exp.is_Rational and power.exp.q > MAX_ROOT:
+                raise self.too_deep(node, power.exp)
         return value
+
+    def too_deep(self, node: Node, exponent: sympy.Rational) -> LimitError:
+        return LimitError(
+            f'"{self.quote(node)}" takes a root deeper than the {MAX_ROOT}th (an exponent {exponent}), too costly '
+            "to work with exactly; round the exponent to fewer decimals"
+        )
 
     def number(self, node: Number) -> Value:
         value: sympy.Expr = _rational(node.value)
@@ -224,6 +237,8 @@ class _Evaluator:
                     f'the power "{self.quote(node)}" is too large: exponents from -{MAX_POWER} to {MAX_POWER} '
                     "are accepted"
                 )
+            if exponent.expr.q > MAX_ROOT:
+                raise self.too_deep(node, exponent.expr)
             if base.expr.is_Rational:
                 bits = max(abs(base.expr.p).bit_length(), base.expr.q.bit_length())
                 if bits * abs(exponent.expr) > _MAX_BITS:
