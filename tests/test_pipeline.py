@@ -30,6 +30,7 @@ def _count(monkeypatch: pytest.MonkeyPatch, module: object, name: str, counts: d
     monkeypatch.setattr(module, name, counted)
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("sheet", ["coil-snubber.toml", "lc-input-filter.toml"])
 def test_check_evidence_plot_builds_solves_and_simulates_once(sheet, monkeypatch, tmp_path, capsys):
     counts: dict[str, int] = {}
@@ -48,6 +49,7 @@ def test_check_evidence_plot_builds_solves_and_simulates_once(sheet, monkeypatch
     assert counts.get("fit_phasors", 0) <= 1
 
 
+@pytest.mark.slow
 def test_simulate_command_shares_the_same_stages(monkeypatch, tmp_path, capsys):
     counts: dict[str, int] = {}
     _count(monkeypatch, handcheck.circuit.build, "build", counts)

@@ -158,6 +158,7 @@ _CORNERS = {
 }
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("name", list(UNSEEN))
 def test_unseen_worksheets_agree_with_solve_ivp_in_both_paths(name):
     function, u = UNSEEN[name]

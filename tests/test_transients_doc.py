@@ -53,6 +53,7 @@ def _table(header: str) -> list[list[str]]:
     raise AssertionError(f"docs/transients.md has no table headed {header!r}")
 
 
+@pytest.mark.slow
 def test_the_sources_example_loads_and_both_paths_agree():
     from handcheck.simulate import simulate
     from handcheck.solve.transient import transient_solution
