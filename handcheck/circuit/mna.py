@@ -213,6 +213,8 @@ class _Builder:
             assert branch is not None
             self.add(self.G, self.v(nodes[0]), branch, sympy.Integer(1))
             self.voltage_row(branch, (nodes[1], nodes[2]), sympy.Integer(1))
+            if part.value != 0:  # a finite open-loop gain A: v(+) - v(-) - v(out)/A = 0
+                self.add(self.G, branch, self.v(nodes[0]), -1 / part.value)
         elif kind == "transformer":
             primary, secondary = self.transformers[part.id]
             n = part.value

@@ -202,6 +202,8 @@ def assemble(circuit: Circuit, *, switches: Literal["after", "before"] = "after"
             col = branch[part.id]
             add(G, out, col, 1.0)  # the output current enters the op-amp from the output node
             voltage_row(G, col, plus, minus, 1.0)
+            if part.value != 0:  # finite open-loop gain A: v(+) - v(-) - v(out)/A = 0
+                add(G, col, out, -1.0 / float(part.value))
             Jx[key_index[part.id], col] = 1.0
             continue
         if kind == "transformer":

@@ -16,6 +16,7 @@ from typing import Any
 
 from handcheck.circuit.kinds import KINDS
 from handcheck.errors import HandcheckError, LimitError, WorksheetError
+from handcheck.worksheet.audit import read_audit
 from handcheck.worksheet.expr import RESERVED, printable
 from handcheck.worksheet.model import PartSpec, StepSpec, Worksheet
 from handcheck.worksheet.oldkeys import OLD_KEYS, rewrite
@@ -39,6 +40,8 @@ _LINE_BREAKS = re.compile(r"[\r\n\t\v\f\x1c-\x1e\x85\u2028\u2029]+")
 _WORKSHEET_KEYS = ("format", "title", "reference", "phasors", "frequency", "tolerance")
 _STEP_KEYS = ("name", "quantity", "formula", "claim", "tolerance")
 _TRANSIENT_KEYS = ("start", "span")
+#: Keys any part may carry for the formula audit (read in handcheck.worksheet.audit).
+_VARIATION_KEYS = ("tolerance", "range")
 
 
 def _is_time(text: str) -> bool:
@@ -67,15 +70,15 @@ class _Locator:
     def __init__(self, text: str) -> None:
         self.tables: dict[str, int] = {}
         self.keys: dict[tuple[str, str], int] = {}
-        steps = 0
+        counts = {"step": 0, "formula": 0}
         table = ""
         for number, line in enumerate(text.splitlines(), start=1):
             header = self._HEADER.match(line)
             if header and not self._KEY.match(line):
                 name = header.group(2).strip().strip('"')
-                if header.group(1) == "[[" and name == "step":
-                    table = f"step.{steps}"
-                    steps += 1
+                if header.group(1) == "[[" and name in counts:
+                    table = f"{name}.{counts[name]}"
+                    counts[name] += 1
                 else:
                     table = name
                 self.tables.setdefault(table, number)
@@ -164,11 +167,12 @@ class _Reader:
 
     # -- [worksheet] -----------------------------------------------------------
     def worksheet(self) -> Worksheet:
+        tables = ["worksheet", "parts", "step", "transient", "audit", "formula"]
         for key in self.data:
-            if key not in ("worksheet", "parts", "step", "transient"):
+            if key not in tables:
                 raise self.fail(
-                    f'unknown table [{key}]{_suggest(key, ["worksheet", "parts", "step", "transient"])}; '
-                    "a worksheet has [worksheet], [parts], [[step]] and [transient]",
+                    f'unknown table [{key}]{_suggest(key, tables)}; '
+                    "a worksheet has [worksheet], [parts], [[step]], [transient], [audit] and [[formula]]",
                     self.where.tables.get(key) or self.where.key("", key),
                 )
         head = self.data.get("worksheet")
@@ -220,6 +224,13 @@ class _Reader:
                 f'span = "{transient["span"]}" in [transient] must be a positive time, like "20 ms"',
                 self.where.key("transient", "span"),
             )
+        parts = self.parts()
+        audit = read_audit(
+            self.data,
+            self.path,
+            lambda table, key: self.where.part(key) if table == "parts" else self.where.key(table, key),
+            {part.id: part.kind for part in parts},
+        )
         return Worksheet(
             path=self.path,
             text=self.text,
@@ -230,8 +241,9 @@ class _Reader:
             frequency=self.string(head, "frequency", "worksheet"),
             omega=self.analysis_omega(head),
             tolerance=self.string(head, "tolerance", "worksheet") or "digits",
-            parts=self.parts(),
+            parts=parts,
             steps=self.steps(),
+            audit=audit,
             transient=tuple((str(k), str(v)) for k, v in transient.items()),
             lines=lines,
         )
@@ -325,7 +337,7 @@ class _Reader:
         if old and kind in ("voltage", "current"):
             raise self.old_keys(ident, kind, body, old, line)
         for key in body:
-            if key != kind and key not in allowed:
+            if key != kind and key not in allowed and key not in _VARIATION_KEYS:
                 raise self.fail(
                     f'part "{ident}" ({kind}) has an unknown key "{key}"{_suggest(key, allowed)}; '
                     f'a {kind} takes: {", ".join((kind, *allowed))}',

@@ -8,7 +8,10 @@ turns parts into circuit elements and :mod:`handcheck.verify` reads the steps.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Literal
+from typing import TYPE_CHECKING, Literal
+
+if TYPE_CHECKING:
+    from handcheck.worksheet.audit import AuditSheet
 
 import sympy
 
@@ -77,6 +80,7 @@ class Worksheet:
     steps: tuple[StepSpec, ...] = ()
     transient: tuple[tuple[str, str], ...] = field(default_factory=tuple)
     lines: tuple[tuple[str, int], ...] = field(default_factory=tuple)
+    audit: AuditSheet | None = None  # [audit], [[formula]], part tolerances and ranges
 
     def line_of(self, key: str) -> int | None:
         """The line of a ``[worksheet]`` key, where known."""

@@ -92,10 +92,16 @@ def read_part_values(
         if action not in ("opens", "closes"):
             raise WorksheetError(f'switch {ident} must be written switch = "opens" or "closes" (at t = 0)', **where)
         return PartValues(sympy.Integer(1 if action == "closes" else 0))
-    if kind == "opamp":
-        if text.strip().lower() != "ideal":
-            raise WorksheetError(f'op-amp {ident} must be written opamp = "ideal"', **where)
-        return PartValues(sympy.Integer(0))
+    if kind == "opamp":  # 0 stands for ideal; else the finite open-loop DC gain
+        if text.strip().lower() == "ideal":
+            return PartValues(sympy.Integer(0))
+        gain = read_value(text, "", f"the gain of op-amp {ident}", **where)
+        if gain <= 0:
+            raise WorksheetError(
+                f'op-amp {ident} must be written opamp = "ideal" or with a positive open-loop gain, like opamp = "200000"',
+                **where,
+            )
+        return PartValues(gain)
     if kind == "transformer":
         match = _RATIO.match(text)
         if not match:
