@@ -82,6 +82,8 @@ def _run(args: argparse.Namespace) -> int:
         result = run(args.file, check=not simulating or bool(plot), evidence=wants_evidence, budget=budget)
         if plot:
             _plot(result, plot)
+            if result.audit:
+                _plot_audit(result.audit, plot)
     finally:
         if timer is not None:
             timer.cancel()
@@ -94,13 +96,21 @@ def _run(args: argparse.Namespace) -> int:
     report = result.report
     assert report is not None
     if args.json:
-        data = report_dict(report, __version__)
+        data = report_dict(report, __version__, result.audit)
         if evidence is not None:
             data["evidence"] = evidence_dict(evidence)
         print(json.dumps(data, ensure_ascii=False))
     else:
-        print(render(report, __version__, evidence))
+        print(render(report, __version__, evidence, result.audit))
     return EXIT_OK if result.ok else EXIT_DISAGREES
+
+
+def _plot_audit(findings: tuple[Any, ...], out: str) -> None:
+    from handcheck.record.audit_plot import plot_audit
+
+    path = plot_audit(findings, out)
+    if path is not None:
+        sys.stderr.write(f"handcheck: audit histogram written to {path}\n")
 
 
 def _plot(result: Any, out: str) -> None:

@@ -40,12 +40,15 @@ class Result:
     report: Report | None
     evidence: Any = None
     exact: Any = field(default=None, compare=False, repr=False)
+    audit: tuple[Any, ...] = ()  # the formula audit's findings, one per [[formula]]
 
     @property
     def ok(self) -> bool:
-        """Whether every step agrees (or is unchecked) and the evidence found no problem."""
+        """Whether every step agrees (or is unchecked), no audited formula differs, and
+        the evidence found no problem."""
         report_ok = self.report is None or self.report.ok
-        return report_ok and (self.evidence is None or self.evidence.ok)
+        audit_ok = all(finding.ok for finding in self.audit)
+        return report_ok and audit_ok and (self.evidence is None or self.evidence.ok)
 
 
 def _budget(budget: Budget | None, time_limit: float | None) -> Budget:
@@ -113,8 +116,13 @@ def run_worksheet(
     circuit = build(worksheet)
     exact = ExactSolutions(circuit, budget)
     report = check_steps(worksheet, circuit, exact=exact) if check else None
+    audited: tuple[Any, ...] = ()
+    if check and worksheet.audit is not None and worksheet.audit.formulas:
+        from handcheck.audit import audit
+
+        audited = audit(worksheet, circuit, budget)
     found = evidence_for(worksheet, circuit, exact) if evidence else None
-    return Result(worksheet=worksheet, circuit=circuit, report=report, evidence=found, exact=exact)
+    return Result(worksheet=worksheet, circuit=circuit, report=report, evidence=found, exact=exact, audit=audited)
 
 
 def run(

@@ -202,7 +202,7 @@ def test_exit_status(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None
 def test_json_keys_are_the_documented_ones() -> None:
     data = report_dict(handcheck.check_text(WORKED), handcheck.__version__)
     assert set(data) == {
-        "handcheck", "worksheet", "sha256", "ok", "first_divergence", "steps", "title", "analysis", "cautions", "notes",
+        "handcheck", "worksheet", "sha256", "ok", "first_divergence", "steps", "audit", "title", "analysis", "cautions", "notes",
     }  # fmt: skip
     assert set(data["steps"][0]) == {
         "name", "verdict", "claimed", "expected", "expected_si", "error", "caused_by", "diagnosis",

@@ -35,15 +35,19 @@ def _step(step: StepFinding) -> dict[str, Any]:
     }
 
 
-def report_dict(report: Report, version: str) -> dict[str, Any]:
-    """The report as check output format 1 (plus extension keys)."""
+def report_dict(report: Report, version: str, audit: tuple[Any, ...] = ()) -> dict[str, Any]:
+    """The report as check output format 1 (plus extension keys); ``audit`` holds the
+    formula audit's findings (an audit formula that differs makes ``ok`` false)."""
+    from handcheck.record.audit import audit_dict
+
     return {
         "handcheck": version,
         "worksheet": report.path,
         "sha256": report.sha256,
-        "ok": report.ok,
+        "ok": report.ok and all(finding.ok for finding in audit),
         "first_divergence": report.first_divergence,
         "steps": [_step(step) for step in report.steps],
+        "audit": [audit_dict(finding) for finding in audit],
         "title": report.title,
         "analysis": report.analysis,
         "cautions": list(report.cautions),

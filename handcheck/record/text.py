@@ -23,8 +23,10 @@ def _wrap(text: str, indent: int, width: int = 100) -> list[str]:
     return textwrap.wrap(text, width=width, initial_indent=" " * indent, subsequent_indent=" " * (indent + 2))
 
 
-def render(report: Report, version: str, evidence: Any = None) -> str:
-    """The whole report as text for a terminal (with the numerical evidence, if given)."""
+def render(report: Report, version: str, evidence: Any = None, audit: tuple[Any, ...] = ()) -> str:
+    """The whole report as text for a terminal (with the numerical evidence and the formula audit, if given)."""
+    from handcheck.record.audit import audit_lines
+
     lines = [f"handcheck {version}: {report.title}", f"worksheet {report.path} (sha256 {report.sha256[:16]})"]
     if report.reference:
         lines.append(f"reference {report.reference}")
@@ -59,6 +61,7 @@ def render(report: Report, version: str, evidence: Any = None) -> str:
 
         lines.append("")
         lines.extend(describe(evidence))
+    lines.extend(audit_lines(audit))
     for note in report.notes:
         lines.append("")
         lines.extend(_wrap("NOTE: " + note, 0))
@@ -68,8 +71,13 @@ def render(report: Report, version: str, evidence: Any = None) -> str:
     counts = Counter(step.verdict for step in report.steps)
     summary = ", ".join(f"{n} {verdict}" for verdict, n in counts.items())
     lines.append("")
-    status = "OK" if report.ok else "NOT OK"
+    ok = report.ok and all(finding.ok for finding in audit)
+    status = "OK" if ok else "NOT OK"
     tail = f"; first divergence: {first}" if first else ""
     count = f"{len(report.steps)} step{'s' if len(report.steps) != 1 else ''}"
-    lines.append(f"{status}: {count} ({summary}){tail}")
+    if audit:
+        differ = sum(not finding.ok for finding in audit)
+        count += f", {len(audit)} audited formula{'s' if len(audit) != 1 else ''} ({differ} not equivalent)"
+    summary = f" ({summary})" if summary else ""
+    lines.append(f"{status}: {count}{summary}{tail}")
     return "\n".join(lines)

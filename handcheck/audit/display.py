@@ -1,0 +1,67 @@
+"""The true expression of an audited quantity as text, in the worksheet's part ids.
+
+Factored with sympy where the expression is small enough for that to be quick; a
+network function is shown as polynomials in s whose coefficients are factored.
+Printed by sympy's own printer (``**`` for powers, as the formula language reads).
+"""
+
+from __future__ import annotations
+
+import sympy
+
+from handcheck.audit.ring import RatFunc, Ring
+from handcheck.audit.truth import Truth, coefficients_in_s
+
+__all__ = ["true_expression"]
+
+#: Largest expression (terms) that is factored for display.
+MAX_FACTOR_TERMS = 120
+
+
+def _in_s(ring: Ring, poly: object) -> sympy.Expr:
+    s = sympy.Symbol("s")
+    terms = []
+    for k, coefficient in enumerate(coefficients_in_s(ring, poly)):
+        if coefficient.is_zero():
+            continue
+        value = ring.to_sympy(coefficient, plain=True)
+        if len(coefficient) <= MAX_FACTOR_TERMS:
+            value = sympy.factor(value)
+        terms.append(value * s**k)
+    return sympy.Add(*terms)
+
+
+def _plain(value: RatFunc, in_s: bool) -> sympy.Expr:
+    if in_s:
+        return _in_s(value.ring, value.num) / _in_s(value.ring, value.den)
+    expr = value.to_sympy(plain=True)
+    if len(value.num) + len(value.den) <= MAX_FACTOR_TERMS:
+        expr = sympy.factor(expr)
+    return expr
+
+
+def true_expression(ring: Ring, truth: Truth) -> str:
+    """The exact truth as one line of text.
+
+    Parameters
+    ----------
+    ring
+        The ring the truth lives in.
+    truth
+        The quantity's truth (exact, its square, or a root of a polynomial in w^2).
+
+    Returns
+    -------
+    str
+        For example ``1/(C1*R1*s + 1)``, ``sqrt(1/(C1*C2*R1*R2))``, or
+        ``sqrt(u)/(2*pi) Hz, u = w^2 the lowest positive root of ...``.
+    """
+    if truth.form == "root":
+        u = sympy.Symbol("u")
+        poly = _in_s(ring, truth.poly).subs(sympy.Symbol("s"), u)
+        return f"sqrt(u)/(2*pi), u = w^2 (rad/s)^2 the lowest positive root of {sympy.sstr(sympy.expand(poly))} = 0"
+    assert truth.value is not None
+    expr = _plain(truth.value, truth.in_s)
+    if truth.form == "square":
+        expr = sympy.sqrt(expr)
+    return sympy.sstr(expr)

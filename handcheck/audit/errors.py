@@ -1,0 +1,186 @@
+"""How wrong a formula is: relative error at the nominal values, worst case, Monte Carlo.
+
+The error is e = F/T - 1, signed (Format 1, second edition). Every closed form is
+reduced to one real rational function R of the audited parts (and pi) with e = R - 1
+("ratio") or e = sqrt(R) - 1 ("sqrt": compared squares, or magnitudes of a network
+function at a frequency other than 0); e is increasing in R, so the extremes of e
+are those of R, found rigorously in ball arithmetic (:mod:`handcheck.audit.worst`).
+A frequency with no closed form ("root") is e = sqrt(u_F/u) - 1 with u the lowest
+positive root of its defining polynomial: its worst case is sampled and says so.
+"""
+
+from __future__ import annotations
+
+import itertools
+import math
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+from fractions import Fraction
+from typing import Any, Literal
+
+import flint
+import numpy as np
+
+from handcheck.audit.findings import WorstCase
+from handcheck.audit.ring import AuditError, RatFunc, Ring
+from handcheck.audit.sampling import MonteCarlo, draw, lowest_positive_root, poly_values, ratio_values, summarise
+from handcheck.audit.truth import coefficients_in_s
+from handcheck.audit.worst import PRECISION, extreme, ratio_ball
+
+__all__ = ["ErrorModel", "Ranges", "monte_carlo", "nominal_error", "worst_case"]
+
+Kind = Literal["ratio", "sqrt", "root"]
+#: Points per part of the grid a sampled worst case looks at (besides the corners).
+GRID = 9
+MAX_GRID = 20_000
+
+
+@dataclass(frozen=True)
+class Ranges:
+    """The audited parts, their nominal values and their ranges (low == high: held at nominal)."""
+
+    names: tuple[str, ...]
+    nominal: tuple[Fraction, ...]
+    box: tuple[tuple[Fraction, Fraction], ...]
+
+    @property
+    def varies(self) -> bool:
+        return any(low != high for low, high in self.box)
+
+
+@dataclass(frozen=True)
+class ErrorModel:
+    """e as a function of the parts: R - 1, sqrt(R) - 1, or sqrt(target/u) - 1 for a root."""
+
+    kind: Kind
+    ring: Ring
+    ratio: RatFunc | None = None
+    poly: Any = None  # root: P(u), u in the ring's "s" slot
+    target: Callable[[dict[str, Any]], Any] | None = None  # root: u_F at samples (name -> array)
+
+    def from_ratio(self, r: Any) -> Any:
+        """e from R (numbers or arrays)."""
+        return r - 1 if self.kind == "ratio" else np.sqrt(r) - 1
+
+
+def _columns(model: ErrorModel, names: tuple[str, ...], values: Sequence[Any]) -> dict[int, Any]:
+    ring = model.ring
+    columns: dict[int, Any] = {ring.names.index(n): v for n, v in zip(names, values, strict=True)}
+    columns[ring.names.index("pi")] = math.pi
+    columns.setdefault(0, 0.0)
+    return columns
+
+
+def lowest_root_exact(
+    poly: Any, names: tuple[str, ...], ring_names: tuple[str, ...], point: Sequence[Fraction]
+) -> float:
+    """The lowest positive root u of P at exact part values, from certified complex roots (python-flint)."""
+    values = {ring_names.index(n): p for n, p in zip(names, point, strict=True)}
+    coefficients: dict[int, Fraction] = {}
+    for raw, coeff in zip(poly.monoms(), poly.coeffs(), strict=True):
+        monom = tuple(int(e) for e in raw)
+        term = Fraction(int(coeff))
+        for index, power in enumerate(monom[1:], start=1):
+            if power:
+                term *= values[index] ** power
+        coefficients[monom[0]] = coefficients.get(monom[0], Fraction(0)) + term
+    top = max(coefficients)
+    exact = flint.fmpq_poly(
+        [flint.fmpq(c.numerator, c.denominator) for c in (coefficients.get(k, Fraction(0)) for k in range(top + 1))]
+    )
+    best = math.inf
+    roots: list[Any] = list(exact.complex_roots())  # (ball, multiplicity) pairs
+    for root, _ in roots:
+        if (
+            root.imag.contains(0)
+            and root.real > 0
+            and abs(float(root.imag.mid())) < 1e-30 + 1e-20 * abs(float(root.real.mid()))
+        ):
+            best = min(best, float(root.real.mid()))
+    if not math.isfinite(best):
+        raise AuditError("at the nominal values the defining polynomial has no positive root: no such frequency")
+    return best
+
+
+def _root_errors(model: ErrorModel, ranges: Ranges, columns: Sequence[Any], count: int) -> np.ndarray:
+    by_index = _columns(model, ranges.names, columns)
+    by_index[0] = 1.0
+    coefficients = [poly_values(c, by_index) for c in coefficients_in_s(model.ring, model.poly)]
+    u = lowest_positive_root(coefficients, count)
+    assert model.target is not None
+    target = model.target(dict(zip(ranges.names, columns, strict=True)))
+    return np.sqrt(np.asarray(target, dtype=float) / u) - 1
+
+
+def nominal_error(model: ErrorModel, ranges: Ranges, nominal_target: float | None = None) -> float:
+    """The signed relative error at the nominal values (a certified ball for closed forms)."""
+    if model.kind == "root":
+        u = lowest_root_exact(model.poly, ranges.names, model.ring.names, ranges.nominal)
+        assert nominal_target is not None
+        return math.sqrt(nominal_target / u) - 1
+    return error_at(model, ranges.names, ranges.nominal)
+
+
+def error_at(model: ErrorModel, names: tuple[str, ...], point: Sequence[Fraction]) -> float:
+    """e at an exact point of a closed form, from a ball (no cancellation in R - 1)."""
+    assert model.ratio is not None
+    with flint.ctx.workprec(PRECISION):
+        ball = ratio_ball(model.ratio, names, point)
+        return float(ball - 1 if model.kind == "ratio" else ball.sqrt() - 1)
+
+
+def _point(ranges: Ranges, point: Sequence[Fraction | float]) -> tuple[tuple[str, float], ...]:
+    """The varying parts' values at a point (SI)."""
+    return tuple(
+        (name, float(p)) for name, p, (low, high) in zip(ranges.names, point, ranges.box, strict=True) if low != high
+    )
+
+
+def worst_case(model: ErrorModel, ranges: Ranges, check: Callable[[], None] | None = None) -> WorstCase:
+    """The lowest and highest error over the ranges, and where the larger in size occurs."""
+    if model.kind == "root":
+        return _sampled_worst(model, ranges)
+    assert model.ratio is not None
+    high = extreme(model.ratio, ranges.names, ranges.box, largest=True, check=check)
+    low = extreme(model.ratio, ranges.names, ranges.box, largest=False, check=check)
+    e_low, e_high = error_at(model, ranges.names, low.point), error_at(model, ranges.names, high.point)
+    at = high.point if abs(e_high) >= abs(e_low) else low.point
+    if low.value == high.value:
+        at = ()  # the same error everywhere: no point is worse than another
+    bounds = (
+        float(model.from_ratio(max(low.bound, 0.0) if model.kind == "sqrt" else low.bound)),
+        float(model.from_ratio(high.bound)),
+    )
+    where = _point(ranges, at) if at else ()
+    return WorstCase(e_low, e_high, where, "ball arithmetic", bounds, low.complete and high.complete)
+
+
+def _sampled_worst(model: ErrorModel, ranges: Ranges) -> WorstCase:
+    varying = [k for k, (lo, hi) in enumerate(ranges.box) if lo != hi]
+    per = max(2, min(GRID, int(MAX_GRID ** (1 / max(len(varying), 1)))))
+    axes = []
+    for lo, hi in ranges.box:
+        axes.append([float(lo)] if lo == hi else list(np.linspace(float(lo), float(hi), per)))
+    points = np.array(list(itertools.product(*axes)))
+    columns = [points[:, k] for k in range(points.shape[1])]
+    errors = _root_errors(model, ranges, columns, len(points))
+    k_low, k_high = int(np.nanargmin(errors)), int(np.nanargmax(errors))
+    worst = k_high if abs(errors[k_high]) >= abs(errors[k_low]) else k_low
+    return WorstCase(
+        float(errors[k_low]),
+        float(errors[k_high]),
+        _point(ranges, points[worst]),
+        f"sampled on a grid of {len(points)} points (not certified)",
+    )
+
+
+def monte_carlo(model: ErrorModel, ranges: Ranges, samples: int, seed: int, distribution: str) -> MonteCarlo:
+    """The distribution of the error over seeded random part values."""
+    columns = draw(ranges.box, samples, seed, distribution)
+    if model.kind == "root":
+        errors = _root_errors(model, ranges, columns, samples)
+    else:
+        assert model.ratio is not None
+        with np.errstate(invalid="ignore", divide="ignore"):
+            errors = model.from_ratio(ratio_values(model.ratio, _columns(model, ranges.names, columns)))
+    return summarise(np.broadcast_to(np.asarray(errors, dtype=float), (samples,)), distribution, seed)

@@ -1,0 +1,58 @@
+"""What the audit finds for one ``[[formula]]``: values and codes, no prose for the page."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Literal
+
+from handcheck.audit.sampling import MonteCarlo
+from handcheck.verify.findings import Diagnosis
+
+__all__ = ["AUDIT_VERDICTS", "AuditFinding", "AuditVerdict", "WorstCase"]
+
+AuditVerdict = Literal["equivalent", "differs", "unit", "spread"]
+AUDIT_VERDICTS: tuple[AuditVerdict, ...] = ("equivalent", "differs", "unit", "spread")
+
+
+@dataclass(frozen=True)
+class WorstCase:
+    """The lowest and highest relative error over the ranges and where the larger one occurs.
+
+    ``method`` is "ball arithmetic" (certified: ``bounds`` enclose the true extremes)
+    or "sampled" (the extremes of a grid and the Monte Carlo samples: no proof).
+    """
+
+    low: float
+    high: float
+    at: tuple[tuple[str, float], ...]
+    method: str
+    bounds: tuple[float, float] | None = None
+    complete: bool = True
+
+
+@dataclass(frozen=True)
+class AuditFinding:
+    """The audit of one formula (Format 1, second edition: the ``audit`` list)."""
+
+    name: str
+    quantity: str
+    verdict: AuditVerdict
+    true_expression: str
+    expression: str | None = None
+    reference: str | None = None
+    unit: str = ""
+    holds_when: tuple[str, ...] = ()
+    nominal_error: float | None = None
+    nominal_true: float | None = None
+    nominal_formula: float | None = None
+    worst_case: WorstCase | None = None
+    monte_carlo: MonteCarlo | None = None
+    diagnosis: tuple[Diagnosis, ...] = ()
+    method: str = ""
+    notes: tuple[str, ...] = ()
+    line: int | None = None
+
+    @property
+    def ok(self) -> bool:
+        """True unless the formula differs from the quantity or is in the wrong unit."""
+        return self.verdict in ("equivalent", "spread")
