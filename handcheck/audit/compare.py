@@ -25,10 +25,10 @@ from fractions import Fraction
 import sympy
 
 from handcheck.audit.ring import AuditError, RatFunc, Ring
+from handcheck.circuit.kinds import KINDS
 from handcheck.circuit.model import Circuit
 from handcheck.worksheet.audit import AuditQuantity, FormulaSpec
 from handcheck.worksheet.evaluate import Value, evaluate
-from handcheck.circuit.kinds import KINDS
 from handcheck.worksheet.units import DIMENSIONLESS, Dim, dim_of
 
 __all__ = ["formula_value", "holds_when", "likely_mistakes", "quantity_dim"]

@@ -68,6 +68,9 @@ def plot_audit(findings: tuple[AuditFinding, ...], out: str) -> Path | None:
     os.close(handle)
     try:
         figure.savefig(temporary)
+        mask = os.umask(0)
+        os.umask(mask)
+        os.chmod(temporary, 0o666 & ~mask)  # as an ordinary new file, not mkstemp's 0600
         os.replace(temporary, target)
     finally:
         plt.close(figure)
