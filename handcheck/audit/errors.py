@@ -57,6 +57,8 @@ class ErrorModel:
     ratio: RatFunc | None = None
     poly: Any = None  # root: P(u), u in the ring's "s" slot
     target: Callable[[dict[str, Any]], Any] | None = None  # root: u_F at samples (name -> array)
+    in_s: RatFunc | None = None  # sqrt of |F/T|^2 at s = jw: F/T itself, for fast sampling
+    s_value: complex = 0j
 
     def from_ratio(self, r: Any) -> Any:
         """e from R (numbers or arrays)."""
@@ -182,5 +184,10 @@ def monte_carlo(model: ErrorModel, ranges: Ranges, samples: int, seed: int, dist
     else:
         assert model.ratio is not None
         with np.errstate(invalid="ignore", divide="ignore"):
-            errors = model.from_ratio(ratio_values(model.ratio, _columns(model, ranges.names, columns)))
+            if model.in_s is not None:  # |F(jw)/T(jw)| - 1 from the few terms of F/T in s
+                values = _columns(model, ranges.names, columns)
+                values[0] = model.s_value
+                errors = np.abs(ratio_values(model.in_s, values)) - 1
+            else:
+                errors = model.from_ratio(ratio_values(model.ratio, _columns(model, ranges.names, columns)))
     return summarise(np.broadcast_to(np.asarray(errors, dtype=float), (samples,)), distribution, seed)

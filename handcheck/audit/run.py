@@ -141,7 +141,8 @@ def _closed_form(sc: SymbolicCircuit, truth: Truth, value: sympy.Expr, symbols: 
     kinds = {p.id: p.kind for p in sc.circuit.parts}
     equivalent = d.is_zero
     point, kind = _at_frequency(sc, ratio) if truth.in_s else (ratio, "sqrt" if squared else "ratio")
-    model = ErrorModel(kind, ring, ratio=point)  # type: ignore[arg-type]
+    fast = ratio if truth.in_s and sc.circuit.omega != 0 else None
+    model = ErrorModel(kind, ring, ratio=point, in_s=fast, s_value=1j * float(sc.circuit.omega))  # type: ignore[arg-type]
     result: dict[str, Any] = {"model": model, "equivalent": equivalent, "holds_when": holds_when(d, symbols, kinds)}
     result["diagnosis"] = () if equivalent else likely_mistakes(ratio, truth.unit, squared)
     result["method"] = "exact identity of rational functions" + (" (of the squares)" if squared else "")

@@ -68,17 +68,33 @@ def draw(ranges: Sequence[tuple[Fraction, Fraction]], samples: int, seed: int, d
 
 
 def poly_values(poly: Any, columns: Mapping[int, Any]) -> Any:
-    """A python-flint polynomial at arrays (or numbers) given per variable index."""
+    """A python-flint polynomial at arrays (or numbers) given per variable index.
+
+    Variables given as plain numbers (pi, a fixed s) are folded into the
+    coefficients first, so each distinct monomial in the sampled parts is formed
+    once; powers are cached.
+    """
+    folded: dict[tuple[tuple[int, int], ...], Any] = {}
+    for raw, coeff in zip(poly.monoms(), poly.coeffs(), strict=True):
+        scale: Any = float(int(coeff))
+        key = []
+        for index, power in enumerate(int(p) for p in raw):
+            if not power:
+                continue
+            value = columns[index]
+            if np.ndim(value) == 0:
+                scale *= value**power
+            else:
+                key.append((index, power))
+        folded[tuple(key)] = folded.get(tuple(key), 0.0) + scale
     cache: dict[tuple[int, int], Any] = {}
     total: Any = 0.0
-    for monom, coeff in zip(poly.monoms(), poly.coeffs(), strict=True):
-        term: Any = float(int(coeff))
-        for index, power in enumerate(int(p) for p in monom):
-            if power:
-                key = (index, power)
-                if key not in cache:
-                    cache[key] = columns[index] ** power
-                term = term * cache[key]
+    for key, scale in folded.items():
+        term: Any = scale
+        for index, power in key:
+            if (index, power) not in cache:
+                cache[(index, power)] = columns[index] ** power
+            term = term * cache[(index, power)]
         total = total + term
     return total
 
