@@ -23,6 +23,7 @@ import sympy
 from handcheck.circuit.mna import MnaSystem
 from handcheck.circuit.model import GROUND, Circuit, Part
 from handcheck.errors import CircuitError, ParseError
+from handcheck.solve.derived import DERIVED, POWER_NAMES, evaluate_derived
 from handcheck.solve.phasor import Solution, part_current, part_voltage, solve_columns
 from handcheck.worksheet.evaluate import Value
 from handcheck.worksheet.expr import Token, tokenize
@@ -113,8 +114,8 @@ class _QuantityParser:
             raise self.error('a quantity starts with its name, like "voltage(out)" or "current(R1)"', start)
         self.take()
         name = start.text
-        if name not in QUANTITIES and name not in TIME_DOMAIN:
-            known = ", ".join([*QUANTITIES, *sorted(TIME_DOMAIN)])
+        if name not in QUANTITIES and name not in TIME_DOMAIN and name not in DERIVED:
+            known = ", ".join([*QUANTITIES, *DERIVED, *sorted(TIME_DOMAIN)])
             raise self.error(f'unknown quantity "{name}"; known quantities: {known}', start)
         if name in CIRCUIT_WIDE and self.tok.text != "(":
             return Quantity(name, (), name)
@@ -215,6 +216,8 @@ class _Evaluator:
         name = q.name
         if name in TIME_DOMAIN:
             raise NotImplementedError(name)
+        if name in DERIVED or (name in POWER_NAMES and len(q.args) != 1):
+            return evaluate_derived(self.solution, q, lambda sol, inner: _Evaluator(sol, self.text).run(inner))
         if name == "voltage":
             args = self.names(q, 1, 2)
             if len(args) == 1 and not self.is_node(args[0]) and self.circuit.has_part(args[0]):

@@ -255,6 +255,8 @@ class _Checker:
                     truth = evaluate_quantity(self.solution, quantity)
             except HandcheckError as exc:
                 raise self.located(exc, step, "quantity") from None
+            if truth is not None and claim.unit_text == "dB":
+                truth = Value(sympy.Abs(truth.expr), truth.dim)  # a level claims the ratio's size
         elif claim.form == "function":
             self.function_steps.add(step.name)
             return StepFinding(

@@ -183,6 +183,9 @@ def _read_claim(text: str) -> Claim:
         raise ParseError('the claim is empty; write the number the author wrote, like "35.81 ohm"', "", None)
     if "∠" in text or "/_" in text:
         return _read_polar(text)
+    level = _LEVEL.match(text)
+    if level:
+        return _read_level(text, level.group(1), level.group(2))
     body, unit = _split_unit(text)
     try:
         tree = parse(body, {"t"})
@@ -210,6 +213,40 @@ def _read_claim(text: str) -> Claim:
         value=Value(value.expr * factor, dim),
         form="rect" if imaginary else "real",
         resolution=(float(real) * scale, float(imag) * scale),
+        unit_text=unit,
+        unit_factor=factor,
+    )
+
+
+#: A level claim: a ratio in dB or a power in dBm.
+_LEVEL = re.compile(r"^(.*?\S)\s*(dBm|dB)$", re.S)
+
+
+def _read_level(text: str, body: str, unit: str) -> Claim:
+    """A claim in ``dB`` (20*log10 of a ratio's size) or ``dBm`` (10*log10 of P / 1 mW).
+
+    The value kept is the ratio (or the power in W), exactly: 10^(x/20) or
+    10^(x/10) mW (IEC 60027-3, the level of a field and of a power quantity). The
+    resolution of the written level, half a unit in its last digit, becomes the
+    matching band around that value.
+    """
+    tree = parse(body)
+    _numbers_only(body, tree)
+    if any(isinstance(n, Number) and (n.unit or n.imaginary) for n in walk(tree)):
+        raise ParseError(f'a claim in {unit} is one real number, like "-3.01 {unit}"', text, None)
+    _in_range(text, tree, sympy.Integer(1))
+    level = evaluate(tree, {}, body).expr
+    resolution, _ = _component_resolutions(tree)
+    divisor = 20 if unit == "dB" else 10
+    factor = sympy.Integer(1) if unit == "dB" else sympy.Rational(1, 1000)
+    value = factor * sympy.Integer(10) ** (sympy.Rational(level) / divisor)
+    size = float(sympy.N(value, 20))
+    band = size * (10 ** (float(resolution) / divisor) - 1)
+    return Claim(
+        text=text,
+        value=Value(value, DIMENSIONLESS if unit == "dB" else dim_of("W")),
+        form="real",
+        resolution=(band, 0.0),
         unit_text=unit,
         unit_factor=factor,
     )

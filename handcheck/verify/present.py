@@ -36,7 +36,14 @@ def format_number(x: float, digits: int = 5) -> str:
 
 
 def format_value(value: Value, claim: Claim) -> str:
-    """``value`` written in the claim's unit and form (real, rectangular or polar)."""
+    """``value`` written in the claim's unit and form (real, rectangular or polar);
+    a level in dB or dBm as 20*log10 of the ratio's size or 10*log10 of P / 1 mW."""
+    if claim.unit_text in ("dB", "dBm") and value.dim == claim.dim:
+        size = abs(to_complex(value.expr)) / float(claim.unit_factor)
+        if size == 0:
+            return f"-inf {claim.unit_text}"
+        level = (20 if claim.unit_text == "dB" else 10) * math.log10(size)
+        return f"{format_number(level, _significant(claim))} {claim.unit_text}"
     if value.dim == claim.dim and claim.unit_text:
         factor, unit = float(claim.unit_factor), claim.unit_text
     else:
