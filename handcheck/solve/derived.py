@@ -32,6 +32,7 @@ from handcheck.circuit.model import GROUND, Circuit, Part, Source
 from handcheck.errors import ParseError
 from handcheck.solve.phasor import Solution, part_current, part_voltage, solve
 from handcheck.worksheet.evaluate import Value
+from handcheck.worksheet.sourcefunction import SourceFunction, SourceTerm
 from handcheck.worksheet.units import DIMENSIONLESS, dim_of
 
 __all__ = ["DERIVED", "POWER_NAMES", "evaluate_derived", "retuned"]
@@ -54,7 +55,7 @@ POWER_NAMES = frozenset({"power", "reactive_power", "apparent_power", "power_fac
 #: How a quantity is evaluated on a (possibly changed) solution: the caller's evaluator.
 Evaluate = Callable[[Solution, object], Value]
 
-_SHORT_ID = "short_current.probe"
+_SHORT_ID = "short_current.link"
 
 
 def _fail(message: str, text: str) -> ParseError:
@@ -64,26 +65,25 @@ def _fail(message: str, text: str) -> ParseError:
 def retuned(circuit: Circuit, omega: sympy.Expr) -> Circuit:
     """The circuit analysed at ``omega``.
 
-    When some steady sinusoidal source already runs at ``omega`` (a harmonic of a
+    When some source already has a steady sinusoid at ``omega`` (a harmonic of a
     worksheet with several frequencies), the circuit is only analysed there: each
-    source keeps its own frequency. Otherwise every steady sinusoidal source is driven
-    at ``omega`` instead of its own frequency (the reading of ``at_frequency`` for a
-    frequency response).
+    source keeps its own frequencies. Otherwise every steady sinusoidal term of every
+    source is driven at ``omega`` instead of its own frequency (the reading of
+    ``at_frequency`` for a frequency response); constant terms then drive nothing.
     """
-    runs_there = any(
-        p.source is not None
-        and p.source.omega is not None
-        and p.source.steady_sinusoid
-        and sympy.simplify(p.source.omega - omega) == 0
-        for p in circuit.parts
-    )
+    runs_there = any(p.source is not None and p.source.steady(omega) != 0 for p in circuit.parts)
     if runs_there or omega == 0:
         return dataclasses.replace(circuit, omega=omega)
     parts = []
     for part in circuit.parts:
         source = part.source
-        if source is not None and source.omega is not None and source.steady_sinusoid:
-            part = dataclasses.replace(part, source=dataclasses.replace(source, omega=omega))
+        if source is not None and source.frequencies:
+            terms = tuple(
+                dataclasses.replace(term, omega=omega) if term.steady and term.omega != 0 else term
+                for term in source.function.terms
+            )
+            function = dataclasses.replace(source.function, terms=terms)
+            part = dataclasses.replace(part, source=dataclasses.replace(source, function=function))
         parts.append(part)
     return dataclasses.replace(circuit, omega=omega, parts=tuple(parts))
 
@@ -117,8 +117,9 @@ def _shorted(circuit: Circuit, a: str, b: str, text: str) -> Circuit:
             raise _fail(f'"{node}" is not a node of the circuit (nodes: {known}, {GROUND})', text)
     if a == b:
         raise _fail(f'short_current() needs two different nodes, not "{a}" twice', text)
-    probe = Part(id=_SHORT_ID, kind="voltage", nodes=(a, b), value=sympy.Integer(0), source=Source(peak=sympy.Integer(0)))
-    return dataclasses.replace(circuit, parts=(*circuit.parts, probe))
+    zero = Source(SourceFunction(terms=(SourceTerm(sympy.Integer(0)),)))
+    link = Part(id=_SHORT_ID, kind="voltage", nodes=(a, b), value=sympy.Integer(0), source=zero)
+    return dataclasses.replace(circuit, parts=(*circuit.parts, link))
 
 
 def _power_scale(circuit: Circuit) -> sympy.Expr:
@@ -243,7 +244,7 @@ def evaluate_derived(solution: Solution, q: object, evaluate: Evaluate) -> Value
 
 def _frequency(args: tuple[object, ...], text: str) -> sympy.Expr:
     """The angular frequency of ``at_frequency(Q, "10 kHz")`` (Hz or rad/s)."""
-    from handcheck.circuit.build import read_frequency
+    from handcheck.worksheet.values import read_frequency
 
     if len(args) != 2 or hasattr(args[1], "name"):
         raise _fail('at_frequency() takes a quantity and a frequency, like at_frequency(voltage(out), "10 kHz")', text)
