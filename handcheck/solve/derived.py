@@ -35,7 +35,7 @@ from handcheck.worksheet.evaluate import Value
 from handcheck.worksheet.sourcefunction import SourceFunction, SourceTerm
 from handcheck.worksheet.units import DIMENSIONLESS, dim_of
 
-__all__ = ["DERIVED", "POWER_NAMES", "evaluate_derived", "retuned"]
+__all__ = ["DERIVED", "POWER_NAMES", "evaluate_derived", "removed", "retuned"]
 
 #: Quantity names this module evaluates, and their display unit.
 DERIVED: dict[str, str] = {
@@ -88,7 +88,7 @@ def retuned(circuit: Circuit, omega: sympy.Expr) -> Circuit:
     return dataclasses.replace(circuit, omega=omega, parts=tuple(parts))
 
 
-def _removed(circuit: Circuit, idents: tuple[str, ...], text: str) -> Circuit:
+def removed(circuit: Circuit, idents: tuple[str, ...], text: str) -> Circuit:
     """The circuit without the named parts (their terminals left open)."""
     for ident in idents:
         if not circuit.has_part(ident):
@@ -238,7 +238,7 @@ def evaluate_derived(solution: Solution, q: object, evaluate: Evaluate) -> Value
     if name == "without":
         if len(args) < 2 or any(hasattr(a, "name") for a in args[1:]):
             raise _fail("without() takes a quantity and the part ids to remove, like without(voltage(out), Rload)", text)
-        return evaluate(solve(_removed(circuit, tuple(str(a) for a in args[1:]), text)), inner)
+        return evaluate(solve(removed(circuit, tuple(str(a) for a in args[1:]), text)), inner)
     raise _fail(f'unknown quantity "{name}"', text)  # pragma: no cover - the parser rejects it first
 
 

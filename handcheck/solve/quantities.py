@@ -24,6 +24,7 @@ from handcheck.circuit.mna import MnaSystem
 from handcheck.circuit.model import GROUND, Circuit, Part
 from handcheck.errors import CircuitError, ParseError
 from handcheck.solve.derived import DERIVED, POWER_NAMES, evaluate_derived
+from handcheck.solve.frequency import FREQUENCY_QUANTITIES, evaluate_frequency
 from handcheck.solve.phasor import Solution, part_current, part_voltage, solve_columns
 from handcheck.worksheet.evaluate import Value
 from handcheck.worksheet.expr import Token, tokenize
@@ -114,8 +115,8 @@ class _QuantityParser:
             raise self.error('a quantity starts with its name, like "voltage(out)" or "current(R1)"', start)
         self.take()
         name = start.text
-        if name not in QUANTITIES and name not in TIME_DOMAIN and name not in DERIVED:
-            known = ", ".join([*QUANTITIES, *DERIVED, *sorted(TIME_DOMAIN)])
+        if name not in QUANTITIES and name not in TIME_DOMAIN and name not in DERIVED and name not in FREQUENCY_QUANTITIES:
+            known = ", ".join([*QUANTITIES, *DERIVED, *FREQUENCY_QUANTITIES, *sorted(TIME_DOMAIN)])
             raise self.error(f'unknown quantity "{name}"; known quantities: {known}', start)
         if name in CIRCUIT_WIDE and self.tok.text != "(":
             return Quantity(name, (), name)
@@ -216,6 +217,8 @@ class _Evaluator:
         name = q.name
         if name in TIME_DOMAIN:
             raise NotImplementedError(name)
+        if name in FREQUENCY_QUANTITIES:
+            return evaluate_frequency(self.solution, q, lambda sol, inner: _Evaluator(sol, self.text).run(inner))  # type: ignore[return-value]
         if name in DERIVED or (name in POWER_NAMES and len(q.args) != 1):
             return evaluate_derived(self.solution, q, lambda sol, inner: _Evaluator(sol, self.text).run(inner))
         if name == "voltage":

@@ -43,7 +43,9 @@ from handcheck.verify.claims import (
     relative_error,
     to_complex,
 )
+from handcheck.solve.frequency import LIST_QUANTITIES
 from handcheck.verify.findings import Diagnosis, Report, StepFinding
+from handcheck.verify.responses import check_function_of_s, check_list
 from handcheck.verify.mistakes import Context, diagnose
 from handcheck.verify.present import describe_frequency, describe_function, format_number, format_value
 from handcheck.verify.safety import cautions
@@ -127,6 +129,26 @@ class _Checker:
         }
         verdict = "agrees" if error <= limit else "differs"
         return StepFinding(**base, **shown, verdict=verdict)  # type: ignore[arg-type]
+
+    def check_response(self, base: dict[str, Any], claim: Claim, quantity: Quantity, tolerance: Tolerance) -> StepFinding:
+        """A claimed network function (in s) or a claimed list (poles, zeros, band edges)."""
+        if quantity.name in LIST_QUANTITIES:
+            truths = evaluate_quantity(self.solution, quantity)
+            return check_list(base, claim, truths, tolerance)  # type: ignore[arg-type]
+        if claim.form == "list":
+            return StepFinding(**base, verdict="differs", message=f"a list is claimed, but {quantity} is one value")
+        if claim.form != "laplace":
+            return StepFinding(**base, verdict="unit", message='a network function is claimed as an expression in s (rad/s), like "1000/(s + 1000)"')
+        if quantity.name in ("impedance", "admittance"):
+            from handcheck.solve.frequency import network_function
+
+            h = network_function(self.solution, quantity, evaluate_quantity)
+            truth = Value(h.expr, h.dim)
+        elif quantity.name in ("network_function", "transfer"):
+            truth = evaluate_quantity(self.solution, Quantity("network_function", quantity.args, quantity.text))
+        else:
+            return StepFinding(**base, verdict="unit", message=f"a function of s is claimed, but {quantity} is no network function")
+        return check_function_of_s(base, claim, truth, tolerance)
 
     def span(self) -> float:
         """The time span a claimed waveform is compared over: five of the slowest time
@@ -243,6 +265,10 @@ class _Checker:
                 if claim.form == "function":
                     self.function_steps.add(step.name)
                     return self.check_function(base, claim, quantity, tolerance)
+                if claim.form in ("laplace", "list") or quantity.name in LIST_QUANTITIES or quantity.name == "network_function":
+                    self.function_steps.add(step.name)
+                    self.true_env[step.name] = claim.value
+                    return self.check_response(base, claim, quantity, tolerance)
                 if quantity.name in TIME_DOMAIN:
                     truth = evaluate_time_quantity(
                         self.transient, quantity, lambda q: evaluate_quantity(self.solution, q)

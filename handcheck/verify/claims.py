@@ -33,10 +33,12 @@ DIGITS = 30
 #: Relative slack for comparisons, far below any written digit.
 SLACK = 1e-12
 
-Form = Literal["real", "rect", "polar", "function"]
+Form = Literal["real", "rect", "polar", "function", "laplace", "list"]
 
 #: The time variable of a claimed time function, in seconds.
 TIME = sympy.Symbol("t", real=True)
+#: The Laplace variable of a claimed network function, in rad/s (the solver's own s).
+LAPLACE = sympy.Symbol("s")
 
 
 @dataclass(frozen=True)
@@ -84,6 +86,7 @@ class Claim:
     unit_text: str
     unit_factor: sympy.Expr
     angle_unit: str = "deg"
+    items: tuple[Claim, ...] = ()  # the values of a list claim ("-500 + 866j, -1000 rad/s")
 
     @property
     def dim(self) -> Dim:
@@ -183,12 +186,14 @@ def _read_claim(text: str) -> Claim:
         raise ParseError('the claim is empty; write the number the author wrote, like "35.81 ohm"', "", None)
     if "∠" in text or "/_" in text:
         return _read_polar(text)
+    if _top_level_commas(text):
+        return _read_list(text)
     level = _LEVEL.match(text)
     if level:
         return _read_level(text, level.group(1), level.group(2))
     body, unit = _split_unit(text)
     try:
-        tree = parse(body, {"t"})
+        tree = parse(body, {"t", "s"})
     except ParseError as exc:
         if exc.message.endswith('write "*" to multiply'):
             # "1 V 2 A": a second value (or unit) after a complete one.
@@ -196,6 +201,8 @@ def _read_claim(text: str) -> Claim:
         raise
     if any(isinstance(node, Name) and node.ident == "t" for node in walk(tree)):
         return _read_function(text, body, unit, tree)
+    if any(isinstance(node, Name) and node.ident == "s" for node in walk(tree)):
+        return _read_laplace(text, body, unit, tree)
     _numbers_only(body, tree)
     if any(isinstance(n, Number) and n.unit for n in walk(tree)):
         raise ParseError("a claim takes one unit, written once at the end", text, None)
@@ -216,6 +223,52 @@ def _read_claim(text: str) -> Claim:
         unit_text=unit,
         unit_factor=factor,
     )
+
+
+def _top_level_commas(text: str) -> list[int]:
+    depth, found = 0, []
+    for k, char in enumerate(text):
+        depth += {"(": 1, ")": -1}.get(char, 0)
+        if char == "," and depth == 0:
+            found.append(k)
+    return found
+
+
+def _read_list(text: str) -> Claim:
+    """A list of values with one unit at the end: ``"-500 + 866j, -500 - 866j, -1000 rad/s"``."""
+    cuts = [-1, *_top_level_commas(text), len(text)]
+    pieces = [text[a + 1 : b].strip() for a, b in zip(cuts, cuts[1:])]
+    if any(not piece for piece in pieces):
+        raise ParseError('a list claim holds values between commas, like "-500 + 866j, -500 - 866j, -1000 rad/s"', text, None)
+    _, unit = _split_unit(pieces[-1])
+    items = []
+    for piece in pieces:
+        _, own = _split_unit(piece)
+        item = _read_claim(piece if own else f"{piece} {unit}".strip())
+        if item.form in ("function", "laplace", "list"):
+            raise ParseError("a list claim holds plain values, not functions", text, None)
+        items.append(item)
+    first = items[0]
+    return Claim(text, first.value, "list", first.resolution, unit, first.unit_factor, items=tuple(items))
+
+
+def _read_laplace(text: str, body: str, unit: str, tree: object) -> Claim:
+    """A claimed network function in ``s`` (rad/s), with an optional unit at the end.
+
+    The resolution kept is the sum of the relative digits of the numbers written with
+    three or more significant digits (half a unit in the last digit, over the number):
+    to first order, the most their roundings together move H away from a resonance.
+    Shorter numbers (``2``, ``0.5``) are read as exact (common practice).
+    """
+    value = evaluate(tree, {"s": Value(LAPLACE, DIMENSIONLESS)}, body)  # type: ignore[arg-type]
+    if not value.dim.dimensionless:
+        raise ParseError("a network function takes one unit, written once at the end", text, None)
+    factor, dim = unit_of(_unit_words(unit)) if unit else (sympy.Integer(1), DIMENSIONLESS)
+    relative = 0.0
+    for node in walk(tree):  # type: ignore[arg-type]
+        if isinstance(node, Number) and node.value != 0 and len(node.digits.lower().partition("e")[0].replace(".", "").strip("0")) >= 3:
+            relative += float(_resolution(node.digits) / abs(node.value))
+    return Claim(text, Value(value.expr * factor, dim), "laplace", (relative, 0.0), unit, factor)
 
 
 #: A level claim: a ratio in dB or a power in dBm.

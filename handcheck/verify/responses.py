@@ -1,0 +1,113 @@
+"""Verdicts on claimed network functions and claimed lists (poles, zeros, band edges).
+
+A claimed network function (an expression in s, rad/s) agrees exactly when it is the
+same rational function; otherwise it is compared over a logarithmic grid of
+frequencies spanning every pole and zero of both functions (a decade beyond each
+side): the error is the largest of abs(Hc(jw) - H(jw)) / abs(H(jw)), allowed up to the
+step's percentage, or under "digits" up to the claim's resolution (the relative
+digits of its written numbers added, see :func:`handcheck.verify.claims.read_claim`). A list claim agrees when it
+has as many values as the quantity and each claimed value, paired with the nearest
+true value not yet taken, agrees with it (each within its own digits or the
+percentage).
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+import mpmath
+import sympy
+
+from handcheck.verify.claims import LAPLACE, Claim, Tolerance, agrees, relative_error, to_complex
+from handcheck.verify.findings import StepFinding
+from handcheck.verify.present import format_number, format_value
+from handcheck.worksheet.evaluate import Value
+
+__all__ = ["check_function_of_s", "check_list"]
+
+#: Points of the comparison grid.
+GRID = 241
+
+
+def _roots(expr: sympy.Expr) -> list[complex]:
+    num, den = sympy.fraction(sympy.cancel(sympy.together(expr)))
+    out: list[complex] = []
+    for part in (num, den):
+        poly = sympy.Poly(part, LAPLACE)
+        if poly.degree() > 0:
+            coeffs = [complex(sympy.N(c, 30)) for c in poly.all_coeffs()]
+            out.extend(complex(r) for r in mpmath.polyroots(coeffs, maxsteps=200, extraprec=60))
+    return out
+
+
+def _grid(truth: sympy.Expr, claimed: sympy.Expr) -> list[float]:
+    """Angular frequencies (rad/s) from a decade below the smallest nonzero pole or zero
+    size to a decade above the largest (the roots only place the grid)."""
+    sizes = [abs(r) for r in _roots(truth) + _roots(claimed) if abs(r) > 0]
+    low, high = (min(sizes) / 10, max(sizes) * 10) if sizes else (0.1, 10.0)
+    step = (math.log10(high) - math.log10(low)) / (GRID - 1)
+    return [10 ** (math.log10(low) + k * step) for k in range(GRID)]
+
+
+def _at(expr: sympy.Expr, w: float) -> complex:
+    f = sympy.lambdify(LAPLACE, expr, "mpmath")
+    return complex(f(mpmath.mpc(0, w)))
+
+
+def check_function_of_s(base: dict[str, Any], claim: Claim, truth: Value, tolerance: Tolerance) -> StepFinding:
+    """The verdict on a claimed network function against the exact one."""
+    shown = {"expected": f"{sympy.sstr(sympy.N(truth.expr, 6))} {claim.unit_text}".strip(), "exact": truth.expr, "expected_si": None}
+    if claim.dim != truth.dim:
+        return StepFinding(**base, **shown, verdict="unit", message=f"the claim is in {claim.dim or 'no unit'}, but the quantity is in {truth.dim or 'no unit'}")
+    if sympy.cancel(sympy.together(claim.value.expr - truth.expr)) == 0:
+        return StepFinding(**base, **shown, verdict="agrees", error=0.0, message="the same rational function of s, exactly")
+    f_true = sympy.lambdify(LAPLACE, truth.expr, "mpmath")
+    f_claim = sympy.lambdify(LAPLACE, claim.value.expr, "mpmath")
+    grid = _grid(truth.expr, claim.value.expr)
+    error, worst = 0.0, grid[0]
+    for w in grid:
+        s = mpmath.mpc(0, w)
+        exact = complex(f_true(s))
+        try:
+            written = complex(f_claim(s))
+        except ZeroDivisionError:
+            written = complex(math.inf)
+        e = abs(written - exact) / abs(exact) if exact != 0 else abs(written)
+        if e > error:
+            error, worst = e, w
+    limit = tolerance.relative if tolerance.relative is not None else max(claim.resolution[0], 1e-12)
+    message = (
+        f"compared at {GRID} frequencies from {format_number(grid[0], 4)} to {format_number(grid[-1], 4)} rad/s; "
+        f"largest relative difference {error:.3g} at {format_number(worst, 4)} rad/s (allowed {limit:.3g})"
+    )
+    verdict = "agrees" if error <= limit else "differs"
+    return StepFinding(**base, **shown, verdict=verdict, error=error, message=message)  # type: ignore[arg-type]
+
+
+def check_list(base: dict[str, Any], claim: Claim, truths: tuple[Value, ...], tolerance: Tolerance) -> StepFinding:
+    """The verdict on a claimed list of values (poles, zeros, band edges)."""
+    items = claim.items or (claim,)
+    first = truths[0] if truths else None
+    shown: dict[str, Any] = {
+        "expected": ", ".join(format_value(t, items[0]) for t in truths) or "none",
+        "expected_si": (to_complex(first.expr).real, to_complex(first.expr).imag) if first is not None else None,
+        "exact": sympy.Tuple(*(t.expr for t in truths)),
+    }
+    if any(item.dim != t.dim for item in items for t in truths[:1]):
+        return StepFinding(**base, **shown, verdict="unit", message=f"the claim is in {items[0].dim or 'no unit'}, but the quantity is in {truths[0].dim or 'no unit'}")
+    if len(items) != len(truths):
+        return StepFinding(**base, **shown, verdict="differs", message=f"{len(items)} values claimed, the quantity has {len(truths)}")
+    remaining = [to_complex(t.expr) for t in truths]
+    worst = 0.0
+    ok = True
+    for item in items:
+        value = to_complex(item.value.expr)
+        nearest = min(remaining, key=lambda r: abs(r - value))
+        remaining.remove(nearest)
+        error = relative_error(item, nearest) or 0.0
+        worst = max(worst, error)
+        ok = ok and agrees(item, nearest, tolerance)
+        if item.form == "real" and abs(nearest.imag) > 1e-12 * abs(nearest):
+            ok = False  # a real number claimed for a complex root
+    return StepFinding(**base, **shown, verdict="agrees" if ok else "differs", error=worst)  # type: ignore[arg-type]
