@@ -6,7 +6,7 @@
 current); ``secondary_current(T)``; the power of several parts together
 (``power(P1, P2)``, ``reactive_power``, ``apparent_power``, ``power_factor``);
 ``delivered_power(P)`` and ``delivered_reactive_power(P)``; ``energy(P)`` stored in a
-capacitor or inductor.
+capacitor or inductor; ``rms(Q)`` and ``average(Q)`` over every source frequency.
 
 Sources of the formulas (from memory, standard results found in any circuit text,
 e.g. Alexander & Sadiku, *Fundamentals of Electric Circuits*, 5th ed., chapters 4,
@@ -48,6 +48,8 @@ DERIVED: dict[str, str] = {
     "delivered_power": "W",
     "delivered_reactive_power": "var",
     "energy": "J",
+    "rms": "",
+    "average": "",
 }
 #: Power quantities that take one part or several.
 POWER_NAMES = frozenset({"power", "reactive_power", "apparent_power", "power_factor"})
@@ -157,18 +159,79 @@ def group_power(solution: Solution, name: str, idents: tuple[object, ...], text:
     return Value(sympy.Abs(sympy.re(complex_power)) / apparent, DIMENSIONLESS)
 
 
-def _energy(solution: Solution, ident: object, text: str) -> Value:
+def _energy(solution: Solution, ident: object, text: str, evaluate: Evaluate) -> Value:
+    """Average stored energy over the periodic steady state: C <v^2> / 2 or L <i^2> / 2,
+    with <x^2> the mean square over every source frequency (its value squared at DC)."""
     part = _part(solution, ident, text)
     circuit = solution.circuit
     if any(p.kind == "coupling" and part.id in p.inductors for p in circuit.parts):
         raise _fail(f"{part.id} is magnetically coupled; the energy of one coupled inductor alone is not defined", text)
-    if part.kind == "capacitor":
-        size = sympy.Abs(part_voltage(solution, part)) ** 2
-    elif part.kind == "inductor":
-        size = sympy.Abs(part_current(solution, part)) ** 2
-    else:
+    if part.kind not in ("capacitor", "inductor"):
         raise _fail(f"energy() takes a capacitor or an inductor; {part.id} is a {part.kind}", text)
-    return Value(_power_scale(circuit) * part.value * size / 2, dim_of("J"))
+    from handcheck.solve.quantities import Quantity
+
+    kind = "voltage" if part.kind == "capacitor" else "current"
+    inner = Quantity(kind, (part.id,), f"{kind}({part.id})")
+    mean_square = _mean_square(solution, inner, text, evaluate)
+    return Value(part.value * mean_square / 2, dim_of("J"))
+
+
+def _spectrum(circuit: Circuit, text: str) -> list[sympy.Expr]:
+    """Every frequency (rad/s) the sources drive in steady state, DC (0) first."""
+    out: list[sympy.Expr] = []
+    for part in circuit.parts:
+        source = part.source
+        if source is None:
+            continue
+        if source.function.repeats:
+            raise _fail(
+                f"{part.id} repeats: rms() and average() over a repeating source's period are not available yet; "
+                "write its harmonics as cosine terms",
+                text,
+            )
+        if source.dc != 0 and not any(w == 0 for w in out):
+            out.insert(0, sympy.Integer(0))
+        for w in source.frequencies:
+            if not any(sympy.simplify(w - v) == 0 for v in out):
+                out.append(w)
+    return out
+
+
+def _mean_square(solution: Solution, inner: object, text: str, evaluate: Evaluate) -> sympy.Expr:
+    """The mean square of a voltage or current over every source frequency together.
+
+    A periodic steady state x(t) = X0 + sum_k |Xk| cos(wk t + phik) with distinct
+    frequencies has the mean square X0^2 + sum_k |Xk|^2 / 2, the cross terms averaging
+    to zero (Parseval's relation for a Fourier series; e.g. Alexander & Sadiku, 5th
+    ed., sec. 17.5, from memory). With rms phasors |Xk|^2 is already the mean square
+    of its term.
+    """
+    circuit = solution.circuit
+    total = sympy.Integer(0)
+    for w in _spectrum(circuit, text):
+        value = evaluate(solve(retuned(circuit, w)), inner)
+        if w == 0:
+            total += value.expr**2
+        else:
+            scale = sympy.Integer(1) if circuit.phasors == "rms" else sympy.Rational(1, 2)
+            total += scale * sympy.Abs(value.expr) ** 2
+    return total
+
+
+def _rms_average(solution: Solution, q: object, inner: object, evaluate: Evaluate) -> Value:
+    """``rms(Q)``: the square root of the mean square (:func:`_mean_square`);
+    ``average(Q)``: the DC part X0."""
+    circuit = solution.circuit
+    name, text = q.name, q.text  # type: ignore[attr-defined]
+    if getattr(inner, "name", None) not in ("voltage", "current"):
+        raise _fail(f"{name}() takes a voltage or a current, like {name}(voltage(out))", text)
+    dim = evaluate(solution, inner).dim
+    if name == "average":
+        spectrum = _spectrum(circuit, text)
+        if not spectrum or spectrum[0] != 0:
+            return Value(sympy.Integer(0), dim)
+        return Value(evaluate(solve(retuned(circuit, sympy.Integer(0))), inner).expr, dim)
+    return Value(sympy.sqrt(_mean_square(solution, inner, text, evaluate)), dim)
 
 
 def _inner(q: object, text: str, name: str) -> object:
@@ -210,7 +273,7 @@ def evaluate_derived(solution: Solution, q: object, evaluate: Evaluate) -> Value
     if name == "energy":
         if len(args) != 1:
             raise _fail("energy() takes one capacitor or inductor, like energy(C1)", text)
-        return _energy(solution, args[0], text)
+        return _energy(solution, args[0], text, evaluate)
     if name == "secondary_current":
         part = _part(solution, args[0] if len(args) == 1 else None, text)
         if part.kind != "transformer":
@@ -235,6 +298,10 @@ def evaluate_derived(solution: Solution, q: object, evaluate: Evaluate) -> Value
         return Value(sympy.arg(value.expr), DIMENSIONLESS)
     if name == "at_frequency":
         return evaluate(solve(retuned(circuit, _frequency(args, text))), inner)
+    if name in ("rms", "average"):
+        if len(args) != 1:
+            raise _fail(f"{name}() takes one voltage or current, like {name}(voltage(out))", text)
+        return _rms_average(solution, q, inner, evaluate)
     if name == "without":
         if len(args) < 2 or any(hasattr(a, "name") for a in args[1:]):
             raise _fail("without() takes a quantity and the part ids to remove, like without(voltage(out), Rload)", text)
