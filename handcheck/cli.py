@@ -49,6 +49,14 @@ def _parser() -> argparse.ArgumentParser:
     simulate.add_argument("--plot", metavar="OUT", help="write the plots to OUT (.svg or .png)")
     simulate.add_argument("--json", action="store_true", help="print the evidence as JSON")
     simulate.add_argument("--time-limit", type=_seconds, default=None, metavar="SECONDS", help="wall-clock budget")
+    record = commands.add_parser("record", help="check a worksheet and write its calculation record")
+    record.add_argument("file", metavar="FILE", help="the worksheet (TOML, format 1)")
+    record.add_argument("-o", "--output", required=True, metavar="OUT", help="the record: .html, .md or .json")
+    record.add_argument("--no-evidence", action="store_true", help="leave out the numerical solution and its plots")
+    record.add_argument("--time-limit", type=_seconds, default=None, metavar="SECONDS", help="wall-clock budget")
+    reverify = commands.add_parser("reverify", help="re-run the worksheet embedded in a record and compare")
+    reverify.add_argument("file", metavar="RECORD", help="a record written by handcheck record")
+    reverify.add_argument("--time-limit", type=_seconds, default=None, metavar="SECONDS", help="wall-clock budget")
     return parser
 
 
@@ -74,6 +82,12 @@ def _run(args: argparse.Namespace) -> int:
         raise WorksheetError(f'--plot writes .svg or .png files, not "{plot}"')
     budget = Budget(DEFAULT_TIME_LIMIT if args.time_limit is None else args.time_limit)
     timer = watchdog(budget, args.file)
+    if args.command in ("record", "reverify"):
+        try:
+            return _record(args, budget)
+        finally:
+            if timer is not None:
+                timer.cancel()
     try:
         simulating = args.command == "simulate"
         wants_evidence = simulating or args.evidence or bool(plot)
@@ -111,6 +125,22 @@ def _plot_audit(findings: tuple[Any, ...], out: str) -> None:
     path = plot_audit(findings, out)
     if path is not None:
         sys.stderr.write(f"handcheck: audit histogram written to {path}\n")
+
+
+def _record(args: argparse.Namespace, budget: Any) -> int:
+    from handcheck.record.write import reverify, write_record
+
+    if args.command == "record":
+        path, ok = write_record(args.file, args.output, evidence=not args.no_evidence, budget=budget)
+        sys.stderr.write(f"handcheck: record written to {path}\n")
+        return EXIT_OK if ok else EXIT_DISAGREES
+    outcome = reverify(args.file, budget=budget)
+    if outcome.same:
+        print(f"{args.file}: every result is the same")
+        return EXIT_OK
+    for change in outcome.changes:
+        print(f"{args.file}: changed: {change}")
+    return EXIT_DISAGREES
 
 
 def _plot(result: Any, out: str) -> None:

@@ -37,7 +37,7 @@ _NODE = re.compile(r"[A-Za-z0-9_]+\Z")
 _FREE_TEXT = ("title", "reference")
 _LINE_BREAKS = re.compile(r"[\r\n\t\v\f\x1c-\x1e\x85\u2028\u2029]+")
 
-_WORKSHEET_KEYS = ("format", "title", "reference", "phasors", "frequency", "tolerance")
+_WORKSHEET_KEYS = ("format", "title", "reference", "phasors", "frequency", "tolerance", "author", "checker")
 _STEP_KEYS = ("name", "quantity", "formula", "claim", "tolerance")
 _TRANSIENT_KEYS = ("start", "span")
 #: Keys any part may carry for the formula audit (read in handcheck.worksheet.audit).
@@ -237,6 +237,8 @@ class _Reader:
             sha256=self.sha256,
             title=title or "",
             reference=self.string(head, "reference", "worksheet"),
+            author=self.string(head, "author", "worksheet"),
+            checker=self.string(head, "checker", "worksheet"),
             phasors=phasors,  # type: ignore[arg-type]
             frequency=self.string(head, "frequency", "worksheet"),
             omega=self.analysis_omega(head),

@@ -72,6 +72,8 @@ class Worksheet:
     sha256: str
     title: str
     reference: str | None = None
+    author: str | None = None  # who wrote the hand calculation (the record's sign-off block)
+    checker: str | None = None  # who checks it
     phasors: PhasorConvention = "peak"
     frequency: str | None = None
     omega: sympy.Expr | None = None  # the analysis frequency read from ``frequency``, rad/s

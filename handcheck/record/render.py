@@ -1,0 +1,112 @@
+"""Render a record (:mod:`handcheck.record.model`) as HTML, Markdown or JSON text.
+
+HTML and Markdown go through jinja2 templates shipped in the package
+(``handcheck/record/templates``). The HTML environment escapes every value; only the
+MathML made by sympy's printer from the project's own objects and the SVG drawn by
+matplotlib are marked safe. The Markdown environment escapes worksheet text for
+Markdown instead.
+"""
+
+from __future__ import annotations
+
+import json
+import re
+from typing import Any
+
+from handcheck.record.document import data_line, digest_line
+
+__all__ = ["render_html", "render_json", "render_markdown"]
+
+_MD_SPECIAL = re.compile(r"([\\`*_\[\]|#!{}$~])")
+
+
+def _environment(autoescape: bool) -> Any:
+    import jinja2
+
+    env = jinja2.Environment(
+        loader=jinja2.PackageLoader("handcheck.record", "templates"),
+        autoescape=autoescape,
+        undefined=jinja2.StrictUndefined,
+        trim_blocks=True,
+        lstrip_blocks=True,
+        keep_trailing_newline=True,
+    )
+    env.filters["md"] = _markdown_text
+    env.filters["fence"] = _fence
+    env.filters["number"] = _number
+    return env
+
+
+def _markdown_text(value: Any) -> str:
+    """Worksheet text safe inside Markdown (and its tables): specials escaped, one line."""
+    text = "" if value is None else str(value)
+    text = text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+    return _MD_SPECIAL.sub(r"\\\1", " ".join(text.split()))
+
+
+def _fence(text: str) -> str:
+    """A backtick fence longer than any run of backticks in ``text``."""
+    runs = [len(m) for m in re.findall(r"`+", text)]
+    return "`" * max(3, max(runs, default=0) + 1)
+
+
+def _number(value: Any) -> str:
+    if value is None:
+        return ""
+    if isinstance(value, float):
+        return f"{value:.4g}"
+    return str(value)
+
+
+def _reverify_data(record: dict[str, Any]) -> dict[str, Any]:
+    return {key: record[key] for key in ("record_format", "worksheet", "results")}
+
+
+def _math(record: dict[str, Any]) -> dict[str, Any]:
+    """The record with every MathML string marked safe (sympy's printer made it)."""
+    from markupsafe import Markup
+
+    def mark(value: Any) -> Any:
+        if isinstance(value, dict):
+            return {k: (Markup(v) if k == "mathml" and isinstance(v, str) else mark(v)) for k, v in value.items()}
+        if isinstance(value, list):
+            return [mark(v) for v in value]
+        return value
+
+    return mark(record)
+
+
+def render_html(record: dict[str, Any], plots: list[dict[str, str]]) -> str:
+    """The record as one self-contained HTML page (before sealing).
+
+    Parameters
+    ----------
+    record : dict
+        From :func:`handcheck.record.model.build_record`.
+    plots : list of dict
+        ``title`` and ``svg`` (an SVG element drawn by matplotlib) for each plot.
+
+    Returns
+    -------
+    str
+        The page, with its data and digest lines last.
+    """
+    from markupsafe import Markup
+
+    shown = [{"title": p["title"], "svg": Markup(p["svg"])} for p in plots]
+    page = _environment(True).get_template("record.html.j2").render(record=_math(record), plots=shown)
+    return page + data_line(_reverify_data(record)) + "\n" + digest_line() + "\n"
+
+
+def render_markdown(record: dict[str, Any]) -> str:
+    """The record as Markdown: tables, ``$...$`` LaTeX, plots linked as SVG files beside it."""
+    page = _environment(False).get_template("record.md.j2").render(record=record)
+    return page + "\n" + data_line(_reverify_data(record)) + "\n" + digest_line() + "\n"
+
+
+def render_json(record: dict[str, Any]) -> str:
+    """The record as JSON (record format 1), its digest on the last key's own line."""
+    data = dict(record)
+    data["digest"] = "sha256:" + "0" * 64
+    text = json.dumps(data, ensure_ascii=False, indent=2)
+    return text + "\n"

@@ -1,0 +1,197 @@
+"""Write a calculation record and re-verify one (``handcheck record`` and ``handcheck reverify``).
+
+The format follows the output file's suffix: ``.html``, ``.md`` or ``.json``
+(docs/record.md). Every file is written atomically; a Markdown record's plots are
+SVG files beside it, named after it.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+import tempfile
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from handcheck.errors import HandcheckError
+from handcheck.record.document import RecordError, embedded_data, seal, verify_digest, write_atomic
+from handcheck.record.inputs import Inputs, gather
+
+__all__ = ["FORMATS", "Reverified", "make_record", "reverify", "write_record"]
+
+FORMATS = (".html", ".md", ".json")
+#: Relative difference below which two recomputed numbers count as the same result.
+SAME_RESULT = 1e-9
+
+
+def _plots(inputs: Inputs) -> list[dict[str, str]]:
+    """The evidence plots as SVG text (deterministic: fixed ids, no date)."""
+    if inputs.evidence is None:
+        return []
+    import matplotlib
+
+    from handcheck.record.plots import plot_evidence
+
+    with tempfile.TemporaryDirectory(prefix="handcheck-record-") as folder:
+        target = Path(folder) / "evidence.svg"
+        with matplotlib.rc_context({"svg.hashsalt": "handcheck-record", "svg.fonttype": "path"}):
+            plot_evidence(inputs.report, inputs.evidence, target)
+        svg = target.read_text(encoding="utf-8")
+    svg = re.sub(r"<\?xml[^>]*\?>\s*", "", svg)
+    svg = re.sub(r"<!DOCTYPE[^>]*>\s*", "", svg)
+    svg = re.sub(r"<metadata>.*?</metadata>\s*", "", svg, flags=re.DOTALL)
+    title = "Waveforms, transient and phasors from the numerical solution (claimed values dashed)"
+    return [{"title": title, "svg": svg.strip()}]
+
+
+def make_record(inputs: Inputs, suffix: str, stem: str = "record") -> tuple[bytes, dict[str, bytes]]:
+    """The sealed record in the format of ``suffix``, and the files that go beside it.
+
+    Parameters
+    ----------
+    inputs : Inputs
+        From :func:`handcheck.record.inputs.gather`.
+    suffix : str
+        ``.html``, ``.md`` or ``.json``.
+    stem : str
+        The record file's name without suffix (names the plot files of a Markdown record).
+
+    Returns
+    -------
+    tuple
+        The record's bytes and a mapping of side file names to their bytes.
+    """
+    import hashlib
+
+    from handcheck.record.model import build_record
+    from handcheck.record.render import render_html, render_json, render_markdown
+
+    plots = _plots(inputs)
+    side: dict[str, bytes] = {}
+    if suffix == ".md":
+        for index, plot in enumerate(plots, start=1):
+            name = f"{stem}-plot{index}.svg"
+            data = (plot["svg"] + "\n").encode("utf-8")
+            side[name] = data
+            plot["file"] = name
+            plot["sha256"] = hashlib.sha256(data).hexdigest()
+    record = build_record(inputs, plots)
+    for entry, plot in zip(record["plots"], plots, strict=True):
+        if "sha256" in plot:
+            entry["sha256"] = plot["sha256"]
+    if suffix == ".html":
+        text = render_html(record, plots)
+    elif suffix == ".md":
+        text = render_markdown(record)
+    else:
+        text = render_json(record)
+    return seal(text), side
+
+
+def write_record(
+    worksheet_path: str, out: str, *, evidence: bool = True, quiet: bool = False, budget: Any = None
+) -> tuple[Path, bool]:
+    """Check a worksheet and write its calculation record to ``out``.
+
+    Returns
+    -------
+    tuple
+        The record's path, and whether every step agrees (or is unchecked) and the
+        numerical evidence, if run, found no problem.
+
+    Raises
+    ------
+    HandcheckError
+        For a worksheet that cannot be checked, or an ``out`` of another suffix.
+    OSError
+        When the record cannot be written.
+    """
+    from handcheck.worksheet.load import load
+
+    target = Path(out)
+    suffix = target.suffix.lower()
+    if suffix not in FORMATS:
+        raise HandcheckError(f'a record is written as .html, .md or .json, not "{target.name}"; name the file by its format')
+    inputs = gather(load(worksheet_path), evidence=evidence, quiet=quiet, budget=budget)
+    data, side = make_record(inputs, suffix, target.stem)
+    for name, content in side.items():
+        write_atomic(target.parent / name, content)
+    ok = inputs.report.ok and (inputs.evidence is None or inputs.evidence.ok)
+    return write_atomic(target, data), ok
+
+
+@dataclass(frozen=True)
+class Reverified:
+    """The outcome of re-running a record's worksheet: the results that changed."""
+
+    path: str
+    changes: tuple[str, ...]
+
+    @property
+    def same(self) -> bool:
+        return not self.changes
+
+
+def _same(a: Any, b: Any) -> bool:
+    if isinstance(a, float) and isinstance(b, float):
+        return math.isclose(a, b, rel_tol=SAME_RESULT, abs_tol=0.0) or a == b
+    if isinstance(a, list) and isinstance(b, list):
+        return len(a) == len(b) and all(_same(x, y) for x, y in zip(a, b, strict=True))
+    if isinstance(a, dict) and isinstance(b, dict):
+        return a.keys() == b.keys() and all(_same(a[k], b[k]) for k in a)
+    return bool(a == b)
+
+
+def _changes(before: dict[str, Any], after: dict[str, Any]) -> list[str]:
+    changes = []
+    for name in sorted(before.keys() | after.keys()):
+        if name not in after:
+            changes.append(f"{name}: no longer computed")
+        elif name not in before:
+            changes.append(f"{name}: new result")
+        elif not _same(before[name], after[name]):
+            old, new = before[name], after[name]
+            if isinstance(old, dict) and isinstance(new, dict):
+                fields = [
+                    f"{key} {old.get(key)!r} -> {new.get(key)!r}"
+                    for key in sorted(old.keys() | new.keys())
+                    if not _same(old.get(key), new.get(key))
+                ]
+                changes.append(f"{name}: " + "; ".join(fields))
+            else:
+                changes.append(f"{name}: {old!r} -> {new!r}")
+    return changes
+
+
+def reverify(path: str, *, quiet: bool = False, budget: Any = None) -> Reverified:
+    """Check a record's digest, re-run its embedded worksheet and compare every result.
+
+    Raises
+    ------
+    RecordError
+        When the file is no record, or was altered after it was written.
+    HandcheckError
+        When the embedded worksheet can no longer be checked.
+    """
+    from handcheck.record.model import build_record
+    from handcheck.worksheet.load import loads
+
+    try:
+        data = Path(path).read_bytes()
+    except FileNotFoundError:
+        raise RecordError("no such file", file=path) from None
+    except OSError as exc:
+        raise RecordError(f"cannot read the file: {exc.strerror}", file=path) from None
+    verify_digest(data, path)
+    stored = embedded_data(data, path)
+    sheet = stored["worksheet"]
+    worksheet = loads(sheet["text"], str(sheet.get("path") or path))
+    if sheet.get("sha256") and worksheet.sha256 != sheet["sha256"]:
+        raise RecordError("the embedded worksheet does not match its SHA-256", file=path)
+    with_evidence = "evidence" in stored["results"]
+    inputs = gather(worksheet, evidence=with_evidence, quiet=quiet, budget=budget)
+    from handcheck.record.model import results_of
+
+    now = results_of(build_record(inputs))
+    return Reverified(path, tuple(_changes(stored["results"], now)))
