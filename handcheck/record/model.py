@@ -83,9 +83,31 @@ def _number(x: float | None) -> float | None:
     return float(f"{x:.15g}")
 
 
+def _written_keys(text: str) -> dict[str, dict[str, Any]]:
+    """The ``[parts]`` table as written (TOML data, for the keys beside a source's value)."""
+    import tomllib
+
+    try:
+        parts = tomllib.loads(text).get("parts", {})
+    except tomllib.TOMLDecodeError:
+        return {}
+    return {k: v for k, v in parts.items() if isinstance(v, dict)} if isinstance(parts, dict) else {}
+
+
+def _source_phasor(spec: Any, circuit: Any) -> sympy.Expr | None:
+    function = getattr(spec, "source", None)
+    if function is None:
+        return None
+    try:
+        return function.steady(circuit.omega)
+    except (AttributeError, TypeError, ValueError):
+        return None
+
+
 def _circuit(inputs: Inputs) -> dict[str, Any]:
     circuit, sheet = inputs.circuit, inputs.worksheet
     written = {part.id: part for part in sheet.parts}
+    keys = _written_keys(sheet.text)
     parts, sources = [], []
     for part in circuit.parts:
         spec = written.get(part.id)
@@ -106,14 +128,18 @@ def _circuit(inputs: Inputs) -> dict[str, Any]:
             }
         )
         if part.kind in ("voltage", "current") and spec is not None:
+            raw = keys.get(part.id, {})
+            phasor = _source_phasor(spec, circuit)
             sources.append(
                 {
                     "id": part.id,
                     "kind": part.kind,
                     "nodes": list(part.nodes),
                     "time_function": spec.value,
-                    "frequency": spec.frequency,
-                    "phase": spec.phase,
+                    "frequency": raw.get("frequency") if isinstance(raw.get("frequency"), str) else None,
+                    "phase": raw.get("phase") if isinstance(raw.get("phase"), str) else None,
+                    "phasor": sympy.sstr(phasor) if phasor is not None else None,
+                    "phasor_typeset": _typeset(phasor.xreplace({sympy.I: sympy.Symbol("j")}) if phasor is not None else None),
                 }
             )
     return {
