@@ -128,13 +128,23 @@ def _plot_audit(findings: tuple[Any, ...], out: str) -> None:
 
 
 def _record(args: argparse.Namespace, budget: Any) -> int:
-    from handcheck.record.write import reverify, write_record
+    from handcheck.pipeline import record_inputs
+    from handcheck.record.write import check_suffix, compare, read_record, recorded_worksheet, write_record
+    from handcheck.worksheet.load import load
 
     if args.command == "record":
-        path, ok = write_record(args.file, args.output, evidence=not args.no_evidence, budget=budget)
+        check_suffix(args.output)
+        worksheet = load(args.file)
+        if not args.no_evidence:
+            sys.stderr.write("handcheck: solving the circuit numerically in time...\n")
+        inputs = record_inputs(worksheet, evidence=not args.no_evidence, budget=budget)
+        path = write_record(inputs, args.output)
         sys.stderr.write(f"handcheck: record written to {path}\n")
+        ok = inputs.report.ok and (inputs.evidence is None or inputs.evidence.ok)
         return EXIT_OK if ok else EXIT_DISAGREES
-    outcome = reverify(args.file, budget=budget)
+    stored = read_record(args.file)
+    inputs = record_inputs(recorded_worksheet(stored, args.file), evidence="evidence" in stored["results"], budget=budget)
+    outcome = compare(args.file, stored, inputs)
     if outcome.same:
         print(f"{args.file}: every result is the same")
         return EXIT_OK

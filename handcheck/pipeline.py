@@ -24,7 +24,7 @@ from handcheck.circuit.model import Circuit
 from handcheck.verify.findings import Report
 from handcheck.worksheet.model import Worksheet
 
-__all__ = ["Result", "evidence_for", "run", "run_text", "run_worksheet"]
+__all__ = ["Result", "evidence_for", "record_inputs", "run", "run_text", "run_worksheet"]
 
 
 @dataclass(frozen=True)
@@ -188,3 +188,35 @@ def run_text(
 
     budget = _budget(budget, time_limit)
     return run_worksheet(loads(text, name), check=check, evidence=evidence, budget=budget)
+
+
+def record_inputs(worksheet: Worksheet, *, evidence: bool = True, budget: Budget | None = None) -> Any:
+    """The inputs of a calculation record: the stages run once, the evidence kept apart.
+
+    A numerical solution that cannot be made does not stop the record: the record
+    says why instead (``evidence_problem``).
+
+    Parameters
+    ----------
+    worksheet
+        The loaded worksheet.
+    evidence
+        Whether to add the independent numerical time-domain solution.
+    budget
+        The time budget.
+
+    Returns
+    -------
+    handcheck.record.inputs.Inputs
+    """
+    from handcheck.errors import HandcheckError
+    from handcheck.record.inputs import Inputs
+
+    result = run_worksheet(worksheet, check=True, evidence=False, budget=budget)
+    if not evidence:
+        return Inputs(worksheet, result.circuit, result.report)
+    try:
+        found = evidence_for(worksheet, result.circuit, result.exact)
+    except HandcheckError as exc:
+        return Inputs(worksheet, result.circuit, result.report, None, f"the numerical solution could not be made: {exc}")
+    return Inputs(worksheet, result.circuit, result.report, found)

@@ -9,8 +9,12 @@ jsonschema library; presentation MathML and LaTeX from sympy's own printers.
 from __future__ import annotations
 
 import hashlib
+import html
 import json
 import re
+import shutil
+import struct
+import subprocess
 from importlib import resources
 from pathlib import Path
 
@@ -18,15 +22,24 @@ import pytest
 import sympy
 
 from handcheck.cli import main
+from handcheck.pipeline import record_inputs
 from handcheck.record.document import seal, write_atomic
 from handcheck.record.formula import latex_of, mathml_of, typeset_formula
-from handcheck.record.inputs import gather
-from handcheck.record.write import make_record, reverify
+from handcheck.record.write import compare, make_record, read_record, recorded_worksheet
 from handcheck.worksheet.load import load, loads
 
 WORKSHEETS = sorted((Path(__file__).parent.parent / "worksheets").glob("*.toml"))
 EPOCH = "1700000000"  # 2023-11-14T22:13:20Z
 WITH_EVIDENCE = "coil-snubber.toml"
+
+
+def gather(worksheet, *, evidence: bool, quiet: bool = True):
+    return record_inputs(worksheet, evidence=evidence)
+
+
+def reverify(path: str, quiet: bool = True):
+    stored = read_record(path)
+    return compare(path, stored, gather(recorded_worksheet(stored, path), evidence="evidence" in stored["results"]))
 
 
 def _schema() -> dict:
@@ -251,3 +264,81 @@ def test_a_payload_in_a_formula_is_refused_and_nothing_written(tmp_path: Path, m
     sheet.write_text(text, encoding="utf-8")
     assert main(["record", str(sheet), "-o", str(tmp_path / "bad.html")]) == 2
     assert not (tmp_path / "bad.html").exists()
+
+
+# --- In a real browser: headless Chromium (Debian's chromium package; .ci/run installs it) ---
+
+CHROMIUM = next((p for p in (shutil.which("chromium"), shutil.which("chromium-browser")) if p), None)
+needs_chromium = pytest.mark.skipif(CHROMIUM is None, reason="headless Chromium is not installed (apt-get install chromium)")
+MEASURE = (
+    "<script>document.body.setAttribute('data-math', JSON.stringify(Array.from(document.querySelectorAll('math'))"
+    ".map(function (m) { var r = m.getBoundingClientRect(); return [r.width, r.height]; })));</script>"
+)
+
+
+def _chromium(tmp_path: Path, url: str, *flags: str) -> subprocess.CompletedProcess:
+    command = [CHROMIUM, "--headless", "--no-sandbox", "--disable-gpu", "--no-first-run", "--enable-logging=stderr",
+               "--v=0", f"--user-data-dir={tmp_path / 'profile'}", *flags, url]
+    return subprocess.run(command, capture_output=True, text=True, timeout=120, check=False)
+
+
+def _console_messages(stderr: str) -> list[str]:
+    return [line for line in stderr.splitlines() if "CONSOLE" in line or "Uncaught" in line]
+
+
+@needs_chromium
+@pytest.mark.parametrize("sheet", [w.name for w in WORKSHEETS])
+def test_browser_shows_every_verdict_and_sizes_every_formula(bundled: dict, sheet: str, tmp_path: Path) -> None:
+    page = bundled[sheet][".html"]
+    record = json.loads(bundled[sheet][".json"].read_text(encoding="utf-8"))
+    done = _chromium(tmp_path, page.as_uri(), "--dump-dom")
+    assert done.returncode == 0, done.stderr[-2000:]
+    assert _console_messages(done.stderr) == []
+    dom = done.stdout
+    for step in record["steps"]:
+        found = re.search(rf'id="step-{re.escape(step["name"])}" data-verdict="([a-z]+)"', dom)
+        assert found is not None and found.group(1) == step["verdict"]
+    assert dom.count("<math") == page.read_text(encoding="utf-8").count("<math") > 0
+    # The record runs no script; a test copy without its security policy measures each math element.
+    copy = tmp_path / "measure.html"
+    text = re.sub(r'<meta http-equiv="Content-Security-Policy"[^>]*>', "", page.read_text(encoding="utf-8"))
+    copy.write_text(text.replace("</body>", MEASURE + "</body>"), encoding="utf-8")
+    measured = _chromium(tmp_path, copy.as_uri(), "--dump-dom")
+    sizes = json.loads(html.unescape(re.search(r'data-math="([^"]*)"', measured.stdout).group(1)))
+    assert len(sizes) == dom.count("<math")
+    assert all(width > 0 and height > 0 for width, height in sizes), sizes
+
+
+@needs_chromium
+def test_browser_screenshot_and_printed_pages(bundled: dict, tmp_path: Path) -> None:
+    page = bundled[WITH_EVIDENCE][".html"]
+    shot = tmp_path / "shot.png"
+    done = _chromium(tmp_path, page.as_uri(), f"--screenshot={shot}", "--window-size=1100,1600")
+    assert done.returncode == 0, done.stderr[-2000:]
+    head = shot.read_bytes()[:24]
+    assert head[:8] == b"\x89PNG\r\n\x1a\n"
+    assert struct.unpack(">II", head[16:24]) == (1100, 1600)
+    assert shot.stat().st_size > 50_000  # a page with tables and a plot, not a blank screen
+    pdf = tmp_path / "record.pdf"
+    done = _chromium(tmp_path, page.as_uri(), f"--print-to-pdf={pdf}", "--no-pdf-header-footer")
+    assert done.returncode == 0 and pdf.read_bytes()[:5] == b"%PDF-"
+    pdftoppm = shutil.which("pdftoppm")
+    if pdftoppm is None:
+        pytest.skip("pdftoppm is not installed (apt-get install poppler-utils)")
+    subprocess.run([pdftoppm, "-r", "30", "-png", str(pdf), str(tmp_path / "page")], check=True, timeout=120)
+    pages = sorted(tmp_path.glob("page-*.png"))
+    assert len(pages) >= 2
+    assert all(p.stat().st_size > 1000 for p in pages)
+
+
+@needs_chromium
+def test_browser_runs_nothing_from_a_worksheet(tmp_path: Path, make_worksheet) -> None:
+    inputs = gather(loads(payload_worksheet(make_worksheet), "payload.toml"), evidence=False, quiet=True)
+    page = tmp_path / "payload.html"
+    page.write_bytes(make_record(inputs, ".html")[0])
+    done = _chromium(tmp_path, page.as_uri(), "--dump-dom")
+    assert done.returncode == 0, done.stderr[-2000:]
+    assert "data-pwned" not in re.search(r"<body[^>]*>", done.stdout).group(0)  # the sentinel was never set
+    assert "<script" not in done.stdout and "<img" not in done.stdout
+    assert '&lt;script&gt;document.body.setAttribute("data-pwned","1")&lt;/script&gt;' in done.stdout
+    assert _console_messages(done.stderr) == []

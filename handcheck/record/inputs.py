@@ -1,19 +1,16 @@
 """The record's inputs: the worksheet, its circuit, the findings and the evidence, made once.
 
-Everything the record shows comes through :func:`gather`, so that the record takes
-its inputs from one place (the stages run in the order of DESIGN.md and each result
-is kept once).
+Everything the record shows comes in one :class:`Inputs`, made by
+:func:`handcheck.pipeline.record_inputs` (the stages run once each, in the order of
+DESIGN.md); the record itself never runs a stage.
 """
 
 from __future__ import annotations
 
-import sys
 from dataclasses import dataclass
 from typing import Any
 
-from handcheck.errors import HandcheckError, TimeLimitError
-
-__all__ = ["Inputs", "gather"]
+__all__ = ["Inputs"]
 
 
 @dataclass(frozen=True)
@@ -29,43 +26,3 @@ class Inputs:
     report: Any
     evidence: Any = None
     evidence_problem: str | None = None
-
-
-def gather(worksheet: Any, *, evidence: bool = True, quiet: bool = False, budget: Any = None) -> Inputs:
-    """Build, check and (optionally) simulate a loaded worksheet, each once (the pipeline).
-
-    Parameters
-    ----------
-    worksheet : handcheck.worksheet.model.Worksheet
-        The loaded worksheet.
-    evidence : bool
-        Also solve the circuit numerically in time (the independent evidence).
-    quiet : bool
-        Write no progress line on stderr.
-    budget : handcheck.budget.Budget, optional
-        The time budget (the pipeline's default when None).
-
-    Returns
-    -------
-    Inputs
-        The worksheet, circuit, report and evidence.
-
-    Raises
-    ------
-    HandcheckError
-        When the worksheet cannot be checked (as ``handcheck check`` reports it).
-    """
-    from handcheck.pipeline import evidence_for, run_worksheet
-
-    result = run_worksheet(worksheet, check=True, evidence=False, budget=budget)
-    if not evidence:
-        return Inputs(worksheet, result.circuit, result.report)
-    if not quiet:
-        sys.stderr.write("handcheck: solving the circuit numerically in time...\n")
-    try:
-        found = evidence_for(worksheet, result.circuit, result.exact)
-    except TimeLimitError:
-        raise
-    except HandcheckError as exc:
-        return Inputs(worksheet, result.circuit, result.report, None, f"the numerical solution could not be made: {exc}")
-    return Inputs(worksheet, result.circuit, result.report, found)

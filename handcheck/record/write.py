@@ -16,9 +16,9 @@ from typing import Any
 
 from handcheck.errors import HandcheckError
 from handcheck.record.document import RecordError, embedded_data, seal, verify_digest, write_atomic
-from handcheck.record.inputs import Inputs, gather
+from handcheck.record.inputs import Inputs
 
-__all__ = ["FORMATS", "Reverified", "make_record", "reverify", "write_record"]
+__all__ = ["FORMATS", "Reverified", "check_suffix", "compare", "make_record", "read_record", "recorded_worksheet", "write_record"]
 
 FORMATS = (".html", ".md", ".json")
 #: Relative difference below which two recomputed numbers count as the same result.
@@ -51,7 +51,7 @@ def make_record(inputs: Inputs, suffix: str, stem: str = "record") -> tuple[byte
     Parameters
     ----------
     inputs : Inputs
-        From :func:`handcheck.record.inputs.gather`.
+        From :func:`handcheck.pipeline.record_inputs`.
     suffix : str
         ``.html``, ``.md`` or ``.json``.
     stem : str
@@ -89,36 +89,35 @@ def make_record(inputs: Inputs, suffix: str, stem: str = "record") -> tuple[byte
     return seal(text), side
 
 
-def write_record(
-    worksheet_path: str, out: str, *, evidence: bool = True, quiet: bool = False, budget: Any = None
-) -> tuple[Path, bool]:
-    """Check a worksheet and write its calculation record to ``out``.
-
-    Returns
-    -------
-    tuple
-        The record's path, and whether every step agrees (or is unchecked) and the
-        numerical evidence, if run, found no problem.
+def write_record(inputs: Inputs, out: str | Path) -> Path:
+    """Write the calculation record of ``inputs`` to ``out`` (and a Markdown record's plots beside it).
 
     Raises
     ------
     HandcheckError
-        For a worksheet that cannot be checked, or an ``out`` of another suffix.
+        For an ``out`` of another suffix than ``.html``, ``.md`` or ``.json``.
     OSError
         When the record cannot be written.
     """
-    from handcheck.worksheet.load import load
-
     target = Path(out)
-    suffix = target.suffix.lower()
-    if suffix not in FORMATS:
-        raise HandcheckError(f'a record is written as .html, .md or .json, not "{target.name}"; name the file by its format')
-    inputs = gather(load(worksheet_path), evidence=evidence, quiet=quiet, budget=budget)
-    data, side = make_record(inputs, suffix, target.stem)
+    check_suffix(target)
+    data, side = make_record(inputs, target.suffix.lower(), target.stem)
     for name, content in side.items():
         write_atomic(target.parent / name, content)
-    ok = inputs.report.ok and (inputs.evidence is None or inputs.evidence.ok)
-    return write_atomic(target, data), ok
+    return write_atomic(target, data)
+
+
+def check_suffix(target: str | Path) -> None:
+    """Refuse a record file name whose suffix names no record format.
+
+    Raises
+    ------
+    HandcheckError
+        For a suffix other than ``.html``, ``.md`` or ``.json``.
+    """
+    target = Path(target)
+    if target.suffix.lower() not in FORMATS:
+        raise HandcheckError(f'a record is written as .html, .md or .json, not "{target.name}"; name the file by its format')
 
 
 @dataclass(frozen=True)
@@ -164,19 +163,14 @@ def _changes(before: dict[str, Any], after: dict[str, Any]) -> list[str]:
     return changes
 
 
-def reverify(path: str, *, quiet: bool = False, budget: Any = None) -> Reverified:
-    """Check a record's digest, re-run its embedded worksheet and compare every result.
+def read_record(path: str) -> dict[str, Any]:
+    """A record's embedded worksheet and results, after its digest is checked.
 
     Raises
     ------
     RecordError
         When the file is no record, or was altered after it was written.
-    HandcheckError
-        When the embedded worksheet can no longer be checked.
     """
-    from handcheck.record.model import build_record
-    from handcheck.worksheet.load import loads
-
     try:
         data = Path(path).read_bytes()
     except FileNotFoundError:
@@ -184,14 +178,29 @@ def reverify(path: str, *, quiet: bool = False, budget: Any = None) -> Reverifie
     except OSError as exc:
         raise RecordError(f"cannot read the file: {exc.strerror}", file=path) from None
     verify_digest(data, path)
-    stored = embedded_data(data, path)
+    return embedded_data(data, path)
+
+
+def recorded_worksheet(stored: dict[str, Any], path: str) -> Any:
+    """The worksheet embedded in a record, loaded again (it must match its SHA-256).
+
+    Raises
+    ------
+    RecordError
+        When the embedded text does not match the recorded SHA-256.
+    """
+    from handcheck.worksheet.load import loads
+
     sheet = stored["worksheet"]
     worksheet = loads(sheet["text"], str(sheet.get("path") or path))
     if sheet.get("sha256") and worksheet.sha256 != sheet["sha256"]:
         raise RecordError("the embedded worksheet does not match its SHA-256", file=path)
-    with_evidence = "evidence" in stored["results"]
-    inputs = gather(worksheet, evidence=with_evidence, quiet=quiet, budget=budget)
-    from handcheck.record.model import results_of
+    return worksheet
+
+
+def compare(path: str, stored: dict[str, Any], inputs: Inputs) -> Reverified:
+    """Every recorded result against the same result computed again from ``inputs``."""
+    from handcheck.record.model import build_record, results_of
 
     now = results_of(build_record(inputs))
     return Reverified(path, tuple(_changes(stored["results"], now)))
