@@ -94,6 +94,17 @@ Rload = { resistor = "100 ohm", nodes = ["a", "gnd"] }
     assert found["off"].verdict == "differs"
 
 
+@pytest.mark.parametrize("text", ["123456789012345678901234567890 dB", "-6001 dB", "3001 dBm"])
+def test_level_claim_out_of_range_is_refused_without_building_it(text: str) -> None:
+    # Found by fuzzing: 10^(1.2e29/20) built exactly filled the memory. A level beyond
+    # the compared range of 1e-300..1e300 (6000 dB, 3000 dBm) is refused at once.
+    from handcheck.errors import LimitError
+    from handcheck.verify.claims import read_claim
+
+    with pytest.raises(LimitError, match="level out of range"):
+        read_claim(text)
+
+
 def test_group_power_and_delivered_power_balance() -> None:
     # Tellegen's theorem (Penfield, Spence & Duinker, "Tellegen's theorem and electrical
     # networks", 1970, from memory): the complex powers of all parts sum to zero, so the

@@ -291,6 +291,13 @@ def _read_level(text: str, body: str, unit: str) -> Claim:
     level = evaluate(tree, {}, body).expr
     resolution, _ = _component_resolutions(tree)
     divisor = 20 if unit == "dB" else 10
+    if abs(level) > divisor * CLAIM_RANGE:
+        # 10^(level/divisor) would be out of the compared range, and built exactly
+        # it could fill the memory (a fuzzed "1e29 dB" did).
+        raise LimitError(
+            f'the claim "{text}" is a level out of range: handcheck compares levels from '
+            f"-{divisor * CLAIM_RANGE} to {divisor * CLAIM_RANGE} {unit}"
+        )
     factor = sympy.Integer(1) if unit == "dB" else sympy.Rational(1, 1000)
     value = factor * sympy.Integer(10) ** (sympy.Rational(level) / divisor)
     size = float(sympy.N(value, 20))
