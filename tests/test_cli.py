@@ -38,6 +38,8 @@ MISTAKES = {
     "hertz-as-angular", "angular-as-hertz", "degrees-as-radians", "radians-as-degrees", "peak-as-rms",
     "rms-as-peak", "power-half", "reactance-sign", "sine-reference", "phase-sign", "series-as-parallel",
     "parallel-as-series", "impedance-as-admittance", "prefix",
+    # second edition
+    "magnitude-as-phasor", "other-frequency", "sign-convention", "reversed-nodes",
 }  # fmt: skip
 
 

@@ -52,6 +52,11 @@ CODES = {
     "parallel-as-series",
     "impedance-as-admittance",
     "prefix",
+    # second edition (DESIGN.md, "Check output format 1: second-edition keys")
+    "magnitude-as-phasor",
+    "other-frequency",
+    "sign-convention",
+    "reversed-nodes",
 }
 
 

@@ -325,6 +325,7 @@ class _Checker:
             claimed_env=dict(self.claimed_env),
             true_env=dict(self.true_env),
             full_env=dict(self.full_env),
+            budget=self.budget,
         )
         if claim.dim != truth.dim:
             what = "the quantity is in" if step.quantity else "the formula gives"
@@ -363,6 +364,12 @@ class _Checker:
         assert formula_true is not None
         if step.quantity and not agrees(claim, reference, tolerance, value=to_complex(formula_true.expr)):
             return self.diagnosed(StepFinding(**base, **shown, verdict="formula"), context)
+        # The arithmetic follows from the author's numbers, but the method may not:
+        # sizes of phasors added as plain numbers is a wrong formula, whatever the
+        # earlier steps (never "carried" from a step that agrees, nor rounding).
+        method = self.diagnosed(StepFinding(**base, **shown, verdict="formula"), context, only=("magnitude-as-phasor",))
+        if method.diagnosis:
+            return method
         cause = self.root_cause(tree)
         if cause is None:
             if error is not None and error <= ROUNDING_SLACK:

@@ -11,8 +11,11 @@ The codes are part of check output format 1: ``hertz-as-angular``,
 ``angular-as-hertz``, ``degrees-as-radians``, ``radians-as-degrees``,
 ``peak-as-rms``, ``rms-as-peak``, ``power-half``, ``reactance-sign``,
 ``sine-reference``, ``phase-sign``, ``series-as-parallel``, ``parallel-as-series``,
-``impedance-as-admittance``, ``prefix``. They are listed most specific first, the
-order in which matches are reported.
+``impedance-as-admittance``, ``prefix``, and those of the second edition:
+``magnitude-as-phasor``, ``other-frequency``, ``sign-convention``,
+``reversed-nodes``. They are listed most specific first,
+the order in which matches are reported; a match may rule out a less specific code
+that reproduces the same number only by coincidence (``_RULES_OUT``).
 """
 
 from __future__ import annotations
@@ -23,14 +26,15 @@ from dataclasses import dataclass
 
 import sympy
 
+from handcheck.budget import Budget
 from handcheck.circuit.model import Circuit, Part
 from handcheck.errors import HandcheckError, TimeLimitError
 from handcheck.solve.phasor import solve
 from handcheck.solve.quantities import Quantity, evaluate_quantity
 from handcheck.verify.claims import Claim, Tolerance, agrees, to_complex
-from handcheck.verify.present import format_number
+from handcheck.verify.present import format_number, format_value
 from handcheck.worksheet.evaluate import Value, evaluate
-from handcheck.worksheet.expr import Binary, Node, walk
+from handcheck.worksheet.expr import Binary, Call, Node, walk
 from handcheck.worksheet.units import dim_of
 
 __all__ = ["CODES", "Context", "diagnose"]
@@ -38,10 +42,13 @@ __all__ = ["CODES", "Context", "diagnose"]
 CODES: tuple[str, ...] = (
     "series-as-parallel",
     "parallel-as-series",
+    "magnitude-as-phasor",
     "hertz-as-angular",
     "angular-as-hertz",
+    "other-frequency",
     "degrees-as-radians",
     "radians-as-degrees",
+    "sign-convention",
     "reactance-sign",
     "impedance-as-admittance",
     "power-half",
@@ -50,6 +57,7 @@ CODES: tuple[str, ...] = (
     "sine-reference",
     "phase-sign",
     "prefix",
+    "reversed-nodes",
 )
 
 _POWER = dim_of("W")
@@ -70,6 +78,7 @@ class Context:
     claimed_env: Mapping[str, Value]
     true_env: Mapping[str, Value]
     full_env: Mapping[str, Value]
+    budget: Budget | None = None
 
 
 def _matches(ctx: Context, value: sympy.Expr | complex | None) -> bool:
@@ -429,13 +438,207 @@ def _prefix(ctx: Context) -> str | None:
     return None
 
 
+def _is_phasor(value: sympy.Expr | None) -> bool:
+    """True for a complex value off the real axis (a phasor with an angle of its own)."""
+    if value is None:
+        return False
+    number = to_complex(value)
+    return abs(number.imag) > 1e-9 * abs(number)
+
+
+def _shown(ctx: Context, value: sympy.Expr) -> str:
+    assert ctx.truth is not None
+    return format_value(Value(value, ctx.truth.dim), ctx.claim)
+
+
+def _magnitude_as_phasor(ctx: Context) -> str | None:
+    """Magnitudes added or subtracted where the phasors belong: |V1| - |V2| for
+    V1 - V2, or |Z| taken as R + X. Kirchhoff's laws hold for phasors, not for their
+    sizes; adding meter readings round a loop is the classic slip of a first AC
+    course (common practice; every introductory text warns of it in its phasor
+    chapter, e.g. Hughes, Electrical and Electronic Technology, from memory)."""
+    if ctx.truth is None:
+        return None
+    if ctx.tree is not None and ctx.formula is not None:
+        formula = ctx.formula
+
+        def text(node: Node) -> str:
+            return formula[node.start : node.end].strip()
+
+        for node in walk(ctx.tree):
+            if not isinstance(node, Binary) or node.op not in ("+", "-"):
+                continue
+            sized = dataclasses.replace(
+                node,
+                left=Call(node.left.start, node.left.end, "abs", (node.left,)),
+                right=Call(node.right.start, node.right.end, "abs", (node.right,)),
+            )
+            tree = _replace(ctx.tree, node, sized)
+            for env in (ctx.true_env, ctx.claimed_env, ctx.full_env):
+                if not (_is_phasor(_formula(ctx, env, node.left)) or _is_phasor(_formula(ctx, env, node.right))):
+                    continue  # two numbers on the real axis: their sizes add as they are
+                value = _formula(ctx, env, tree)
+                plain = _formula(ctx, env)
+                if value is None or not _matches(ctx, value) or (plain is not None and _same(value, plain)):
+                    continue
+                verb = "added" if node.op == "+" else "subtracted"
+                return (
+                    f'the number is |{text(node.left)}| {node.op} |{text(node.right)}|: the sizes were {verb} as plain '
+                    f"numbers, but {text(node.left)} and {text(node.right)} are complex values at different angles; "
+                    f"{'add' if node.op == '+' else 'subtract'} them as complex numbers (write each as a polar or "
+                    f"rectangular value), which gives {_shown(ctx, ctx.truth.expr)}"
+                )
+        return None
+    if ctx.claim.form != "real" or ctx.quantity is None:
+        return None
+    truth = to_complex(ctx.truth.expr)
+    if ctx.truth.dim in (dim_of("ohm"), dim_of("S")) and abs(truth.real) > 0 and _is_phasor(ctx.truth.expr):
+        summed = abs(sympy.re(ctx.truth.expr)) + abs(sympy.im(ctx.truth.expr))
+        if _matches(ctx, summed):
+            return (
+                f"the number is |{'R' if ctx.truth.dim == dim_of('ohm') else 'G'}| + |{'X' if ctx.truth.dim == dim_of('ohm') else 'B'}|: "
+                "the real and imaginary parts were added as plain numbers, but they are at right angles; "
+                f"the size is sqrt(re^2 + im^2) = {format_number(abs(truth) / float(ctx.claim.unit_factor), 5)} {ctx.claim.unit_text}"
+                f" and the value {_shown(ctx, ctx.truth.expr)}"
+            )
+    q = ctx.quantity
+    if q.name == "voltage" and len(q.args) == 2 and all(isinstance(a, str) and a in (*ctx.circuit.nodes, "gnd") for a in q.args):
+        ends = []
+        for node_name in q.args:
+            single = Quantity("voltage", (node_name,), f"voltage({node_name})")
+            ends.append(_requantify(dataclasses.replace(ctx, quantity=single), ctx.circuit) if node_name != "gnd" else sympy.Integer(0))
+        first, second = ends
+        if first is None or second is None or not (_is_phasor(first) or _is_phasor(second)):
+            return None
+        a, b = q.args
+        for op, value in (("-", sympy.Abs(first) - sympy.Abs(second)), ("+", sympy.Abs(first) + sympy.Abs(second))):
+            if _matches(ctx, value):
+                return (
+                    f"the number is |V({a})| {op} |V({b})|: the sizes of the node voltages were combined as plain numbers, "
+                    f"but they are phasors at different angles; V({a}) - V({b}) as complex numbers gives {_shown(ctx, ctx.truth.expr)}"
+                )
+    return None
+
+
+#: Quantities whose sign is fixed by a convention (DESIGN: power absorbed is positive).
+_SIGNED_POWER = frozenset({"power", "reactive_power", "delivered_power", "delivered_reactive_power"})
+
+
+def _sign_convention(ctx: Context) -> str | None:
+    """A power or a source current with the opposite sign convention: the power a part
+    delivers written for the power it absorbs (or the reverse), a capacitor's reactive
+    power written as its positive rating in var, a source's current taken in the
+    direction it drives into the circuit. Passive sign convention versus a source's
+    own convention is a classic confusion (Nilsson & Riedel, Electric Circuits, 10th
+    ed., sec. 1.5 and 10.4; from memory)."""
+    q = ctx.quantity
+    if q is None or ctx.truth is None or ctx.truth.expr == 0 or ctx.claim.unit_text in ("dB", "dBm"):
+        return None
+    negated = -ctx.truth.expr
+    if not _matches(ctx, negated):
+        return None
+    names = ", ".join(str(a) for a in q.args)
+    right = _shown(ctx, ctx.truth.expr)
+    if q.name in _SIGNED_POWER:
+        reactive = "reactive" in q.name
+        delivered = q.name.startswith("delivered_")
+        kinds = {ctx.circuit.part(a).kind for a in q.args if isinstance(a, str) and ctx.circuit.has_part(a)}
+        if reactive and not delivered and kinds == {"capacitor"}:
+            return (
+                f"the number is the capacitor's rating as a positive var figure; {q.name}({names}) is the reactive power it "
+                f"absorbs, negative for a capacitor (it supplies vars): write {right}, or ask for "
+                f"delivered_reactive_power({names})"
+            )
+        what = "reactive power" if reactive else "power"
+        if delivered:
+            return (
+                f"the number is the {what} that {names} absorbs; {q.name}({names}) is what it delivers, the opposite sign: "
+                f"write {right}, or ask for {q.name.removeprefix('delivered_')}({names})"
+            )
+        return (
+            f"the number is the {what} that {names} delivers; {q.name}({names}) is the {what} it absorbs (absorbed is "
+            f"positive), the opposite sign: write {right}, or ask for delivered_{q.name}({names})"
+        )
+    if q.name == "current" and len(q.args) == 1 and isinstance(q.args[0], str) and ctx.circuit.has_part(q.args[0]):
+        part = ctx.circuit.part(q.args[0])
+        if part.kind in ("voltage", "current") and len(part.nodes) == 2:
+            first, second = part.nodes
+            return (
+                f"the number is the current that {part.id} drives out of its terminal {first} into the circuit; "
+                f"current({part.id}) is the current through it from {first} to {second} (it enters at {first}), "
+                f"the opposite sign: write {right}"
+            )
+    return None
+
+
+def _reversed_nodes(ctx: Context) -> str | None:
+    """The claim is what the circuit gives with one independent source's nodes swapped:
+    a source drawn or entered the other way round (a current source's arrow, a
+    supply's polarity). Common practice: the first thing a reviewer checks when a
+    superposition result comes out with the wrong sum. Each source is tried once, the
+    circuit solved again exactly; only when no cheaper code explains the number, and
+    within the check's time budget."""
+    if ctx.quantity is None or ctx.truth is None:
+        return None
+    sources = [p for p in ctx.circuit.parts if p.kind in ("voltage", "current") and p.source is not None and len(p.nodes) == 2]
+    for part in sources[:_MOST_SOURCES]:
+        if ctx.budget is not None:
+            ctx.budget.check(f"the mistake catalogue (reversed-nodes, {part.id})")
+        first, second = part.nodes
+        swapped = tuple(dataclasses.replace(p, nodes=(second, first)) if p is part else p for p in ctx.circuit.parts)
+        value = _requantify(ctx, dataclasses.replace(ctx.circuit, parts=swapped))
+        if value is None or _same(value, ctx.truth.expr) or not _matches(ctx, value):
+            continue
+        kind = "voltage source" if part.kind == "voltage" else "current source"
+        written = f'nodes = ["{second}", "{first}"]'
+        return (
+            f"the number is what the circuit gives with {kind} {part.id} the other way round ({written}); "
+            f'it is connected as nodes = ["{first}", "{second}"]'
+            + (" (plus terminal first)" if part.kind == "voltage" else " (it drives current from the first node to the second)")
+            + f": with it as connected the value is {_shown(ctx, ctx.truth.expr)}"
+        )
+    return None
+
+
+#: reversed-nodes tries at most this many sources (one exact solve each).
+_MOST_SOURCES = 8
+
+
+def _other_frequency(ctx: Context) -> str | None:
+    """A reactance or impedance taken at another frequency of the worksheet: the
+    fundamental's value reused in a harmonic's analysis, or one source's frequency in
+    the other's. Common practice (harmonic filter design notes reuse the 50 Hz
+    reactances; every reactance scales with the harmonic order)."""
+    if ctx.truth is None or ctx.truth.dim not in (dim_of("ohm"), dim_of("S")) or ctx.circuit.omega == 0:
+        return None
+    others: dict[sympy.Expr, None] = {}
+    for part in ctx.circuit.parts:
+        if part.source is not None:
+            for omega in part.source.frequencies:
+                if omega != ctx.circuit.omega and omega != 0:
+                    others.setdefault(omega, None)
+    here = format_number(float(sympy.N(ctx.circuit.frequency)), 6)
+    for omega in list(others)[:6]:
+        hertz = format_number(float(sympy.N(omega / (2 * sympy.pi))), 6)
+        detail = f"the number is the value at {hertz} Hz, another frequency of this worksheet; the analysis is at {here} Hz, where it is {_shown(ctx, ctx.truth.expr)}"
+        if ctx.tree is not None and _author(
+            ctx, changes={"f": Value(omega / (2 * sympy.pi), dim_of("Hz")), "w": Value(omega, dim_of("Hz"))}
+        ):
+            return detail + " (the formula's f or w was taken at " + hertz + " Hz)"
+        if ctx.quantity is not None and _matches(ctx, _requantify(ctx, dataclasses.replace(ctx.circuit, omega=omega))):
+            return detail
+    return None
+
+
 _RULES: dict[str, Callable[[Context], str | None]] = {
     "series-as-parallel": lambda c: _series_parallel(c, series_for_parallel=True),
     "parallel-as-series": lambda c: _series_parallel(c, series_for_parallel=False),
+    "magnitude-as-phasor": _magnitude_as_phasor,
     "hertz-as-angular": lambda c: _frequency_swap(c, hertz_for_angular=True) or _frequency_unit(c, True),
     "angular-as-hertz": lambda c: _frequency_swap(c, hertz_for_angular=False) or _frequency_unit(c, False),
     "degrees-as-radians": lambda c: _angle_mode(c, degrees_as_radians=True),
     "radians-as-degrees": lambda c: _angle_mode(c, degrees_as_radians=False),
+    "sign-convention": _sign_convention,
     "reactance-sign": _reactance_sign,
     "impedance-as-admittance": _impedance_admittance,
     "power-half": _power_half,
@@ -444,7 +647,21 @@ _RULES: dict[str, Callable[[Context], str | None]] = {
     "sine-reference": _sine_reference,
     "phase-sign": _phase_sign,
     "prefix": _prefix,
+    "other-frequency": _other_frequency,
+    "reversed-nodes": _reversed_nodes,
 }
+
+
+#: A code found rules these out: they reproduce the same number only because the
+#: first one does (a capacitor's var with the sign of its rating is also what a
+#: flipped reactance gives, in a series circuit).
+_RULES_OUT: dict[str, frozenset[str]] = {
+    "sign-convention": frozenset({"reactance-sign", "reversed-nodes"}),
+}
+
+
+#: Tried only when no other code explains the number (each costs exact solves).
+_LAST_RESORT = frozenset({"reversed-nodes"})
 
 
 def _angle_left_out(ctx: Context) -> bool:
@@ -464,11 +681,15 @@ def diagnose(ctx: Context, only: tuple[str, ...] | None = None) -> list[tuple[st
     (only the codes in ``only``, when given)."""
     if _angle_left_out(ctx):
         return []
-    found = []
+    found: list[tuple[str, str]] = []
+    ruled_out: set[str] = set()
     for code in CODES:
-        if only is not None and code not in only:
+        if (only is not None and code not in only) or code in ruled_out:
+            continue
+        if code in _LAST_RESORT and found:
             continue
         detail = _RULES[code](ctx)
         if detail:
             found.append((code, detail))
+            ruled_out |= _RULES_OUT.get(code, frozenset())
     return found
