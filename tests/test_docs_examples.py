@@ -40,7 +40,7 @@ from handcheck.solve.phasor import solve
 from handcheck.solve.quantities import QUANTITIES, TIME_DOMAIN, evaluate_quantity, parse_quantity
 from handcheck.verify.check import part_environment
 from handcheck.verify.claims import Tolerance, agrees, read_claim, read_tolerance, to_complex
-from handcheck.verify.findings import VERDICTS
+from handcheck.verify.findings import BASES, VERDICTS
 from handcheck.worksheet.evaluate import FUNCTIONS, Value, evaluate, evaluate_text
 from handcheck.worksheet.expr import parse
 from handcheck.circuit.kinds import KINDS as PART_KINDS
@@ -206,7 +206,7 @@ def test_json_keys_are_the_documented_ones() -> None:
     }  # fmt: skip
     assert set(data["steps"][0]) == {
         "name", "verdict", "claimed", "expected", "expected_si", "error", "caused_by", "diagnosis",
-        "quantity", "formula", "recomputed", "message", "line",
+        "quantity", "formula", "recomputed", "message", "line", "basis", "notes",
     }  # fmt: skip
 
 
@@ -223,6 +223,7 @@ def test_kinds_and_verdicts_tables_are_complete() -> None:
     assert {row[0] for row in _table("Kind")} == set(PART_KINDS) - {"switch"}
     assert "switch" in TEXT
     assert [row[0] for row in _table("Verdict")] == list(VERDICTS)
+    assert [row[0] for row in _table("Basis")] == list(BASES)
 
 
 def _fragment_values(data: object, key: str = "") -> list[tuple[str, object]]:

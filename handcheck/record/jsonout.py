@@ -26,6 +26,9 @@ def _step(step: StepFinding) -> dict[str, Any]:
         "error": _number(step.error),
         "caused_by": step.caused_by,
         "diagnosis": [{"mistake": d.mistake, "detail": d.detail} for d in step.diagnosis],
+        # Second edition (DESIGN.md, "Check output format 1: second-edition keys"):
+        "basis": step.basis,
+        "notes": list(step.notes),
         # Extensions of format 1 (new keys only):
         "quantity": step.quantity,
         "formula": step.formula,

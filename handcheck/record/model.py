@@ -190,11 +190,11 @@ def _step(step: Any, spec: Any, names: frozenset[str], values: dict[str, sympy.E
         "tolerance": spec.tolerance if spec is not None else None,
         "verdict": step.verdict,
         "caused_by": step.caused_by,
-        "basis": getattr(step, "basis", None),
+        "basis": step.basis,
         "recomputed": step.recomputed,
         "message": step.message,
         "diagnosis": [{"mistake": d.mistake, "detail": d.detail} for d in step.diagnosis],
-        "notes": [str(n) for n in getattr(step, "notes", ()) or ()],
+        "notes": list(step.notes),
     }
 
 

@@ -1,4 +1,8 @@
-"""The terminal report: a table of steps, the diagnosis under each, one summary line."""
+"""The terminal report: a table of steps, the notes and diagnosis under each, one summary line.
+
+A step that agrees only with its own formula (basis ``formula``) is marked ``ok?`` and
+counted apart from the agreements with the circuit.
+"""
 
 from __future__ import annotations
 
@@ -13,10 +17,42 @@ __all__ = ["render"]
 _MARK = {"agrees": "ok", "unchecked": "--"}
 
 
+def _own_formula_only(step: StepFinding) -> bool:
+    """An agreement with the step's own formula, not checked against the circuit."""
+    return step.verdict == "agrees" and step.basis == "formula"
+
+
 def _verdict(step: StepFinding) -> str:
     if step.verdict == "carried" and step.caused_by:
         return f"carried from {step.caused_by}"
+    if _own_formula_only(step):
+        return "agrees with its own formula only"
     return step.verdict
+
+
+def _marker(step: StepFinding, first: str | None) -> str:
+    if step.name == first:
+        return ">>"
+    if _own_formula_only(step):
+        return "ok?"
+    return _MARK.get(step.verdict, "!!")
+
+
+def _counts(steps: tuple[StepFinding, ...]) -> str:
+    """``"2 agrees, 1 unit"``; where a step agrees only with its own formula, the
+    agreements are split: ``"2 agree with the circuit, 1 agrees with its own formula only"``."""
+    counts = Counter(step.verdict for step in steps)
+    own = sum(_own_formula_only(step) for step in steps)
+    shown = []
+    for verdict, n in counts.items():
+        if verdict == "agrees" and own:
+            circuit = n - own
+            if circuit:
+                shown.append(f"{circuit} agree{'s' if circuit == 1 else ''} with the circuit")
+            shown.append(f"{own} agree{'s' if own == 1 else ''} with {'its' if own == 1 else 'their'} own formula only")
+        else:
+            shown.append(f"{n} {verdict}")
+    return ", ".join(shown)
 
 
 def _wrap(text: str, indent: int, width: int = 100) -> list[str]:
@@ -36,7 +72,7 @@ def render(report: Report, version: str, evidence: Any = None, audit: tuple[Any,
     rows = [("", "step", "claimed", "exact", "verdict")]
     first = report.first_divergence
     for step in report.steps:
-        marker = ">>" if step.name == first else _MARK.get(step.verdict, "!!")
+        marker = _marker(step, first)
         rows.append((marker, step.name, step.claimed, step.expected or "", _verdict(step)))
     widths = [max(len(row[k]) for row in rows) for k in range(5)]
     for index, row in enumerate(rows):
@@ -49,8 +85,8 @@ def render(report: Report, version: str, evidence: Any = None, audit: tuple[Any,
             lines.extend(_wrap("first divergence: the hand calculation goes wrong here", indent))
         if step.recomputed and step.verdict in ("arithmetic", "formula", "carried"):
             lines.extend(_wrap(f"from the author's own formula and numbers: {step.recomputed}", indent))
-        if step.message and step.verdict != "agrees":
-            lines.extend(_wrap(step.message, indent))
+        for note in step.notes or ((step.message,) if step.message and step.verdict != "agrees" else ()):
+            lines.extend(_wrap(note, indent))
         for diagnosis in step.diagnosis:
             lines.extend(_wrap(f"likely mistake ({diagnosis.mistake}): {diagnosis.detail}", indent))
         carried = [s.name for s in report.steps if s.caused_by == step.name and s.verdict == "carried"]
@@ -68,8 +104,7 @@ def render(report: Report, version: str, evidence: Any = None, audit: tuple[Any,
     for caution in report.cautions:
         lines.append("")
         lines.extend(_wrap("CAUTION: " + caution, 0))
-    counts = Counter(step.verdict for step in report.steps)
-    summary = ", ".join(f"{n} {verdict}" for verdict, n in counts.items())
+    summary = _counts(report.steps)
     lines.append("")
     ok = report.ok and all(finding.ok for finding in audit)
     status = "OK" if ok else "NOT OK"

@@ -44,6 +44,7 @@ from handcheck.verify.claims import (
     to_complex,
 )
 from handcheck.solve.frequency import LIST_QUANTITIES
+from handcheck.verify.basis import matching_quantities, settle, unit_kind
 from handcheck.verify.findings import Diagnosis, Report, StepFinding
 from handcheck.verify.responses import check_function_of_s, check_list
 from handcheck.verify.mistakes import Context, diagnose
@@ -230,12 +231,13 @@ class _Checker:
                 raise
             except HandcheckError:
                 solved = None
+        steps = tuple(self.settled(step, solved) for step in self.worksheet.steps)
         return Report(
             path=self.worksheet.path,
             sha256=self.worksheet.sha256,
             title=self.worksheet.title,
             reference=self.worksheet.reference,
-            steps=tuple(self.findings.values()),
+            steps=steps,
             cautions=cautions(self.circuit, solved),
             notes=self.notes(),
             analysis=describe_frequency(self.circuit),
@@ -381,6 +383,24 @@ class _Checker:
                 )
             cause = self.coarsest_input(tree)
         return StepFinding(**base, **shown, verdict="carried", caused_by=cause)
+
+    def settled(self, step: StepSpec, solved: Solution | None) -> StepFinding:
+        """The step's finding with its basis and notes; a formula-only step is told
+        which steady-state quantity its formula's true value is, where one is (only
+        when the phasors are solved already and no transient is involved)."""
+        finding = self.findings[step.name]
+        claim = read_claim(step.claim, file=self.worksheet.path, line=step.line_of("claim"))
+        unit = unit_kind(claim)
+
+        def matches() -> tuple[str, ...]:
+            if solved is None or finding.exact is None or self.worksheet.transient or self.exact.counts["transient"]:
+                return ()
+            self.budget.check(f'step "{step.name}"')
+            return matching_quantities(
+                self.circuit, unit, finding.exact, lambda text: evaluate_quantity(solved, parse_quantity(text))
+            )
+
+        return settle(step, finding, unit, matches)
 
     def formula_remark(self, tree: Node | None, step: StepSpec, claim: Claim, tolerance: Tolerance) -> str | None:
         """For a right claim: a remark when the step's own formula does not give it."""

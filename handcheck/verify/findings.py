@@ -7,10 +7,13 @@ from typing import Literal
 
 import sympy
 
-__all__ = ["VERDICTS", "Diagnosis", "Report", "StepFinding", "Verdict"]
+__all__ = ["BASES", "VERDICTS", "Basis", "Diagnosis", "Report", "StepFinding", "Verdict"]
 
 Verdict = Literal["agrees", "arithmetic", "formula", "carried", "differs", "unit", "unchecked"]
 VERDICTS: tuple[Verdict, ...] = ("agrees", "arithmetic", "formula", "carried", "differs", "unit", "unchecked")
+#: What a step was checked against (check output format 1, second edition).
+Basis = Literal["circuit", "formula", "none"]
+BASES: tuple[Basis, ...] = ("circuit", "formula", "none")
 #: Verdicts that do not make a worksheet fail.
 PASSING: frozenset[str] = frozenset({"agrees", "unchecked"})
 
@@ -25,7 +28,12 @@ class Diagnosis:
 
 @dataclass(frozen=True)
 class StepFinding:
-    """The verdict on one step, with the values behind it."""
+    """The verdict on one step, with the values behind it.
+
+    ``basis`` says what the step was checked against (``"circuit"``: its quantity;
+    ``"formula"``: only its own formula; ``"none"``: nothing), ``notes`` every remark
+    on it (see :mod:`handcheck.verify.basis`).
+    """
 
     name: str
     verdict: Verdict
@@ -41,6 +49,8 @@ class StepFinding:
     line: int | None = None
     exact: sympy.Expr | None = field(default=None, compare=False)
     recomputed: str | None = None
+    basis: Basis = "none"
+    notes: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
