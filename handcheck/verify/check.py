@@ -100,6 +100,7 @@ class _Checker:
         self.step_names = {step.name for step in worksheet.steps}
         self.function_steps: set[str] = set()
         self.names = set(base) | self.step_names
+        self.steady_values: dict[str, Value | HandcheckError] = {}
 
     @property
     def transient(self) -> Any:
@@ -396,11 +397,22 @@ class _Checker:
             if solved is None or finding.exact is None or self.worksheet.transient or self.exact.counts["transient"]:
                 return ()
             self.budget.check(f'step "{step.name}"')
-            return matching_quantities(
-                self.circuit, unit, finding.exact, lambda text: evaluate_quantity(solved, parse_quantity(text))
-            )
+            return matching_quantities(self.circuit, unit, finding.exact, lambda text: self.steady_value(solved, text))
 
         return settle(step, finding, unit, matches)
+
+    def steady_value(self, solved: Solution, text: str) -> Value:
+        """A steady-state quantity by its text, each one evaluated at most once per check
+        (a quantity that cannot be evaluated raises its error every time it is asked)."""
+        if text not in self.steady_values:
+            try:
+                self.steady_values[text] = evaluate_quantity(solved, parse_quantity(text))
+            except HandcheckError as exc:
+                self.steady_values[text] = exc
+        found = self.steady_values[text]
+        if isinstance(found, HandcheckError):
+            raise found
+        return found
 
     def formula_remark(self, tree: Node | None, step: StepSpec, claim: Claim, tolerance: Tolerance) -> str | None:
         """For a right claim: a remark when the step's own formula does not give it."""
