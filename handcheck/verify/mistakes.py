@@ -21,19 +21,32 @@ that reproduces the same number only by coincidence (``_RULES_OUT``).
 from __future__ import annotations
 
 import dataclasses
-from collections.abc import Callable, Iterator, Mapping
-from dataclasses import dataclass
+from collections.abc import Callable
 
 import sympy
 
-from handcheck.budget import Budget
 from handcheck.circuit.model import Circuit, Part
-from handcheck.errors import HandcheckError, TimeLimitError
-from handcheck.solve.phasor import solve
-from handcheck.solve.quantities import Quantity, evaluate_quantity
-from handcheck.verify.claims import Claim, Tolerance, agrees, to_complex
-from handcheck.verify.present import format_number, format_value
-from handcheck.worksheet.evaluate import Value, evaluate
+from handcheck.solve.quantities import Quantity
+from handcheck.verify.claims import agrees, to_complex
+from handcheck.verify.present import format_number
+from handcheck.verify.rebuild import (
+    Context,
+    at_omega,
+    by_author,
+    flipped,
+    formula_value,
+    is_phasor,
+    matches,
+    matches_truth,
+    replaced,
+    requantify,
+    same,
+    scaled,
+    shown,
+    swapped,
+    with_phases,
+)
+from handcheck.worksheet.evaluate import Value
 from handcheck.worksheet.expr import Binary, Call, Node, walk
 from handcheck.worksheet.units import dim_of
 
@@ -64,149 +77,6 @@ _POWER = dim_of("W")
 _WAVE = (dim_of("V"), dim_of("A"))
 
 
-@dataclass(frozen=True)
-class Context:
-    """What the catalogue needs to know about one step that does not agree."""
-
-    circuit: Circuit
-    claim: Claim
-    tolerance: Tolerance
-    truth: Value | None
-    formula: str | None
-    tree: Node | None
-    quantity: Quantity | None
-    claimed_env: Mapping[str, Value]
-    true_env: Mapping[str, Value]
-    full_env: Mapping[str, Value]
-    budget: Budget | None = None
-
-
-def _matches(ctx: Context, value: sympy.Expr | complex | None) -> bool:
-    if value is None:
-        return False
-    number = value if isinstance(value, complex) else to_complex(value)
-    return agrees(ctx.claim, number, ctx.tolerance)
-
-
-# -- re-solving the circuit with a mistake built in ----------------------------------
-
-
-def _requantify(ctx: Context, circuit: Circuit) -> sympy.Expr | None:
-    """The step's quantity in a modified circuit (None when it cannot be had)."""
-    if ctx.quantity is None:
-        return None
-    try:
-        return evaluate_quantity(solve(circuit), ctx.quantity).expr
-    except TimeLimitError:
-        raise
-    except (HandcheckError, NotImplementedError, ZeroDivisionError):
-        return None
-
-
-def _at_omega(circuit: Circuit, omega: sympy.Expr) -> Circuit:
-    """The circuit analysed at ``omega`` with its sources moved there too."""
-    parts = []
-    for part in circuit.parts:
-        source = part.source
-        if source is not None and source.frequencies and circuit.active(part):
-            moved = source.function.moved(circuit.omega, omega)
-            part = dataclasses.replace(part, source=dataclasses.replace(source, function=moved))
-        parts.append(part)
-    return dataclasses.replace(circuit, parts=tuple(parts), omega=omega)
-
-
-def _with_phases(circuit: Circuit, scale: sympy.Expr) -> Circuit | None:
-    parts, changed = [], False
-    for part in circuit.parts:
-        source = part.source
-        scaled = source.function.phases_scaled(scale) if source is not None else None
-        if source is not None and scaled is not None:
-            changed = True
-            part = dataclasses.replace(part, source=dataclasses.replace(source, function=scaled))
-        parts.append(part)
-    return dataclasses.replace(circuit, parts=tuple(parts)) if changed else None
-
-
-def _flipped(circuit: Circuit, kind: str) -> Iterator[tuple[str, Circuit]]:
-    """The circuit with one reactive part's reactance sign flipped, then all of that kind."""
-    chosen = [p for p in circuit.parts if p.kind == kind]
-    coupled = {i for p in circuit.parts if p.kind == "coupling" for i in p.inductors}
-    chosen = [p for p in chosen if p.id not in coupled]
-
-    def flip(targets: set[str]) -> Circuit:
-        parts: list[Part] = [dataclasses.replace(p, value=-p.value) if p.id in targets else p for p in circuit.parts]
-        return dataclasses.replace(circuit, parts=tuple(parts))
-
-    for part in chosen[:12]:
-        yield part.id, flip({part.id})
-    if len(chosen) > 1:
-        yield "every " + kind, flip({p.id for p in chosen})
-
-
-# -- the formula with a mistake built in -----------------------------------------------
-
-
-def _formula(ctx: Context, env: Mapping[str, Value], tree: Node | None = None, angle_scale: sympy.Expr | None = None) -> sympy.Expr | None:
-    tree = tree or ctx.tree
-    if tree is None or ctx.formula is None:
-        return None
-    try:
-        return evaluate(tree, env, ctx.formula, angle_scale=angle_scale).expr
-    except TimeLimitError:
-        raise
-    except (HandcheckError, ZeroDivisionError):
-        return None
-
-
-def _author(
-    ctx: Context,
-    tree: Node | None = None,
-    angle_scale: sympy.Expr | None = None,
-    changes: Mapping[str, Value] | None = None,
-) -> bool:
-    """True when the formula, worked out by the author with the given change, gives the claim
-    (from the author's numbers as written, or before rounding)."""
-    for env in (ctx.claimed_env, ctx.full_env):
-        changed = _formula(ctx, {**env, **(changes or {})}, tree, angle_scale)
-        if changed is None or not _matches(ctx, changed):
-            continue
-        if tree is None and angle_scale is None and changes is None:
-            return True
-        plain = _formula(ctx, env)
-        if plain is None or not _same(changed, plain):
-            return True  # the change made the difference
-    return False
-
-
-def _same(a: sympy.Expr, b: sympy.Expr) -> bool:
-    x, y = to_complex(a), to_complex(b)
-    return abs(x - y) <= 1e-9 * max(abs(x), abs(y), 1e-300)
-
-
-def _swapped(tree: Node, old: str, new: str) -> Iterator[tuple[Binary, Node]]:
-    """The tree with one ``old`` operator replaced by ``new``, one occurrence at a time."""
-    for node in walk(tree):
-        if isinstance(node, Binary) and node.op == old:
-            yield node, _replace(tree, node, dataclasses.replace(node, op=new))
-
-
-def _replace(tree: Node, target: Node, new: Node) -> Node:
-    if tree is target:
-        return new
-    changes = {}
-    for field in dataclasses.fields(tree):
-        value = getattr(tree, field.name)
-        if isinstance(value, Node):
-            replaced = _replace(value, target, new)
-            if replaced is not value:
-                changes[field.name] = replaced
-        elif isinstance(value, tuple) and value and isinstance(value[0], Node):
-            items = tuple(_replace(v, target, new) for v in value)
-            if any(a is not b for a, b in zip(items, value, strict=True)):
-                changes[field.name] = items
-    return dataclasses.replace(tree, **changes) if changes else tree
-
-
 # -- the mistakes ----------------------------------------------------------------------
 
 
@@ -222,17 +92,17 @@ def _series_parallel(ctx: Context, series_for_parallel: bool) -> str | None:
         return ctx.formula[node.start : node.end].strip() if ctx.formula else ""
 
     # The formula is right, but was worked out with the wrong combination...
-    for node, tree in _swapped(ctx.tree, right, wrong):
-        if _author(ctx, tree):
+    for node, tree in swapped(ctx.tree, right, wrong):
+        if by_author(ctx, tree):
             return (
                 f'the number is what "{text(node.left)} {wrong} {text(node.right)}" gives: '
                 f'{text(node.left)} and {text(node.right)} were combined {how}, but the formula has them {should}'
             )
     # ...or the formula itself combines two parts the wrong way.
-    if ctx.truth is None or not _author(ctx):
+    if ctx.truth is None or not by_author(ctx):
         return None
-    for node, tree in _swapped(ctx.tree, wrong, right):
-        if _matches_truth(ctx, _formula(ctx, ctx.true_env, tree)):
+    for node, tree in swapped(ctx.tree, wrong, right):
+        if matches_truth(ctx, formula_value(ctx, ctx.true_env, tree)):
             return (
                 f'"{text(node)}" combines {text(node.left)} and {text(node.right)} {how}, '
                 f'but in the circuit they are {should} ("{text(node.left)} {right} {text(node.right)}")'
@@ -283,18 +153,11 @@ def _rewired(ctx: Context, series_for_parallel: bool) -> str | None:
                 parts[k] = dataclasses.replace(second, nodes=(ends[0], ends[1]))
             else:
                 continue
-            if _matches(ctx, _requantify(ctx, _with_nodes(circuit, parts))):
+            if matches(ctx, requantify(ctx, _with_nodes(circuit, parts))):
                 if series_for_parallel:
                     return f"the number is what you get with {first.id} and {second.id} in series, but they are in parallel"
                 return f"the number is what you get with {first.id} and {second.id} in parallel, but they are in series"
     return None
-
-
-def _matches_truth(ctx: Context, value: sympy.Expr | None) -> bool:
-    """True when a corrected formula gives the true value (to 9 significant digits)."""
-    if value is None or ctx.truth is None:
-        return False
-    return _same(value, ctx.truth.expr)
 
 
 def _frequency_swap(ctx: Context, hertz_for_angular: bool) -> str | None:
@@ -311,9 +174,9 @@ def _frequency_swap(ctx: Context, hertz_for_angular: bool) -> str | None:
         detail = f"the number is what you get with w = {w_text} rad/s used where f = {f_text} Hz belongs (2*pi applied twice)"
         env_change = {"f": Value(circuit.omega, dim_of("Hz"))}
         omega = circuit.omega * 2 * sympy.pi
-    if ctx.tree is not None and _author(ctx, changes=env_change):
+    if ctx.tree is not None and by_author(ctx, changes=env_change):
         return detail
-    if _matches(ctx, _requantify(ctx, _at_omega(circuit, omega))):
+    if matches(ctx, requantify(ctx, at_omega(circuit, omega))):
         return detail
     return None
 
@@ -322,9 +185,9 @@ def _frequency_unit(ctx: Context, hertz_for_angular: bool) -> str | None:
     """A frequency reported in the wrong measure: f where w belongs, or w where f belongs."""
     if ctx.truth is None or ctx.truth.dim != dim_of("Hz"):
         return None
-    if hertz_for_angular and _scaled(ctx, 1 / (2 * sympy.pi)):
+    if hertz_for_angular and scaled(ctx, 1 / (2 * sympy.pi)):
         return "the number is the frequency in hertz, f = w/(2*pi), where the angular frequency w in rad/s belongs"
-    if not hertz_for_angular and _scaled(ctx, 2 * sympy.pi):
+    if not hertz_for_angular and scaled(ctx, 2 * sympy.pi):
         return "the number is the angular frequency w = 2*pi*f in rad/s, where the frequency in hertz belongs"
     return None
 
@@ -336,10 +199,10 @@ def _angle_mode(ctx: Context, degrees_as_radians: bool) -> str | None:
         if degrees_as_radians
         else "an angle in radians was taken as degrees (a calculator left in degree mode)"
     )
-    if ctx.tree is not None and _author(ctx, angle_scale=scale):
+    if ctx.tree is not None and by_author(ctx, angle_scale=scale):
         return what
-    shifted = _with_phases(ctx.circuit, scale)
-    if shifted is not None and _matches(ctx, _requantify(ctx, shifted)):
+    shifted = with_phases(ctx.circuit, scale)
+    if shifted is not None and matches(ctx, requantify(ctx, shifted)):
         return what + ", in a source's phase"
     if ctx.claim.form == "polar" and ctx.truth is not None:
         written_in = "deg" if degrees_as_radians else "rad"
@@ -366,20 +229,16 @@ def _matches_claim_value(ctx: Context, value: sympy.Expr, resolution: tuple[floa
 
 def _reactance_sign(ctx: Context) -> str | None:
     for kind, rule in (("capacitor", "-1/(w*C)"), ("inductor", "+w*L")):
-        for name, circuit in _flipped(ctx.circuit, kind):
-            if _matches(ctx, _requantify(ctx, circuit)):
+        for name, circuit in flipped(ctx.circuit, kind):
+            if matches(ctx, requantify(ctx, circuit)):
                 return f"the number is what you get with the reactance of {name} taken with the wrong sign (a {kind}'s reactance is {rule})"
     return None
-
-
-def _scaled(ctx: Context, factor: sympy.Expr) -> bool:
-    return ctx.truth is not None and _matches(ctx, ctx.truth.expr * factor)
 
 
 def _impedance_admittance(ctx: Context) -> str | None:
     if ctx.truth is None or ctx.truth.expr == 0:
         return None
-    if _matches(ctx, 1 / ctx.truth.expr):
+    if matches(ctx, 1 / ctx.truth.expr):
         return "the number is the reciprocal of the quantity: an impedance given where an admittance belongs, or the other way round"
     return None
 
@@ -387,9 +246,9 @@ def _impedance_admittance(ctx: Context) -> str | None:
 def _power_half(ctx: Context) -> str | None:
     if ctx.truth is None or ctx.truth.dim != _POWER or ctx.circuit.omega == 0:
         return None
-    if ctx.circuit.phasors == "peak" and _scaled(ctx, sympy.Integer(2)):
+    if ctx.circuit.phasors == "peak" and scaled(ctx, sympy.Integer(2)):
         return "with peak phasors the average power is Re(V I*)/2; the number is twice that, so the 1/2 is missing"
-    if ctx.circuit.phasors == "rms" and _scaled(ctx, sympy.Rational(1, 2)):
+    if ctx.circuit.phasors == "rms" and scaled(ctx, sympy.Rational(1, 2)):
         return "with rms phasors the average power is Re(V I*); the number is half that, a 1/2 that only peak phasors need"
     return None
 
@@ -403,7 +262,7 @@ def _peak_rms(ctx: Context, peak_as_rms: bool) -> str | None:
         if (ctx.circuit.phasors == "peak") == peak_as_rms:
             factors = [sympy.sqrt(2)]  # a factor of 2 here is the power-half mistake
     for factor in factors:
-        if _scaled(ctx, factor if peak_as_rms else 1 / factor):
+        if scaled(ctx, factor if peak_as_rms else 1 / factor):
             if peak_as_rms:
                 return f"the number is {sympy.sstr(factor)} times the value: a peak amplitude used where an rms value belongs"
             return f"the number is 1/{sympy.sstr(factor)} of the value: an rms value used where a peak amplitude belongs"
@@ -414,7 +273,7 @@ def _sine_reference(ctx: Context) -> str | None:
     if ctx.truth is None or ctx.claim.form == "real" or ctx.truth.dim not in _WAVE:
         return None
     for sign in (1, -1):
-        if _scaled(ctx, sympy.exp(sign * sympy.I * sympy.pi / 2)):
+        if scaled(ctx, sympy.exp(sign * sympy.I * sympy.pi / 2)):
             return "the number is the right phasor turned by 90 deg: a cosine-referenced result read against a sine reference (or the other way round)"
     return None
 
@@ -425,30 +284,17 @@ def _phase_sign(ctx: Context) -> str | None:
     value = to_complex(ctx.truth.expr)
     if abs(value.imag) <= 1e-12 * abs(value):
         return None
-    if _matches(ctx, sympy.conjugate(ctx.truth.expr)):
+    if matches(ctx, sympy.conjugate(ctx.truth.expr)):
         return "the number is the complex conjugate of the value: lead and lag (the sign of the angle) are swapped"
     return None
 
 
 def _prefix(ctx: Context) -> str | None:
     for power in (3, -3, 6, -6):
-        if _scaled(ctx, sympy.Integer(10) ** power):
+        if scaled(ctx, sympy.Integer(10) ** power):
             times = f"{10 ** abs(power):,} times" if power > 0 else f"1/{10 ** abs(power):,} of"
             return f"the number is {times} the value: a unit prefix slipped (for example m read as u, or k dropped)"
     return None
-
-
-def _is_phasor(value: sympy.Expr | None) -> bool:
-    """True for a complex value off the real axis (a phasor with an angle of its own)."""
-    if value is None:
-        return False
-    number = to_complex(value)
-    return abs(number.imag) > 1e-9 * abs(number)
-
-
-def _shown(ctx: Context, value: sympy.Expr) -> str:
-    assert ctx.truth is not None
-    return format_value(Value(value, ctx.truth.dim), ctx.claim)
 
 
 def _magnitude_as_phasor(ctx: Context) -> str | None:
@@ -473,49 +319,49 @@ def _magnitude_as_phasor(ctx: Context) -> str | None:
                 left=Call(node.left.start, node.left.end, "abs", (node.left,)),
                 right=Call(node.right.start, node.right.end, "abs", (node.right,)),
             )
-            tree = _replace(ctx.tree, node, sized)
+            tree = replaced(ctx.tree, node, sized)
             for env in (ctx.true_env, ctx.claimed_env, ctx.full_env):
-                if not (_is_phasor(_formula(ctx, env, node.left)) or _is_phasor(_formula(ctx, env, node.right))):
+                if not (is_phasor(formula_value(ctx, env, node.left)) or is_phasor(formula_value(ctx, env, node.right))):
                     continue  # two numbers on the real axis: their sizes add as they are
-                value = _formula(ctx, env, tree)
-                plain = _formula(ctx, env)
-                if value is None or not _matches(ctx, value) or (plain is not None and _same(value, plain)):
+                value = formula_value(ctx, env, tree)
+                plain = formula_value(ctx, env)
+                if value is None or not matches(ctx, value) or (plain is not None and same(value, plain)):
                     continue
                 verb = "added" if node.op == "+" else "subtracted"
                 return (
                     f'the number is |{text(node.left)}| {node.op} |{text(node.right)}|: the sizes were {verb} as plain '
                     f"numbers, but {text(node.left)} and {text(node.right)} are complex values at different angles; "
                     f"{'add' if node.op == '+' else 'subtract'} them as complex numbers (write each as a polar or "
-                    f"rectangular value), which gives {_shown(ctx, ctx.truth.expr)}"
+                    f"rectangular value), which gives {shown(ctx, ctx.truth.expr)}"
                 )
         return None
     if ctx.claim.form != "real" or ctx.quantity is None:
         return None
     truth = to_complex(ctx.truth.expr)
-    if ctx.truth.dim in (dim_of("ohm"), dim_of("S")) and abs(truth.real) > 0 and _is_phasor(ctx.truth.expr):
+    if ctx.truth.dim in (dim_of("ohm"), dim_of("S")) and abs(truth.real) > 0 and is_phasor(ctx.truth.expr):
         summed = abs(sympy.re(ctx.truth.expr)) + abs(sympy.im(ctx.truth.expr))
-        if _matches(ctx, summed):
+        if matches(ctx, summed):
             return (
                 f"the number is |{'R' if ctx.truth.dim == dim_of('ohm') else 'G'}| + |{'X' if ctx.truth.dim == dim_of('ohm') else 'B'}|: "
                 "the real and imaginary parts were added as plain numbers, but they are at right angles; "
                 f"the size is sqrt(re^2 + im^2) = {format_number(abs(truth) / float(ctx.claim.unit_factor), 5)} {ctx.claim.unit_text}"
-                f" and the value {_shown(ctx, ctx.truth.expr)}"
+                f" and the value {shown(ctx, ctx.truth.expr)}"
             )
     q = ctx.quantity
     if q.name == "voltage" and len(q.args) == 2 and all(isinstance(a, str) and a in (*ctx.circuit.nodes, "gnd") for a in q.args):
         ends = []
         for node_name in q.args:
             single = Quantity("voltage", (node_name,), f"voltage({node_name})")
-            ends.append(_requantify(dataclasses.replace(ctx, quantity=single), ctx.circuit) if node_name != "gnd" else sympy.Integer(0))
+            ends.append(requantify(dataclasses.replace(ctx, quantity=single), ctx.circuit) if node_name != "gnd" else sympy.Integer(0))
         first, second = ends
-        if first is None or second is None or not (_is_phasor(first) or _is_phasor(second)):
+        if first is None or second is None or not (is_phasor(first) or is_phasor(second)):
             return None
         a, b = q.args
         for op, value in (("-", sympy.Abs(first) - sympy.Abs(second)), ("+", sympy.Abs(first) + sympy.Abs(second))):
-            if _matches(ctx, value):
+            if matches(ctx, value):
                 return (
                     f"the number is |V({a})| {op} |V({b})|: the sizes of the node voltages were combined as plain numbers, "
-                    f"but they are phasors at different angles; V({a}) - V({b}) as complex numbers gives {_shown(ctx, ctx.truth.expr)}"
+                    f"but they are phasors at different angles; V({a}) - V({b}) as complex numbers gives {shown(ctx, ctx.truth.expr)}"
                 )
     return None
 
@@ -535,10 +381,10 @@ def _sign_convention(ctx: Context) -> str | None:
     if q is None or ctx.truth is None or ctx.truth.expr == 0 or ctx.claim.unit_text in ("dB", "dBm"):
         return None
     negated = -ctx.truth.expr
-    if not _matches(ctx, negated):
+    if not matches(ctx, negated):
         return None
     names = ", ".join(str(a) for a in q.args)
-    right = _shown(ctx, ctx.truth.expr)
+    right = shown(ctx, ctx.truth.expr)
     if q.name in _SIGNED_POWER:
         reactive = "reactive" in q.name
         delivered = q.name.startswith("delivered_")
@@ -585,9 +431,9 @@ def _reversed_nodes(ctx: Context) -> str | None:
         if ctx.budget is not None:
             ctx.budget.check(f"the mistake catalogue (reversed-nodes, {part.id})")
         first, second = part.nodes
-        swapped = tuple(dataclasses.replace(p, nodes=(second, first)) if p is part else p for p in ctx.circuit.parts)
-        value = _requantify(ctx, dataclasses.replace(ctx.circuit, parts=swapped))
-        if value is None or _same(value, ctx.truth.expr) or not _matches(ctx, value):
+        reversed_parts = tuple(dataclasses.replace(p, nodes=(second, first)) if p is part else p for p in ctx.circuit.parts)
+        value = requantify(ctx, dataclasses.replace(ctx.circuit, parts=reversed_parts))
+        if value is None or same(value, ctx.truth.expr) or not matches(ctx, value):
             continue
         kind = "voltage source" if part.kind == "voltage" else "current source"
         written = f'nodes = ["{second}", "{first}"]'
@@ -595,7 +441,7 @@ def _reversed_nodes(ctx: Context) -> str | None:
             f"the number is what the circuit gives with {kind} {part.id} the other way round ({written}); "
             f'it is connected as nodes = ["{first}", "{second}"]'
             + (" (plus terminal first)" if part.kind == "voltage" else " (it drives current from the first node to the second)")
-            + f": with it as connected the value is {_shown(ctx, ctx.truth.expr)}"
+            + f": with it as connected the value is {shown(ctx, ctx.truth.expr)}"
         )
     return None
 
@@ -620,12 +466,12 @@ def _other_frequency(ctx: Context) -> str | None:
     here = format_number(float(sympy.N(ctx.circuit.frequency)), 6)
     for omega in list(others)[:6]:
         hertz = format_number(float(sympy.N(omega / (2 * sympy.pi))), 6)
-        detail = f"the number is the value at {hertz} Hz, another frequency of this worksheet; the analysis is at {here} Hz, where it is {_shown(ctx, ctx.truth.expr)}"
-        if ctx.tree is not None and _author(
+        detail = f"the number is the value at {hertz} Hz, another frequency of this worksheet; the analysis is at {here} Hz, where it is {shown(ctx, ctx.truth.expr)}"
+        if ctx.tree is not None and by_author(
             ctx, changes={"f": Value(omega / (2 * sympy.pi), dim_of("Hz")), "w": Value(omega, dim_of("Hz"))}
         ):
             return detail + " (the formula's f or w was taken at " + hertz + " Hz)"
-        if ctx.quantity is not None and _matches(ctx, _requantify(ctx, dataclasses.replace(ctx.circuit, omega=omega))):
+        if ctx.quantity is not None and matches(ctx, requantify(ctx, dataclasses.replace(ctx.circuit, omega=omega))):
             return detail
     return None
 
