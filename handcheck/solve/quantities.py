@@ -60,6 +60,8 @@ TIME_DOMAIN = frozenset(
         "natural_frequency",
         "damping_ratio",
         "quality_factor",
+        "crossing_time",
+        "absorbed_energy",
     }
 )
 

@@ -1,7 +1,8 @@
 """Time-domain quantities (worksheet format 1), from the closed-form transient.
 
 ``at(Q, "1.5 ms")``, ``initial(Q)``, ``final(Q)``, ``peak(Q)``, ``peak_time(Q)``,
-``settling_time(Q, "2%")`` for a voltage or current Q, and, for a circuit whose
+``settling_time(Q, "2%")``, ``crossing_time(Q, "1.2 V")`` for a voltage or current Q,
+``absorbed_energy(P, "10 ms")`` for a part P, and, for a circuit whose
 response is of first or second order, ``time_constant``, ``natural_frequency``
 (rad/s), ``damping_ratio`` and ``quality_factor``.
 """
@@ -14,6 +15,8 @@ from typing import Any
 import sympy
 
 from handcheck.errors import CircuitError, ParseError
+from handcheck.solve.absorbed import product_integral
+from handcheck.solve.crossing import crossing_time
 from handcheck.solve.quantities import CIRCUIT_WIDE, Quantity
 from handcheck.worksheet.evaluate import Value, evaluate_text
 from handcheck.worksheet.units import DIMENSIONLESS, Dim, dim_of
@@ -46,6 +49,32 @@ def _time(text: str, quantity: Quantity) -> sympy.Expr:
     if value.dim != dim_of("s") or not value.expr.is_real or value.expr < 0:
         raise ParseError(f'the time "{text}" must be a time of 0 s or later, like "1.5 ms"', quantity.text, None)
     return value.expr
+
+
+_UNIT_WORDS = {dim_of("V"): "V", dim_of("A"): "A"}
+
+
+def _level(text: str, dim: Dim, quantity: Quantity) -> sympy.Expr:
+    value = evaluate_text(text)
+    word = _UNIT_WORDS.get(dim, "")
+    if value.dim != dim or not value.expr.is_real:
+        raise ParseError(
+            f'the level "{text}" must be a real value in the unit of the quantity, like "1.2 {word}"', quantity.text, None
+        )
+    return value.expr
+
+
+def _absorbed_energy(transient: Any, quantity: Quantity) -> Value:
+    """``integral_0^T v i dt`` of a part, absorbed (passive sign convention)."""
+    args = quantity.args
+    if len(args) != 2 or isinstance(args[0], Quantity) or isinstance(args[1], Quantity):
+        raise ParseError('absorbed_energy() takes a part and a time, like absorbed_energy(R1, "10 ms")', quantity.text, None)
+    ident = str(args[0])
+    if not transient.circuit.has_part(ident):
+        raise ParseError(f'"{ident}" is not a part of the circuit', quantity.text, None)
+    until = _time(str(args[1]), quantity)
+    voltage, current = transient.part_voltage(ident), transient.part_current(ident)
+    return Value(_exact(product_integral(voltage, current, until)), dim_of("J"))
 
 
 def _band(text: str, quantity: Quantity) -> sympy.Expr:
@@ -87,6 +116,8 @@ def evaluate_time_quantity(transient: Any, quantity: Quantity, phasor: Callable[
         method = getattr(transient, name)
         unit = {"time_constant": dim_of("s"), "natural_frequency": dim_of("Hz")}.get(name, DIMENSIONLESS)
         return Value(_exact(method()), unit)
+    if name == "absorbed_energy":
+        return _absorbed_energy(transient, quantity)
     if not args or not isinstance(args[0], Quantity):
         raise ParseError(f"{name}() takes a voltage or current first, like {name}(voltage(out))", quantity.text, None)
     inner = args[0]
@@ -95,6 +126,13 @@ def evaluate_time_quantity(transient: Any, quantity: Quantity, phasor: Callable[
         if len(args) != 2 or isinstance(args[1], Quantity):
             raise ParseError('at() takes a quantity and a time, like at(voltage(out), "1.5 ms")', quantity.text, None)
         return Value(_exact(wave(_time(str(args[1]), quantity))), dim)
+    if name == "crossing_time":
+        if len(args) != 2 or isinstance(args[1], Quantity):
+            raise ParseError(
+                'crossing_time() takes a quantity and a level, like crossing_time(voltage(out), "1.2 V")', quantity.text, None
+            )
+        level = _level(str(args[1]), dim, quantity)
+        return Value(_exact(crossing_time(wave, level, _UNIT_WORDS.get(dim, ""))), dim_of("s"))
     if len(args) > (2 if name == "settling_time" else 1):
         raise ParseError(f"{name}() takes {'two arguments' if name == 'settling_time' else 'one argument'}", quantity.text, None)
     if name == "initial":
