@@ -171,8 +171,11 @@ def _never(f: TimeFunction, level: Any, seen: list[Any], unit: str) -> str:
     low, high = min(seen), max(seen)
     start = show(seen[0]) if seen else show(0)
     if f.horizon is not None:
-        tail = f"up to t = {mpmath.nstr(to_mpf_time(f.horizon), 6)} s, where the written-out repeating source ends"
-        return f"{f.name} does not reach {show(level)} {tail}: it starts at {start} and stays between {show(low)} and {show(high)}"
+        until = mpmath.nstr(to_mpf_time(f.horizon), 6)
+        return (
+            f"{f.name} does not reach {show(level)} up to t = {until} s, where the written-out repeating source "
+            f"ends: it starts at {start} and stays between {show(low)} and {show(high)}; give a longer [transient] span"
+        )
     final = f.final()
     if final is None:
         ending = "then swings in its steady state"
