@@ -246,3 +246,81 @@ def test_absorbed_energy_arguments() -> None:
         run(RC, [("wx", 'absorbed_energy(voltage(out), "1 ms")', "1 uJ")])
     with pytest.raises(HandcheckError, match='"R9" is not a part'):
         run(RC, [("wx", 'absorbed_energy(R9, "1 ms")', "1 uJ")])
+
+
+# -- energy(P) as a function of time: at, final, peak ----------------------------
+
+
+def test_stored_energy_in_time_against_solve_ivp() -> None:
+    # w_C = C vC^2/2, w_L = L i^2/2 (Hayt & Kemmerly, 8th ed., ch. 7, from memory), with vC
+    # and i from solve_ivp on the series RLC's ODE.
+    r, ell, c = 100.0, 0.1, 10e-6
+    sol = solve_ivp(
+        lambda t, x: [(1.0 - r * x[0] - x[1]) / ell, x[0] / c],
+        (0, 0.01),
+        [0.0, 0.0],
+        dense_output=True,
+        rtol=1e-12,
+        atol=1e-15,
+        method="DOP853",
+    )
+    steps = run(
+        RLC,
+        [
+            ("wc", 'at(energy(C1), "2 ms")', "1 uJ"),
+            ("wl", 'at(energy(L1), "1.3 ms")', "1 uJ"),
+            ("wfin", "final(energy(C1))", "5 uJ"),
+            ("wini", "initial(energy(L1))", "0 J"),
+        ],
+    )
+    assert_allclose(value(steps["wc"]), c / 2 * sol.sol(2e-3)[1] ** 2, rtol=1e-8)
+    assert_allclose(value(steps["wl"]), ell / 2 * sol.sol(1.3e-3)[0] ** 2, rtol=1e-8)
+    assert steps["wfin"].exact == sympy.Rational(1, 200000)  # C V^2/2 once charged
+    assert steps["wini"].exact == 0
+
+
+def test_peak_stored_energy_from_the_overshoot() -> None:
+    # the capacitor voltage peaks at Vs (1 + exp(-pi zeta/sqrt(1 - zeta^2))) (Ogata, Modern
+    # Control Engineering, 5th ed., sec. 5-3, from memory), so its energy at C/2 times its square
+    steps = run(RLC, [("wp", "peak(energy(C1))", "6.763 uJ"), ("tp", "peak_time(energy(C1))", "3.628 ms")])
+    overshoot = math.exp(-math.pi * 0.5 / math.sqrt(0.75))
+    assert steps["wp"].verdict == "agrees"
+    assert_allclose(value(steps["wp"]), 10e-6 / 2 * (1 + overshoot) ** 2, rtol=1e-13)
+    assert_allclose(value(steps["tp"]), math.pi / (1000 * math.sqrt(0.75)), rtol=1e-13)  # t_p = pi/wd
+
+
+def test_stored_energy_under_a_sinusoid_against_solve_ivp() -> None:
+    # products of sinusoids (poles 2jw and 0) and of decaying terms; reference: solve_ivp
+    parts = """
+V1 = { voltage = "10*cos(2*pi*50 Hz*t) V", nodes = ["in", "gnd"] }
+R1 = { resistor = "10 ohm", nodes = ["in", "m"] }
+L1 = { inductor = "50 mH", nodes = ["m", "gnd"] }
+"""
+    sol = solve_ivp(
+        lambda t, x: [(10 * math.cos(2 * math.pi * 50 * t) - 10 * x[0]) / 0.05],
+        (0, 0.05),
+        [0.0],
+        dense_output=True,
+        rtol=1e-12,
+        atol=1e-15,
+        method="DOP853",
+    )
+    steps = run(parts, [("wl", 'at(energy(L1), "13 ms")', "1 mJ"), ("tx", 'crossing_time(energy(L1), "2 mJ")', "1 ms")])
+    assert_allclose(value(steps["wl"]), 0.05 / 2 * sol.sol(13e-3)[0] ** 2, rtol=1e-8)
+    # the energy reaches 2 mJ when |i| first reaches sqrt(2 * 2 mJ / L)
+    level = math.sqrt(2 * 2e-3 / 0.05)
+    hit = solve_ivp(
+        lambda t, x: [(10 * math.cos(2 * math.pi * 50 * t) - 10 * x[0]) / 0.05],
+        (0, 0.05),
+        [0.0],
+        events=lambda t, x: abs(x[0]) - level,
+        rtol=1e-12,
+        atol=1e-15,
+        method="DOP853",
+    )
+    assert_allclose(value(steps["tx"]), hit.t_events[0][0], rtol=1e-8)
+
+
+def test_energy_of_a_resistor_is_refused() -> None:
+    with pytest.raises(HandcheckError, match="energy\\(\\) takes a capacitor or an inductor"):
+        run(RC, [("wx", 'at(energy(R1), "1 ms")', "1 uJ")])

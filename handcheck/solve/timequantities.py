@@ -17,6 +17,7 @@ import sympy
 from handcheck.errors import CircuitError, ParseError
 from handcheck.solve.absorbed import product_integral
 from handcheck.solve.crossing import crossing_time
+from handcheck.solve.products import product
 from handcheck.solve.quantities import CIRCUIT_WIDE, Quantity
 from handcheck.worksheet.evaluate import Value, evaluate_text
 from handcheck.worksheet.units import DIMENSIONLESS, Dim, dim_of
@@ -37,11 +38,38 @@ def waveform_of(transient: Any, quantity: Quantity) -> tuple[Any, Dim]:
             return transient.node_voltage(args[0]) - transient.node_voltage(args[1]), dim_of("V")
     if quantity.name == "current" and len(quantity.args) == 1:
         return transient.part_current(str(quantity.args[0])), dim_of("A")
+    if quantity.name == "energy" and len(quantity.args) == 1 and not isinstance(quantity.args[0], Quantity):
+        return _stored_energy(transient, str(quantity.args[0]), quantity), dim_of("J")
     raise ParseError(
-        f"a time-domain quantity takes a voltage or a current, like voltage(out) or current(R1), not {quantity}",
+        "a time-domain quantity takes a voltage, a current or a stored energy, like voltage(out), "
+        f"current(R1) or energy(C1), not {quantity}",
         str(quantity),
         None,
     )
+
+
+def _stored_energy(transient: Any, ident: str, quantity: Quantity) -> Any:
+    """``C v(t)**2 / 2`` of a capacitor or ``L i(t)**2 / 2`` of an inductor, as a waveform
+    (e.g. Hayt & Kemmerly, *Engineering Circuit Analysis*, 8th ed., ch. 7, from memory)."""
+    circuit = transient.circuit
+    if not circuit.has_part(ident):
+        raise ParseError(f'"{ident}" is not a part of the circuit', quantity.text, None)
+    part = circuit.part(ident)
+    if part.kind == "inductor" and any(p.kind == "coupling" and ident in p.inductors for p in circuit.parts):
+        raise CircuitError(f"{ident} is magnetically coupled; the energy of one coupled inductor alone is not defined", (ident,))
+    if part.kind == "capacitor":
+        wave = transient.part_voltage(ident)
+    elif part.kind == "inductor":
+        wave = transient.part_current(ident)
+    else:
+        raise ParseError(f"energy() takes a capacitor or an inductor; {ident} is a {part.kind}", quantity.text, None)
+    if wave.impulses:
+        raise CircuitError(
+            f"{wave.name} holds an impulse from ideal switching, so the energy in {ident} is not defined "
+            "at that instant; add the series resistance of the source or switch",
+            (ident,),
+        )
+    return product(wave, wave, f"energy({ident})") * (part.value / 2)
 
 
 def _time(text: str, quantity: Quantity) -> sympy.Expr:
@@ -51,7 +79,7 @@ def _time(text: str, quantity: Quantity) -> sympy.Expr:
     return value.expr
 
 
-_UNIT_WORDS = {dim_of("V"): "V", dim_of("A"): "A"}
+_UNIT_WORDS = {dim_of("V"): "V", dim_of("A"): "A", dim_of("J"): "J"}
 
 
 def _level(text: str, dim: Dim, quantity: Quantity) -> sympy.Expr:
