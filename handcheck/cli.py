@@ -9,6 +9,7 @@ from __future__ import annotations
 import argparse
 import json
 import sys
+import time
 from collections.abc import Sequence
 from typing import Any
 
@@ -32,9 +33,13 @@ def _parser() -> argparse.ArgumentParser:
     parser = _Parser(prog="handcheck", description="Verify hand calculations on linear circuits, exactly.")
     parser.add_argument("--version", action="version", version=f"handcheck {__version__}")
     commands = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
-    check = commands.add_parser("check", help="check every step of a worksheet")
-    check.add_argument("file", metavar="FILE", help="the worksheet (TOML, format 1)")
-    check.add_argument("--json", action="store_true", help="print check output format 1 (JSON) on stdout")
+    check = commands.add_parser("check", help="check every step of a worksheet (or of many: docs/ci.md)")
+    check.add_argument("paths", nargs="+", metavar="PATH", help="worksheets (TOML, format 1) and folders of them")
+    check.add_argument(
+        "--json", action="store_true", help="print check output format 1 (JSON) on stdout; an array for several"
+    )
+    check.add_argument("--junit", metavar="OUT", help="also write JUnit XML to OUT (one test suite per worksheet)")
+    check.add_argument("--jobs", type=_jobs, default=1, metavar="N", help="check N worksheets at once (default 1)")
     check.add_argument("--evidence", action="store_true", help="add the independent numerical time-domain evidence")
     check.add_argument("--plot", metavar="OUT", help="write the evidence plots to OUT (.svg or .png); implies --evidence")
     check.add_argument(
@@ -68,6 +73,59 @@ def _seconds(text: str) -> float:
     if not 0 < value <= 86400:
         raise argparse.ArgumentTypeError("--time-limit must be more than 0 and at most 86400 seconds")
     return value
+
+
+def _jobs(text: str) -> int:
+    if not text.isdigit() or not 1 <= int(text) <= 64:
+        raise argparse.ArgumentTypeError(f"--jobs takes a whole number of worker processes from 1 to 64, not {text!r}")
+    return int(text)
+
+
+def _is_batch(args: argparse.Namespace) -> bool:
+    from pathlib import Path
+
+    return args.command == "check" and (len(args.paths) > 1 or Path(args.paths[0]).is_dir())
+
+
+def _batch(args: argparse.Namespace) -> int:
+    from handcheck.batch import Options, check_all, expand, progress, status_of, summary_line
+
+    if args.plot:
+        raise WorksheetError("--plot draws the evidence of one worksheet: give one FILE, not several or a folder")
+    paths = expand(args.paths)
+    if args.evidence:
+        sys.stderr.write("handcheck: solving the circuits numerically in time...\n")
+    with progress(len(paths)) as done:
+        options = Options(evidence=args.evidence, time_limit=args.time_limit)
+        outcomes = check_all(paths, options, jobs=args.jobs, done=done)
+    for outcome in outcomes:
+        if outcome.error:
+            sys.stderr.write(f"handcheck: {outcome.error}\n")
+    if args.json:
+        print(json.dumps([outcome.data for outcome in outcomes], ensure_ascii=False))
+    else:
+        print("\n\n".join(f"== {outcome.path} ==\n{outcome.text}" for outcome in outcomes))
+        print(f"\n{summary_line(outcomes)}")
+    if args.junit:
+        _junit([(outcome.data, outcome.seconds) for outcome in outcomes], args.junit)
+    return status_of(outcomes)
+
+
+def _junit(entries: list[tuple[dict[str, Any], float]], out: str) -> None:
+    from handcheck.record.junit import write_junit
+
+    path = write_junit(entries, out)
+    sys.stderr.write(f"handcheck: JUnit report written to {path}\n")
+
+
+def _junit_refused(args: argparse.Namespace, message: str) -> None:
+    """The JUnit file of one worksheet that could not be checked (one test case with an error)."""
+    from handcheck import __version__
+
+    try:
+        _junit([({"handcheck": __version__, "worksheet": args.file, "ok": False, "error": message}, 0.0)], args.junit)
+    except OSError as exc:
+        sys.stderr.write(f"handcheck: {exc.filename or args.junit}: {exc.strerror or exc}\n")
 
 
 def _run(args: argparse.Namespace) -> int:
@@ -109,13 +167,15 @@ def _run(args: argparse.Namespace) -> int:
         return EXIT_OK if evidence.ok else EXIT_DISAGREES
     report = result.report
     assert report is not None
+    data = report_dict(report, __version__, result.audit)
+    if evidence is not None:
+        data["evidence"] = evidence_dict(evidence)
     if args.json:
-        data = report_dict(report, __version__, result.audit)
-        if evidence is not None:
-            data["evidence"] = evidence_dict(evidence)
         print(json.dumps(data, ensure_ascii=False))
     else:
         print(render(report, __version__, evidence, result.audit))
+    if args.junit:
+        _junit([(data, time.monotonic() - budget.started)], args.junit)
     return EXIT_OK if result.ok else EXIT_DISAGREES
 
 
@@ -167,11 +227,15 @@ def main(argv: Sequence[str] | None = None) -> int:
     if args.command is None:
         parser.print_help(sys.stderr)
         return EXIT_BAD_INPUT
+    if args.command == "check":
+        args.file = args.paths[0]
     try:
-        return _run(args)
+        return _batch(args) if _is_batch(args) else _run(args)
     except (HandcheckError, TimeLimitError) as exc:
         where = "" if exc.file else f"{args.file}: "
         sys.stderr.write(f"handcheck: {where}{exc}\n")
+        if getattr(args, "junit", None) and not _is_batch(args):
+            _junit_refused(args, f"{where}{exc}")
         return EXIT_BAD_INPUT
     except OSError as exc:  # a plot that cannot be written, for one
         target = exc.filename or args.file

@@ -102,7 +102,10 @@ def test_a_missing_file_and_a_folder(tmp_path, monkeypatch, capsys):
     monkeypatch.chdir(tmp_path)
     assert run("nothing.toml", capsys)[1:] == ("", "handcheck: nothing.toml: no such file\n")
     (tmp_path / "folder.toml").mkdir()
-    assert run("folder.toml", capsys)[1:] == ("", "handcheck: folder.toml: this is a folder, not a worksheet file\n")
+    assert run("folder.toml", capsys)[1:] == (
+        "",
+        "handcheck: folder.toml: this folder holds no worksheet (no *.toml file below it)\n",
+    )
 
 
 # -- circuits that cannot be solved name their parts ---------------------------

@@ -1,0 +1,301 @@
+"""Many worksheets in one command: files and folders, in order, in process or in parallel.
+
+Each worksheet goes through the one pipeline (:func:`handcheck.pipeline.run`) with a
+budget of its own; what comes back is plain data (:class:`Outcome`: the check output
+format 1 object, or an error object, and the terminal block), so that it crosses from
+a worker process unchanged. A worksheet that cannot be read, or runs out of its time,
+is reported and counted; it never stops the others.
+
+>>> status_of(())
+0
+>>> summary_line(())
+'0 worksheets'
+"""
+
+from __future__ import annotations
+
+import sys
+import time
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any, Literal
+
+from handcheck.errors import HandcheckError, TimeLimitError, WorksheetError
+
+__all__ = ["Options", "Outcome", "check_all", "check_one", "expand", "status_of", "summary_line"]
+
+EXIT_OK, EXIT_DISAGREES, EXIT_BAD_INPUT = 0, 1, 2
+
+Kind = Literal["ok", "differ", "refused"]
+
+
+@dataclass(frozen=True)
+class Options:
+    """How each worksheet of a batch is checked.
+
+    Parameters
+    ----------
+    evidence
+        Add the independent numerical time-domain solution.
+    time_limit
+        Seconds allowed for each worksheet (``None``: the default limit).
+    """
+
+    evidence: bool = False
+    time_limit: float | None = None
+
+
+@dataclass(frozen=True)
+class Outcome:
+    """The check of one worksheet of a batch, as plain data.
+
+    ``data`` is the check output format 1 object, or for a worksheet that could not be
+    checked an error object ``{"handcheck", "worksheet", "ok": false, "error"}``;
+    ``text`` is its block for the terminal; ``status`` its exit status (0, 1 or 2).
+    """
+
+    path: str
+    status: int
+    data: dict[str, Any] = field(compare=False)
+    text: str
+    seconds: float = field(default=0.0, compare=False)
+
+    @property
+    def kind(self) -> Kind:
+        """``"ok"``, ``"differ"`` (a step, audit formula or the evidence does not agree) or
+        ``"refused"`` (the worksheet could not be read or checked)."""
+        return ("ok", "differ", "refused")[min(self.status, EXIT_BAD_INPUT)]
+
+    @property
+    def error(self) -> str | None:
+        """The one-line message of a refused worksheet, else ``None``."""
+        return self.data.get("error")
+
+
+def expand(paths: Sequence[str]) -> tuple[str, ...]:
+    """The worksheets named by files and folders, in the order given.
+
+    A folder stands for every ``*.toml`` file below it (at any depth, sorted, hidden
+    files and folders left out); a file stands for itself, whatever its name, and one
+    that does not exist is kept, so that its check reports it. A worksheet named twice
+    is checked once.
+
+    Parameters
+    ----------
+    paths
+        Files and folders from the command line.
+
+    Returns
+    -------
+    tuple of str
+
+    Raises
+    ------
+    WorksheetError
+        When a folder holds no worksheet.
+    """
+    found: dict[str, None] = {}
+    for name in paths:
+        place = Path(name)
+        if not place.is_dir():
+            found.setdefault(name, None)
+            continue
+        below = sorted(
+            path
+            for path in place.rglob("*.toml")
+            if path.is_file() and not any(part.startswith(".") for part in path.relative_to(place).parts)
+        )
+        if not below:
+            raise WorksheetError("this folder holds no worksheet (no *.toml file below it)", file=name)
+        for path in below:
+            found.setdefault(str(path), None)
+    return tuple(found)
+
+
+def _refused(path: str, message: str, started: float) -> Outcome:
+    from handcheck import __version__
+
+    data = {"handcheck": __version__, "worksheet": path, "ok": False, "error": message}
+    return Outcome(path, EXIT_BAD_INPUT, data, f"refused: {message}", time.monotonic() - started)
+
+
+def check_one(path: str, options: Options = Options()) -> Outcome:
+    """Check one worksheet through the pipeline, with a budget of its own.
+
+    Safe to run in a worker process: it returns plain data and reports every error a
+    worksheet can cause (a malformed file, a time limit) in the outcome instead of
+    raising it.
+
+    Parameters
+    ----------
+    path
+        The worksheet file.
+    options
+        Evidence and time limit.
+
+    Returns
+    -------
+    Outcome
+    """
+    from handcheck import __version__
+    from handcheck.budget import DEFAULT_TIME_LIMIT, Budget, watchdog
+    from handcheck.pipeline import run
+    from handcheck.record.jsonout import evidence_dict, report_dict
+    from handcheck.record.text import render
+
+    started = time.monotonic()
+    budget = Budget(DEFAULT_TIME_LIMIT if options.time_limit is None else options.time_limit)
+    timer = watchdog(budget, path)
+    try:
+        result = run(path, evidence=options.evidence, budget=budget)
+    except (HandcheckError, TimeLimitError) as exc:
+        where = "" if getattr(exc, "file", None) else f"{path}: "
+        return _refused(path, f"{where}{exc}", started)
+    except OSError as exc:
+        return _refused(path, f"{exc.filename or path}: {exc.strerror or exc}", started)
+    except RecursionError:
+        return _refused(path, f"{path}: an expression is nested too deeply to read", started)
+    finally:
+        if timer is not None:
+            timer.cancel()
+    report = result.report
+    assert report is not None
+    data = report_dict(report, __version__, result.audit)
+    if result.evidence is not None:
+        data["evidence"] = evidence_dict(result.evidence)
+    text = render(report, __version__, result.evidence, result.audit)
+    status = EXIT_OK if result.ok else EXIT_DISAGREES
+    return Outcome(path, status, data, text, time.monotonic() - started)
+
+
+def _pool_context() -> Any:
+    import multiprocessing
+
+    # forkserver: workers start from a clean process, not a fork of one that runs threads
+    methods = multiprocessing.get_all_start_methods()
+    return multiprocessing.get_context("forkserver" if "forkserver" in methods else "spawn")
+
+
+def check_all(
+    paths: Sequence[str],
+    options: Options = Options(),
+    *,
+    jobs: int = 1,
+    done: Callable[[Outcome], None] | None = None,
+) -> tuple[Outcome, ...]:
+    """Check every worksheet; the outcomes come back in the order of ``paths``.
+
+    Parameters
+    ----------
+    paths
+        Worksheet files (see :func:`expand`).
+    options
+        How each is checked.
+    jobs
+        Worker processes; 1 checks in this process, one after the other.
+    done
+        Called with each outcome as it is finished (for a progress display).
+
+    Returns
+    -------
+    tuple of Outcome
+    """
+    if jobs <= 1 or len(paths) <= 1:
+        outcomes = []
+        for path in paths:
+            outcomes.append(check_one(path, options))
+            if done is not None:
+                done(outcomes[-1])
+        return tuple(outcomes)
+    from concurrent.futures import ProcessPoolExecutor, as_completed
+    from concurrent.futures.process import BrokenProcessPool
+
+    started = time.monotonic()
+    results: dict[int, Outcome] = {}
+    with ProcessPoolExecutor(max_workers=min(jobs, len(paths)), mp_context=_pool_context()) as pool:
+        futures = {pool.submit(check_one, path, options): index for index, path in enumerate(paths)}
+        for future in as_completed(futures):
+            index = futures[future]
+            try:
+                results[index] = future.result()
+            except BrokenProcessPool:
+                message = f"{paths[index]}: the worker process ended before this worksheet was checked"
+                results[index] = _refused(paths[index], message, started)
+            if done is not None:
+                done(results[index])
+    return tuple(results[index] for index in range(len(paths)))
+
+
+def status_of(outcomes: Sequence[Outcome]) -> int:
+    """The exit status of a batch: the highest of its worksheets' (0 for none)."""
+    return max((outcome.status for outcome in outcomes), default=EXIT_OK)
+
+
+def summary_line(outcomes: Sequence[Outcome]) -> str:
+    """One line: how many worksheets, and how many of them are ok, differ, refused."""
+    count = len(outcomes)
+    line = f"{count} worksheet{'s' if count != 1 else ''}"
+    if not outcomes:
+        return line
+    kinds = [outcome.kind for outcome in outcomes]
+    seconds = sum(outcome.seconds for outcome in outcomes)
+    return f"{line}: {kinds.count('ok')} ok, {kinds.count('differ')} differ, {kinds.count('refused')} refused ({seconds:.1f} s of checking)"
+
+
+def stderr_is_terminal() -> bool:
+    """Whether stderr is a terminal (a progress display is shown only then)."""
+    return bool(getattr(sys.stderr, "isatty", None)) and sys.stderr.isatty()
+
+
+#: From how many worksheets on a progress display is shown (on a terminal only).
+PROGRESS_FROM = 4
+
+
+class _NoProgress:
+    def __enter__(self) -> None:
+        return None
+
+    def __exit__(self, *exc: object) -> None:
+        return None
+
+
+class _Progress:
+    def __init__(self, total: int) -> None:
+        from rich.console import Console
+        from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeElapsedColumn
+
+        self._bar = Progress(
+            TextColumn("checking"),
+            BarColumn(),
+            MofNCompleteColumn(),
+            TimeElapsedColumn(),
+            TextColumn("{task.description}"),
+            console=Console(stderr=True),
+            transient=True,
+        )
+        self._task = self._bar.add_task("", total=total)
+
+    def __enter__(self) -> Callable[[Outcome], None]:
+        self._bar.__enter__()
+        return self._advance
+
+    def __exit__(self, *exc: object) -> None:
+        self._bar.__exit__(None, None, None)
+
+    def _advance(self, outcome: Outcome) -> None:
+        self._bar.update(self._task, advance=1, description=f"{outcome.path}: {outcome.kind}")
+
+
+def progress(total: int) -> Any:
+    """A context manager giving the ``done`` callback of :func:`check_all`, or ``None``.
+
+    A progress bar (rich) is drawn on stderr only when stderr is a terminal and there
+    are at least :data:`PROGRESS_FROM` worksheets, so that CI logs stay clean.
+    """
+    if total < PROGRESS_FROM or not stderr_is_terminal():
+        return _NoProgress()
+    try:
+        return _Progress(total)
+    except ImportError:  # rich is missing: check without a bar
+        return _NoProgress()
