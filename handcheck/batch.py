@@ -211,8 +211,8 @@ def check_all(
     from concurrent.futures import ProcessPoolExecutor, as_completed
     from concurrent.futures.process import BrokenProcessPool
 
-    started = time.monotonic()
     results: dict[int, Outcome] = {}
+    lost: list[int] = []
     with ProcessPoolExecutor(max_workers=min(jobs, len(paths)), mp_context=_pool_context()) as pool:
         futures = {pool.submit(check_one, path, options): index for index, path in enumerate(paths)}
         for future in as_completed(futures):
@@ -220,11 +220,30 @@ def check_all(
             try:
                 results[index] = future.result()
             except BrokenProcessPool:
-                message = f"{paths[index]}: the worker process ended before this worksheet was checked"
-                results[index] = _refused(paths[index], message, started)
+                lost.append(index)
+                continue
             if done is not None:
                 done(results[index])
+    # A worker that ended (the watchdog, or the system out of memory) breaks the whole
+    # pool: every worksheet it had not finished is checked again, each in a pool of its
+    # own, so that only the one that ends its worker again is refused.
+    for index in sorted(lost):
+        results[index] = _alone(paths[index], options)
+        if done is not None:
+            done(results[index])
     return tuple(results[index] for index in range(len(paths)))
+
+
+def _alone(path: str, options: Options) -> Outcome:
+    from concurrent.futures import ProcessPoolExecutor
+    from concurrent.futures.process import BrokenProcessPool
+
+    started = time.monotonic()
+    with ProcessPoolExecutor(max_workers=1, mp_context=_pool_context()) as pool:
+        try:
+            return pool.submit(check_one, path, options).result()
+        except BrokenProcessPool:
+            return _refused(path, f"{path}: the worker process ended before this worksheet was checked", started)
 
 
 def status_of(outcomes: Sequence[Outcome]) -> int:

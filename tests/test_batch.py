@@ -11,6 +11,7 @@ read it; there is no one published schema.
 from __future__ import annotations
 
 import json
+import os
 import shutil
 import time
 from pathlib import Path
@@ -266,6 +267,23 @@ def test_jobs_2_gives_the_same_json_as_jobs_1(folder: Path, capsys) -> None:
     assert json.loads(two[1]) == json.loads(one[1])
     assert two[2] == one[2]
     assert time.monotonic() - started < 120
+
+
+@pytest.mark.slow  # about 20 s: the watchdog ends a worker twice, 5 s past a 4 s limit each time
+def test_a_worker_that_ends_refuses_only_its_worksheet(folder: Path, capsys) -> None:
+    # Opening a named pipe with no writer blocks inside one system call, where the budget
+    # cannot stop it: the watchdog ends the worker (docs/errors.md), which breaks the pool.
+    pipe = folder / "pipe.toml"
+    os.mkfifo(pipe)
+    paths = [str(pipe), str(folder / "coil-snubber.toml"), str(folder / "motor-pf-correction.toml")]
+    code, out, err = run(capsys, "check", *paths, "--json", "--jobs", "2", "--time-limit", "4")
+    array = json.loads(out)
+    assert code == 2 and [entry["worksheet"] for entry in array] == paths
+    assert array[0]["error"] == f"{pipe}: the worker process ended before this worksheet was checked"
+    assert [entry["ok"] for entry in array[1:]] == [True, True]
+    assert array[1:] == [single(capsys, Path(p))[1] for p in paths[1:]]
+    # (the watchdog's own line goes to the worker's stderr, which capsys does not see)
+    assert err.endswith(f"handcheck: {array[0]['error']}\n")
 
 
 @pytest.mark.parametrize("jobs", ["0", "-1", "x", "65"])
