@@ -155,3 +155,18 @@ def test_record_carries_basis_and_notes() -> None:
     assert [s["basis"] for s in record["steps"]] == ["circuit", "formula", "none"]
     assert record["steps"][1]["notes"][0].startswith(FORMULA_ONLY)
     assert record["summary"]["basis_counts"] == {"circuit": 1, "formula": 1, "none": 1}
+
+
+def test_notes_wrap_to_the_width_asked_for() -> None:
+    report = handcheck.check_text(DIVIDER + STEPS, "sheet.toml")
+    for width in (60, 100, 140):
+        text = render(report, handcheck.__version__, width=width)
+        note_lines = [line for line in text.splitlines() if line.startswith("     ") and line.strip()]
+        assert note_lines and max(len(line) for line in note_lines) <= width
+    # the whole note reads the same whatever the width
+    narrow = " ".join(render(report, handcheck.__version__, width=60).split())
+    wide = " ".join(render(report, handcheck.__version__, width=140).split())
+    assert FORMULA_ONLY in narrow and FORMULA_ONLY in wide
+    assert len(render(report, handcheck.__version__, width=60).splitlines()) > len(
+        render(report, handcheck.__version__, width=140).splitlines()
+    )

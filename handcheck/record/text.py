@@ -6,6 +6,8 @@ counted apart from the agreements with the circuit.
 
 from __future__ import annotations
 
+import shutil
+import sys
 import textwrap
 from collections import Counter
 from typing import Any
@@ -15,6 +17,8 @@ from handcheck.verify.findings import Report, StepFinding
 __all__ = ["render"]
 
 _MARK = {"agrees": "ok", "unchecked": "--"}
+#: The wrapping width when standard output is no terminal.
+_PLAIN_WIDTH = 100
 
 
 def _own_formula_only(step: StepFinding) -> bool:
@@ -55,13 +59,29 @@ def _counts(steps: tuple[StepFinding, ...]) -> str:
     return ", ".join(shown)
 
 
-def _wrap(text: str, indent: int, width: int = 100) -> list[str]:
+def _wrap_to(text: str, indent: int, width: int = 100) -> list[str]:
     return textwrap.wrap(text, width=width, initial_indent=" " * indent, subsequent_indent=" " * (indent + 2))
 
 
-def render(report: Report, version: str, evidence: Any = None, audit: tuple[Any, ...] = ()) -> str:
-    """The whole report as text for a terminal (with the numerical evidence and the formula audit, if given)."""
+def terminal_width() -> int:
+    """The width notes are wrapped to: the terminal's (60 to 160 columns) when standard
+    output is one, else 100, so piped and logged output does not depend on a window."""
+    if not sys.stdout.isatty():
+        return _PLAIN_WIDTH
+    return max(60, min(160, shutil.get_terminal_size((_PLAIN_WIDTH, 24)).columns))
+
+
+def render(
+    report: Report, version: str, evidence: Any = None, audit: tuple[Any, ...] = (), width: int | None = None
+) -> str:
+    """The whole report as text for a terminal (with the numerical evidence and the
+    formula audit, if given); notes wrapped to ``width`` (default :func:`terminal_width`)."""
     from handcheck.record.audit import audit_lines
+
+    columns = terminal_width() if width is None else width
+
+    def _wrap(text: str, indent: int) -> list[str]:
+        return _wrap_to(text, indent, columns)
 
     lines = [f"handcheck {version}: {report.title}", f"worksheet {report.path} (sha256 {report.sha256[:16]})"]
     if report.reference:
