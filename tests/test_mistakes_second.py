@@ -12,6 +12,9 @@ from __future__ import annotations
 import cmath
 import math
 
+from hypothesis import HealthCheck, assume, given, settings
+from hypothesis import strategies as st
+
 import handcheck
 from handcheck.verify.mistakes import CODES
 
@@ -323,3 +326,34 @@ def test_right_claims_and_unrelated_slips_get_no_other_frequency():
     report = handcheck.check_text(harmonic(sig(250 * 0.01, 5) + " ohm", formula="2*pi*f*L1"))
     assert "other-frequency" not in codes(report, "X")
     assert "hertz-as-angular" in codes(report, "X")
+
+
+# -- property: a planted magnitude-for-phasor slip is found at its step -----------------
+# Series R-C on a real source: VR and VC are at right angles, |VR|^2 + |VC|^2 = |Vs|^2
+# (the voltage triangle; any introductory text, from memory), so |Vs| - |VC| is never
+# |VR| unless VC is 0; the slip is planted wherever it shows in the claim's 4 digits.
+
+
+def planted(r: int, c_uf: int, v: int, vr: str, vc: str, z: complex) -> str:
+    text = rc(vc=vc, vr=vr, z=sig(abs(z)) + " ohm").replace('"30 ohm"', f'"{r} ohm"').replace('"50 V"', f'"{v} V"')
+    return text.replace(f'"{C_F * 1e6:.12f} uF"', f'"{c_uf} uF"')
+
+
+@settings(max_examples=12, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])
+@given(st.integers(1, 500), st.integers(1, 200), st.integers(1, 400), st.booleans())
+def test_planted_magnitude_slip_is_found_at_its_step(r, c_uf, v, vc_as_magnitude):
+    w = 2 * math.pi * 50
+    z = complex(r, -1 / (w * c_uf * 1e-6))
+    i = v / z
+    vc, vr = i / (1j * w * c_uf * 1e-6), i * r
+    slip = v - abs(vc)
+    assume(abs(slip - abs(vr)) > 2e-3 * abs(vr))  # the slip shows in 4 digits
+    vc_text = sig(abs(vc)) + " V" if vc_as_magnitude else polar(vc, "V")
+    report = handcheck.check_text(planted(r, c_uf, v, sig(slip) + " V", vc_text, z))
+    assert report.first_divergence == "VR"
+    assert finding(report, "VC").verdict == "agrees"
+    assert finding(report, "VR").verdict in ("formula", "arithmetic")
+    assert "magnitude-as-phasor" in codes(report, "VR")
+    # The right phasor, from the same numbers, never gets the code.
+    right = handcheck.check_text(planted(r, c_uf, v, polar(vr, "V"), vc_text, z))
+    assert right.first_divergence is None and not any(s.diagnosis for s in right.steps)
