@@ -357,3 +357,23 @@ def test_planted_magnitude_slip_is_found_at_its_step(r, c_uf, v, vc_as_magnitude
     # The right phasor, from the same numbers, never gets the code.
     right = handcheck.check_text(planted(r, c_uf, v, polar(vr, "V"), vc_text, z))
     assert right.first_divergence is None and not any(s.diagnosis for s in right.steps)
+
+
+def test_a_claim_of_zero_names_no_mistake():
+    # The resistance of a 3 ohm resistor is 3 ohm (Re Z of a resistor, by definition); a
+    # claim of 0 ohm is wrong, but the prefix slip (3 mohm) and the reciprocal (0.33)
+    # both round to "0": no catalogued mistake is named.
+    text = HEAD + """
+[parts]
+Vs = { voltage = "5 V", frequency = "1 kHz", nodes = ["in", "gnd"] }
+R1 = { resistor = "3 ohm", nodes = ["in", "a"] }
+C1 = { capacitor = "1 uF", nodes = ["a", "gnd"] }
+
+[[step]]
+name = "R"
+quantity = "resistance(R1)"
+claim = "0 ohm"
+"""
+    report = handcheck.check_text(text)
+    assert finding(report, "R").verdict == "differs"
+    assert codes(report, "R") == []

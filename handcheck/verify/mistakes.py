@@ -524,8 +524,10 @@ def _angle_left_out(ctx: Context) -> bool:
 
 def diagnose(ctx: Context, only: tuple[str, ...] | None = None) -> list[tuple[str, str]]:
     """Every catalogued mistake that reproduces the claim, most specific first
-    (only the codes in ``only``, when given)."""
-    if _angle_left_out(ctx):
+    (only the codes in ``only``, when given). A claim of exactly 0 names nothing: its
+    written digits allow every small number, so any mistake that shrinks the value
+    would "reproduce" it."""
+    if _angle_left_out(ctx) or ctx.claim.value.expr == 0:
         return []
     found: list[tuple[str, str]] = []
     ruled_out: set[str] = set()
