@@ -324,3 +324,32 @@ L1 = { inductor = "50 mH", nodes = ["m", "gnd"] }
 def test_energy_of_a_resistor_is_refused() -> None:
     with pytest.raises(HandcheckError, match="energy\\(\\) takes a capacitor or an inductor"):
         run(RC, [("wx", 'at(energy(R1), "1 ms")', "1 uJ")])
+
+
+def test_stored_energy_crossing_against_solve_ivp() -> None:
+    # the product waveform C vC^2/2 of the underdamped RLC (exact conjugate poles) reaches
+    # 5 uJ = C (1 V)^2/2 when vC first reaches 1 V: solve_ivp event on vC - 1 V
+    step = run(RLC, [("tx", 'crossing_time(energy(C1), "5 uJ")', "2.418 ms")])["tx"]
+    assert_allclose(value(step), _rlc_ivp(1.0), rtol=1e-8)
+
+
+def test_energy_of_a_repeating_drive_at_a_time() -> None:
+    # a clocked RC: the energy at 3.2 ms is C v(3.2 ms)^2/2 with v from solve_ivp on
+    # C dv/dt = (vs(t) - v)/R, vs the 5 V clock with 10 us edges (period 1 ms, half on)
+    parts = """
+Vclk = { voltage = "5*repeat(1 ms, edge(t, 10 us) - edge(t - 0.5 ms, 10 us)) V", nodes = ["in", "gnd"] }
+R1 = { resistor = "1 kohm", nodes = ["in", "out"] }
+C1 = { capacitor = "0.2 uF", nodes = ["out", "gnd"] }
+"""
+
+    def clock(t: float) -> float:
+        u = t % 1e-3
+        rise = min(u / 1e-5, 1.0)
+        fall = min(max(u - 5e-4, 0.0) / 1e-5, 1.0)
+        return 5 * (rise - fall)
+
+    sol = solve_ivp(
+        lambda t, v: [(clock(t) - v[0]) / 2e-4], (0, 3.2e-3), [0.0], rtol=1e-11, atol=1e-14, max_step=2e-6, method="DOP853"
+    )
+    steps = run(parts, [("wx", 'at(energy(C1), "3.2 ms")', "1 uJ")])
+    assert_allclose(value(steps["wx"]), 0.2e-6 / 2 * sol.y[0][-1] ** 2, rtol=1e-6)

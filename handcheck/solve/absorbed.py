@@ -70,19 +70,38 @@ def product_integral(f: TimeFunction, g: TimeFunction, until: Any) -> Any:
                     f"{imp.delay} s from ideal switching, so the energy through it is not defined; add the "
                     "series resistance of the source or switch"
                 )
-    if f.exact and g.exact and len(f.terms) * len(g.terms) <= _EXACT_PAIRS and getattr(until, "is_Rational", False):
+    with mpmath.workdps(WORK_DPS):
+        end = to_mpf_time(until)
+        # terms that start at or after the end add nothing (a pulse train written out far beyond it)
+        first = [t for t in f.terms if to_mpf_time(t.delay) < end]
+        second = [t for t in g.terms if to_mpf_time(t.delay) < end]
+    exact = all(t.exact for t in first) and all(t.exact for t in second)
+    if exact and len(first) * len(second) <= _EXACT_PAIRS and getattr(until, "is_Rational", False):
         total = sympy.Integer(0)
-        for a in f.terms:
-            for b in g.terms:
+        for a in first:
+            for b in second:
                 total += _pair_exact(a, b, sympy.Rational(until))
         return real_part(total)
     with mpmath.workdps(WORK_DPS + 20):
         end = to_mpf_time(until)
+        left = [_numeric(t) for t in first]
+        right = [_numeric(t) for t in second]
         total = mpmath.mpc(0)
-        for a in f.terms:
-            for b in g.terms:
+        for a in left:
+            for b in right:
                 total += _pair_numeric(a, b, end)
         return +total.real
+
+
+def _numeric(term: Term) -> tuple[Any, int, Any, Any, int]:
+    """``(c, n, p, d, real_sign)`` of a term at the working precision (80 digits)."""
+    return (
+        approx(term.coefficient, WORK_DPS + 20),
+        term.power,
+        approx(term.pole, WORK_DPS + 20),
+        to_mpf_time(term.delay),
+        term.real_sign,
+    )
 
 
 def _pair_exact(a: Term, b: Term, until: Any) -> Any:
@@ -119,11 +138,11 @@ def _moment_exact(k: int, q: Any, span: Any) -> Any:
     return math.factorial(k) * (grow * inner - sympy.Integer(-1) ** k / q ** (k + 1))
 
 
-def _pair_numeric(a: Term, b: Term, until: Any) -> Any:
+def _pair_numeric(a: tuple[Any, int, Any, Any, int], b: tuple[Any, int, Any, Any, int], until: Any) -> Any:
     import mpmath
 
-    ca, na, pa, da = approx(a.coefficient, WORK_DPS + 20), a.power, approx(a.pole, WORK_DPS + 20), to_mpf_time(a.delay)
-    cb, nb, pb, db = approx(b.coefficient, WORK_DPS + 20), b.power, approx(b.pole, WORK_DPS + 20), to_mpf_time(b.delay)
+    ca, na, pa, da, ra = a
+    cb, nb, pb, db, rb = b
     start = max(da, db)
     if start >= until:
         return mpmath.mpc(0)
@@ -137,7 +156,7 @@ def _pair_numeric(a: Term, b: Term, until: Any) -> Any:
         for j, y in enumerate(right):
             poly[i + j] += x * y
     q = pa + pb
-    if (a.real_sign == 0 and b.real_sign == 0) and abs(q) <= mpmath.mpf(10) ** (-(WORK_DPS - 10)) * (abs(pa) + abs(pb)):
+    if (ra == 0 and rb == 0) and abs(q) <= mpmath.mpf(10) ** (-(WORK_DPS - 10)) * (abs(pa) + abs(pb)):
         q = mpmath.mpc(0)
     weight = ca * cb * mpmath.exp(pa * sa + pb * sb)
     return weight * sum((c * _moment_numeric(k, q, span) for k, c in enumerate(poly)), mpmath.mpc(0))

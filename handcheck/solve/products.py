@@ -13,13 +13,15 @@ from __future__ import annotations
 import math
 from typing import TYPE_CHECKING, Any
 
-from handcheck.solve.roots import WORK_DPS, approx
-from handcheck.solve.terms import Term
+from handcheck.solve.roots import WORK_DPS
+from handcheck.solve.terms import Term, to_mpf_time
 
 if TYPE_CHECKING:  # pragma: no cover - typing only
     from handcheck.solve.timefunction import TimeFunction
 
 __all__ = ["product"]
+
+_EXACT_PAIRS = 400  # beyond this many pairs of terms (a long pulse train) the product is numerical (60 digits)
 
 
 def product(f: TimeFunction, g: TimeFunction, name: str) -> TimeFunction:
@@ -46,10 +48,12 @@ def product(f: TimeFunction, g: TimeFunction, name: str) -> TimeFunction:
 
     if f.impulses or g.impulses:
         raise ValueError("a product of waveforms holding impulses is not defined")
+    exact = f.exact and g.exact and len(f.terms) * len(g.terms) <= _EXACT_PAIRS
+    numeric = {id(t): (*t.numeric, to_mpf_time(t.delay)) for t in (*f.terms, *g.terms)}
     terms: list[Term] = []
     for a in f.terms:
         for b in g.terms:
-            terms.extend(_pair(a, b))
+            terms.extend(_pair(a, b, exact, numeric[id(a)], numeric[id(b)]))
     horizons = [h for h in (f.horizon, g.horizon) if h is not None]
     merged = _merge(TimeFunction(tuple(terms), name=name), TimeFunction((), name=name), name)
     return TimeFunction(merged.terms, (), None, min(horizons) if horizons else None, name)
@@ -59,13 +63,14 @@ def _sign(x: Any) -> int:
     return 0 if x == 0 else (1 if x > 0 else -1)
 
 
-def _signs(a: Term, b: Term, pole: Any) -> tuple[int, int, Any]:
-    """The exact signs of ``pole = a.pole + b.pole`` (and the pole, cleaned of a zero part)."""
+def _signs(a: Term, b: Term, pole: Any, pa: Any, pb: Any) -> tuple[int, int, Any]:
+    """The exact signs of ``pole = a.pole + b.pole`` (and the pole, cleaned of a zero part);
+    ``pa`` and ``pb`` are the two poles at the working precision."""
     import mpmath
     import sympy
 
-    numeric = approx(pole)
-    size = abs(approx(a.pole)) + abs(approx(b.pole))
+    numeric = pa + pb
+    size = abs(pa) + abs(pb)
     tiny = mpmath.mpf(10) ** (-(WORK_DPS - 10)) * size
     signs = []
     for first, second, part in ((a.real_sign, b.real_sign, numeric.real), (a.imag_sign, b.imag_sign, numeric.imag)):
@@ -85,27 +90,33 @@ def _signs(a: Term, b: Term, pole: Any) -> tuple[int, int, Any]:
     return real_sign, imag_sign, pole
 
 
-def _pair(a: Term, b: Term) -> list[Term]:
+def _pair(a: Term, b: Term, exact: bool, na: tuple[Any, ...], nb: tuple[Any, ...]) -> list[Term]:
+    """The terms of ``a * b``; ``na``, ``nb`` are ``(c, n, p, d, d as mpf)`` of each at the working precision."""
     import mpmath
     import sympy
 
-    start = max(a.delay, b.delay)
-    sa, sb = start - a.delay, start - b.delay
-    exact = a.exact and b.exact
+    ca, _, pa, _, da = na
+    cb, _, pb, _, db = nb
+    with mpmath.workdps(WORK_DPS):
+        if da >= db:
+            start, sa, sb, fa, fb = a.delay, 0, b.delay, mpmath.mpf(0), da - db
+        else:
+            start, sa, sb, fa, fb = b.delay, b.delay, 0, db - da, mpmath.mpf(0)
     if exact:
+        sa = start - a.delay
+        sb = start - b.delay
         pole = sympy.expand(a.pole + b.pole)
         shift = a.pole * sa + b.pole * sb
         weight = a.coefficient * b.coefficient * (sympy.exp(shift) if shift != 0 else 1)
     else:
         with mpmath.workdps(WORK_DPS):
-            ca, _, pa, _ = a.numeric
-            cb, _, pb, _ = b.numeric
             pole = pa + pb
-            weight = ca * cb * mpmath.exp(pa * approx(sa).real + pb * approx(sb).real)
-    real_sign, imag_sign, pole = _signs(a, b, pole)
+            weight = ca * cb * mpmath.exp(pa * fa + pb * fb)
+            sa, sb = fa, fb
+    real_sign, imag_sign, pole = _signs(a, b, pole, pa, pb)
     left = [math.comb(a.power, j) * sa ** (a.power - j) for j in range(a.power + 1)]
     right = [math.comb(b.power, j) * sb ** (b.power - j) for j in range(b.power + 1)]
-    poly: list[Any] = [sympy.Integer(0)] * (a.power + b.power + 1)
+    poly: list[Any] = [sympy.Integer(0) if exact else mpmath.mpf(0)] * (a.power + b.power + 1)
     for i, x in enumerate(left):
         for j, y in enumerate(right):
             poly[i + j] += x * y
@@ -117,6 +128,6 @@ def _pair(a: Term, b: Term) -> list[Term]:
             coefficient = sympy.expand(weight * c)
         else:
             with mpmath.workdps(WORK_DPS):
-                coefficient = weight * approx(c)
-        out.append(Term(coefficient, k, pole, start, real_sign, imag_sign))
+                coefficient = weight * c
+        out.append(Term(coefficient, k, pole, start, real_sign, imag_sign, hint=None if exact else (coefficient, pole)))
     return out

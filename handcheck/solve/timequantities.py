@@ -51,6 +51,12 @@ def waveform_of(transient: Any, quantity: Quantity) -> tuple[Any, Dim]:
 def _stored_energy(transient: Any, ident: str, quantity: Quantity) -> Any:
     """``C v(t)**2 / 2`` of a capacitor or ``L i(t)**2 / 2`` of an inductor, as a waveform
     (e.g. Hayt & Kemmerly, *Engineering Circuit Analysis*, 8th ed., ch. 7, from memory)."""
+    wave, half = _energy_base(transient, ident, quantity)
+    return product(wave, wave, f"energy({ident})") * half
+
+
+def _energy_base(transient: Any, ident: str, quantity: Quantity) -> tuple[Any, sympy.Expr]:
+    """The capacitor's voltage or the inductor's current, and C/2 or L/2."""
     circuit = transient.circuit
     if not circuit.has_part(ident):
         raise ParseError(f'"{ident}" is not a part of the circuit', quantity.text, None)
@@ -69,7 +75,37 @@ def _stored_energy(transient: Any, ident: str, quantity: Quantity) -> Any:
             "at that instant; add the series resistance of the source or switch",
             (ident,),
         )
-    return product(wave, wave, f"energy({ident})") * (part.value / 2)
+    return wave, part.value / 2
+
+
+def _energy_value(transient: Any, quantity: Quantity, phasor: Callable[[Quantity], Value]) -> Value:
+    """``at``, ``initial``, ``final``, ``peak`` and ``peak_time`` of ``energy(P)`` from the
+    waveform w = v or i itself: ``half * w(t)**2``, and the peak of ``w**2`` is the square of the
+    peak of ``|w|`` at the same time (no product of waveforms needed)."""
+    name, args = quantity.name, quantity.args
+    inner = args[0]
+    assert isinstance(inner, Quantity)
+    if len(inner.args) != 1 or isinstance(inner.args[0], Quantity):
+        raise ParseError("energy() takes one capacitor or inductor, like energy(C1)", quantity.text, None)
+    if len(args) != (2 if name == "at" else 1) or (len(args) == 2 and isinstance(args[1], Quantity)):
+        if name == "at":
+            raise ParseError('at() takes a quantity and a time, like at(voltage(out), "1.5 ms")', quantity.text, None)
+        raise ParseError(f"{name}() takes one argument", quantity.text, None)
+    wave, half = _energy_base(transient, str(inner.args[0]), quantity)
+    joule = dim_of("J")
+    if name == "at":
+        return Value(half * _exact(wave(_time(str(args[1]), quantity))) ** 2, joule)
+    if name == "initial":
+        return Value(half * _exact(wave.initial()) ** 2, joule)
+    if name == "final":
+        final = wave.final()
+        return phasor(inner) if final is None else Value(half * _exact(final) ** 2, joule)
+    value, when = wave.peak()
+    if name == "peak":
+        return Value(half * _exact(value) ** 2, joule)
+    if when == float("inf"):
+        raise CircuitError(f"{inner} has no peak time: its largest value is only approached as t grows without bound", ())
+    return Value(_exact(when), dim_of("s"))
 
 
 def _time(text: str, quantity: Quantity) -> sympy.Expr:
@@ -149,6 +185,8 @@ def evaluate_time_quantity(transient: Any, quantity: Quantity, phasor: Callable[
     if not args or not isinstance(args[0], Quantity):
         raise ParseError(f"{name}() takes a voltage or current first, like {name}(voltage(out))", quantity.text, None)
     inner = args[0]
+    if inner.name == "energy" and name in ("at", "initial", "final", "peak", "peak_time"):
+        return _energy_value(transient, quantity, phasor)
     wave, dim = waveform_of(transient, inner)
     if name == "at":
         if len(args) != 2 or isinstance(args[1], Quantity):
