@@ -377,3 +377,28 @@ claim = "0 ohm"
     report = handcheck.check_text(text)
     assert finding(report, "R").verdict == "differs"
     assert codes(report, "R") == []
+
+
+def test_reactance_at_a_frequency_another_step_names():
+    # One 50 Hz source; a later step asks for the 3rd harmonic (150 Hz) response, and
+    # the author's XL step took 2*pi*150 Hz*L = 9.4248 ohm (XL = w*L, from memory).
+    text = HEAD + """
+[parts]
+V1 = { voltage = "10 V", frequency = "50 Hz", nodes = ["a", "gnd"] }
+L1 = { inductor = "10 mH", nodes = ["a", "b"] }
+R1 = { resistor = "2 ohm", nodes = ["b", "gnd"] }
+
+[[step]]
+name = "XL"
+quantity = "reactance(L1)"
+claim = "9.4248 ohm"
+
+[[step]]
+name = "X3"
+quantity = 'at_frequency(reactance(L1), "150 Hz")'
+claim = "9.4248 ohm"
+"""
+    report = handcheck.check_text(text)
+    assert finding(report, "X3").verdict == "agrees"
+    assert codes(report, "XL") == ["other-frequency"]
+    assert "150 Hz" in finding(report, "XL").diagnosis[0].detail

@@ -47,7 +47,7 @@ from handcheck.solve.frequency import LIST_QUANTITIES
 from handcheck.verify.basis import matching_quantities, settle, unit_kind
 from handcheck.verify.findings import Diagnosis, Report, StepFinding
 from handcheck.verify.responses import check_function_of_s, check_list
-from handcheck.verify.mistakes import Context, diagnose
+from handcheck.verify.mistakes import Context, diagnose, worksheet_frequencies
 from handcheck.verify.present import describe_frequency, describe_function, format_number, format_value
 from handcheck.verify.safety import cautions
 from handcheck.worksheet.evaluate import Value, evaluate
@@ -100,7 +100,19 @@ class _Checker:
         self.step_names = {step.name for step in worksheet.steps}
         self.function_steps: set[str] = set()
         self.names = set(base) | self.step_names
+        self.frequencies = worksheet_frequencies(self.readable_quantities())
         self.steady_values: dict[str, Value | HandcheckError] = {}
+
+    def readable_quantities(self) -> list[Quantity]:
+        """Every step's quantity that parses (a step that does not reports it itself)."""
+        found = []
+        for step in self.worksheet.steps:
+            if step.quantity:
+                try:
+                    found.append(parse_quantity(step.quantity))
+                except HandcheckError:
+                    continue
+        return found
 
     @property
     def transient(self) -> Any:
@@ -329,6 +341,7 @@ class _Checker:
             true_env=dict(self.true_env),
             full_env=dict(self.full_env),
             budget=self.budget,
+            frequencies=self.frequencies,
         )
         if claim.dim != truth.dim:
             what = "the quantity is in" if step.quantity else "the formula gives"

@@ -21,11 +21,12 @@ that reproduces the same number only by coincidence (``_RULES_OUT``).
 from __future__ import annotations
 
 import dataclasses
-from collections.abc import Callable
+from collections.abc import Callable, Iterable
 
 import sympy
 
 from handcheck.circuit.model import Circuit, Part
+from handcheck.errors import HandcheckError
 from handcheck.solve.quantities import Quantity
 from handcheck.verify.claims import agrees, to_complex
 from handcheck.verify.present import format_number
@@ -49,8 +50,9 @@ from handcheck.verify.rebuild import (
 from handcheck.worksheet.evaluate import Value
 from handcheck.worksheet.expr import Binary, Call, Node, walk
 from handcheck.worksheet.units import dim_of
+from handcheck.worksheet.values import read_frequency
 
-__all__ = ["CODES", "Context", "diagnose"]
+__all__ = ["CODES", "Context", "diagnose", "worksheet_frequencies"]
 
 CODES: tuple[str, ...] = (
     "series-as-parallel",
@@ -450,19 +452,31 @@ def _reversed_nodes(ctx: Context) -> str | None:
 _MOST_SOURCES = 8
 
 
+def worksheet_frequencies(quantities: Iterable[Quantity]) -> tuple[sympy.Expr, ...]:
+    """The angular frequencies (rad/s) named in ``at_frequency(Q, "...")`` anywhere in
+    the quantities (nested ones too), in order of first appearance."""
+    found: dict[sympy.Expr, None] = {}
+    pending = list(quantities)
+    while pending:
+        q = pending.pop(0)
+        if q.name == "at_frequency" and len(q.args) == 2 and isinstance(q.args[1], str):
+            try:
+                found.setdefault(read_frequency(q.args[1], q.text), None)
+            except HandcheckError:
+                pass  # the step itself reports it
+        pending.extend(a for a in q.args if isinstance(a, Quantity))
+    return tuple(found)
+
+
 def _other_frequency(ctx: Context) -> str | None:
-    """A reactance or impedance taken at another frequency of the worksheet: the
-    fundamental's value reused in a harmonic's analysis, or one source's frequency in
-    the other's. Common practice (harmonic filter design notes reuse the 50 Hz
+    """A reactance or impedance taken at another frequency of the worksheet (a
+    source's, or one a step names in at_frequency): the fundamental's value reused in
+    a harmonic's analysis, or one source's frequency in the other's. Common practice (harmonic filter design notes reuse the 50 Hz
     reactances; every reactance scales with the harmonic order)."""
     if ctx.truth is None or ctx.truth.dim not in (dim_of("ohm"), dim_of("S")) or ctx.circuit.omega == 0:
         return None
-    others: dict[sympy.Expr, None] = {}
-    for part in ctx.circuit.parts:
-        if part.source is not None:
-            for omega in part.source.frequencies:
-                if omega != ctx.circuit.omega and omega != 0:
-                    others.setdefault(omega, None)
+    named = [w for p in ctx.circuit.parts if p.source is not None for w in p.source.frequencies]
+    others = dict.fromkeys(w for w in (*named, *ctx.frequencies) if w != ctx.circuit.omega and w != 0)
     here = format_number(float(sympy.N(ctx.circuit.frequency)), 6)
     for omega in list(others)[:6]:
         hertz = format_number(float(sympy.N(omega / (2 * sympy.pi))), 6)

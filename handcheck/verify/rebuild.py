@@ -55,6 +55,8 @@ class Context:
     true_env: Mapping[str, Value]
     full_env: Mapping[str, Value]
     budget: Budget | None = None
+    #: angular frequencies (rad/s) that the worksheet's steps name, in at_frequency(...)
+    frequencies: tuple[sympy.Expr, ...] = ()
 
 
 def matches(ctx: Context, value: sympy.Expr | complex | None) -> bool:
