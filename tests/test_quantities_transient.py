@@ -353,3 +353,20 @@ C1 = { capacitor = "0.2 uF", nodes = ["out", "gnd"] }
     )
     steps = run(parts, [("wx", 'at(energy(C1), "3.2 ms")', "1 uJ")])
     assert_allclose(value(steps["wx"]), 0.2e-6 / 2 * sol.y[0][-1] ** 2, rtol=1e-6)
+
+
+def test_a_level_met_at_the_crest_is_reached_there() -> None:
+    # the level written as the exact overshoot crest 1 + exp(-pi zeta/sqrt(1 - zeta^2)) V with
+    # zeta = 1/2 is reached at the peak time t_p = pi/wd (Ogata, 5th ed., sec. 5-3, from memory)
+    step = run(RLC, [("tx", 'crossing_time(voltage(C1), "1 V + exp(-pi/sqrt(3))*1 V")', "3.628 ms")])["tx"]
+    assert step.verdict == "agrees"
+    assert_allclose(value(step), math.pi / (1000 * math.sqrt(0.75)), rtol=1e-13)
+
+
+def test_a_level_just_below_the_crest_is_found_beside_it() -> None:
+    # 1e-30 V below the crest the two crossings lie about sqrt(2e-30 V / |v''(t_p)|) ~ 3.5e-18 s
+    # either side of t_p = pi/wd (Ogata, 5th ed., sec. 5-3, from memory): the first is found, not refused
+    step = run(RLC, [("tx", 'crossing_time(voltage(C1), "1 V + exp(-pi/sqrt(3))*1 V - 1e-30 V")', "3.628 ms")])["tx"]
+    tp = math.pi / (1000 * math.sqrt(0.75))
+    assert_allclose(value(step), tp, rtol=1e-13)
+    assert value(step) < tp

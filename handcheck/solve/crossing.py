@@ -4,7 +4,8 @@ On each piece between delays the waveform is monotone between consecutive zeros 
 its derivative (bracketed on the grid of :mod:`handcheck.solve.pieces`, refined in
 mpmath), so ``f - level`` changes sign at most once between them; the first such
 interval (or the first delay at which the waveform jumps across the level) holds the
-first crossing. The root is refined by the Illinois variant of regula falsi and then
+first crossing; a crest that meets the level to within ``1e-45`` of the waveform's
+size counts as reaching it (the level of an exact peak). The root is refined by the Illinois variant of regula falsi and then
 certified: ``f - level`` is evaluated at :data:`~handcheck.solve.roots.WORK_DPS` + 20
 digits at both ends of an interval of relative width ``1e-35`` around it and must
 change sign there, so the reported time is within ``1e-35`` (relative) of a true
@@ -108,12 +109,13 @@ def _first_in_piece(seg: Any, g: Any, g0: Any, length: Any, scale: float, seen: 
     a, ga = mpmath.mpf(0), g0
     # lazily: the critical points are refined only up to the first crossing
     points = itertools.chain((refine_critical(seg, bracket) for bracket, _ in critical_brackets(seg, length, scale)), [length])
+    touch = mpmath.mpf(10) ** (-(WORK_DPS - 15)) * scale  # a crest that meets the level (g is quadratic there)
     for b in points:
         if b <= a:
             continue
         gb = g(b)
         seen.append(gb + target)
-        if gb == 0:
+        if abs(gb) <= touch:
             return b
         if (ga > 0) != (gb > 0):
             return _certified(g, illinois_root(g, a, b, ga, gb), a, b)
@@ -131,9 +133,22 @@ def _certified(g: Any, root: Any, a: Any, b: Any) -> Any:
         glo, ghi = g(lo), g(hi)
         if glo == 0 or ghi == 0 or (glo > 0) != (ghi > 0):
             return +root
-    raise LimitError(  # pragma: no cover - the bracket's signs were checked at 60 digits already
-        "the crossing time could not be certified to 35 digits (the waveform is too flat at the level)"
-    )
+        # regula falsi stalls where the waveform is flat at the level (just below a crest):
+        # bisect the bracket instead, keeping the sign change inside
+        ga, gb = g(a), g(b)
+        if ga != 0 and gb != 0 and (ga > 0) != (gb > 0):
+            for _ in range(600):
+                if b - a <= width:
+                    return (a + b) / 2
+                mid = (a + b) / 2
+                gm = g(mid)
+                if gm == 0:
+                    return mid
+                if (gm > 0) == (ga > 0):
+                    a, ga = mid, gm
+                else:
+                    b = mid
+    raise LimitError("the crossing time could not be certified to 35 digits (the waveform is too flat at the level)")
 
 
 def _exact_or(f: TimeFunction, level: Any, found: Any) -> Any:
