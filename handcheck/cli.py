@@ -200,7 +200,7 @@ def _record(args: argparse.Namespace, budget: Any) -> int:
         inputs = record_inputs(worksheet, evidence=not args.no_evidence, budget=budget)
         path = write_record(inputs, args.output)
         sys.stderr.write(f"handcheck: record written to {path}\n")
-        ok = inputs.report.ok and (inputs.evidence is None or inputs.evidence.ok)
+        ok = inputs.report.ok and all(f.ok for f in inputs.audit) and (inputs.evidence is None or inputs.evidence.ok)
         return EXIT_OK if ok else EXIT_DISAGREES
     stored = read_record(args.file)
     inputs = record_inputs(recorded_worksheet(stored, args.file), evidence="evidence" in stored["results"], budget=budget)

@@ -15,7 +15,7 @@ draw from that same evidence.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
@@ -213,10 +213,11 @@ def record_inputs(worksheet: Worksheet, *, evidence: bool = True, budget: Budget
     from handcheck.record.inputs import Inputs
 
     result = run_worksheet(worksheet, check=True, evidence=False, budget=budget)
+    made = Inputs(worksheet, result.circuit, result.report, audit=result.audit)
     if not evidence:
-        return Inputs(worksheet, result.circuit, result.report)
+        return made
     try:
         found = evidence_for(worksheet, result.circuit, result.exact)
     except HandcheckError as exc:
-        return Inputs(worksheet, result.circuit, result.report, None, f"the numerical solution could not be made: {exc}")
-    return Inputs(worksheet, result.circuit, result.report, found)
+        return replace(made, evidence_problem=f"the numerical solution could not be made: {exc}")
+    return replace(made, evidence=found)

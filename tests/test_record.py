@@ -108,10 +108,45 @@ def test_reactances_are_exact_in_the_record(bundled: dict) -> None:
     assert steps["XL"]["exact_typeset"]["mathml"] == mathml_of(12 * sympy.pi)
 
 
+def test_a_differing_audit_formula_is_in_the_record_and_its_summary(bundled: dict) -> None:
+    # piezo-coupling-audit: the note's cutoff 1/(2*pi*Rtop*Cc) against the first-order
+    # high-pass cutoff 1/(2*pi*Req*Cc), Req = Rtop || Rbot || Rin (textbook RC
+    # high-pass, from memory). At the nominal values the relative error is
+    # Req/Rtop - 1 = (1/1.1e-5)/200000 - 1 = -6/11.
+    record = json.loads(bundled["piezo-coupling-audit.toml"][".json"].read_text(encoding="utf-8"))
+    assert record["summary"]["ok"] is False
+    assert record["summary"]["audit_counts"] == {"differs": 1}
+    assert "audited formula differs" in record["summary"]["status"]
+    (entry,) = record["audit"]
+    assert entry["name"] == "fc_note" and entry["verdict"] == "differs" and entry["ok"] is False
+    assert entry["nominal_error"] == pytest.approx(-6 / 11, rel=1e-9)
+    labels = [label for label, _ in entry["rows"]]
+    assert labels[:4] == ["quantity", "formula", "exact", "how"] and "holds when" in labels
+    page = bundled["piezo-coupling-audit.toml"][".html"].read_text(encoding="utf-8")
+    assert 'id="audit-fc_note"' in page and "audited formula differs" in page
+    assert "Holds when" in page
+    markdown = bundled["piezo-coupling-audit.toml"][".md"].read_text(encoding="utf-8")
+    assert "### fc\\_note: differs" in markdown  # the underscore escaped for Markdown
+
+
+def test_a_source_shows_its_phasor_and_a_unit_keeps_its_number(bundled: dict) -> None:
+    # A sinusoidal source's value in the parts table is its phasor, not the zero DC
+    # value; "1 uF" in a substituted formula keeps its 1 (sympy's printer drops a
+    # factor 1); multi-letter names are kept apart by a centre dot.
+    record = json.loads(bundled["piezo-coupling-audit.toml"][".json"].read_text(encoding="utf-8"))
+    parts = {p["id"]: p for p in record["circuit"]["parts"]}
+    assert parts["Vsig"]["exact"] == "1/20" and parts["Vsig"]["engineering"] == "50 mV"
+    steps = {s["name"]: s for s in record["steps"]}
+    assert "<mn>1</mn>" in steps["fc"]["substituted_typeset"]["mathml"]
+    assert "&#xB7;" in steps["fc"]["formula_typeset"]["mathml"]
+
+
 def test_formulas_are_typeset_by_sympys_printers() -> None:
     shown = typeset_formula("2*pi*f*Lc", frozenset({"Lc"}))
     written = sympy.Mul(2, sympy.pi, sympy.Symbol("f"), sympy.Symbol("Lc"), evaluate=False)  # as written
-    assert latex_of(shown) == sympy.latex(written, order="none") == r"2 \pi f Lc"
+    # sympy's printer, with a centre dot because "Lc" is a name of two letters
+    assert latex_of(shown) == sympy.latex(written, order="none", mul_symbol="dot") == r"2 \cdot \pi \cdot f \cdot Lc"
+    assert latex_of(typeset_formula("2*pi*f*L", frozenset({"L"}))) == r"2 \pi f L"  # one-letter names: no dot
     assert shown.doit() - 2 * sympy.pi * sympy.Symbol("f") * sympy.Symbol("Lc") == 0
     assert latex_of(typeset_formula("Zc || Zs", frozenset({"Zc", "Zs"}))) == r"Zc \parallel Zs"
     # a number keeps its written digits (37.70, not 37.7)
@@ -128,7 +163,7 @@ def test_markdown_links_its_plots_beside_it(bundled: dict) -> None:
         svg = (md_path.parent / link).read_bytes()
         assert svg.lstrip().startswith(b"<svg")
         assert hashlib.sha256(svg).hexdigest() in text
-    assert "$2 \\pi f Lc$" in text
+    assert "$2 \\cdot \\pi \\cdot f \\cdot Lc$" in text
     assert record["evidence"] is not None
 
 

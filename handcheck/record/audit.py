@@ -9,7 +9,7 @@ from typing import Any
 
 from handcheck.audit.findings import AuditFinding
 
-__all__ = ["audit_dict", "audit_lines"]
+__all__ = ["audit_dict", "audit_lines", "audit_rows"]
 
 
 def _number(x: float | None) -> float | None:
@@ -69,44 +69,59 @@ def _wrap(text: str, indent: int = 2) -> list[str]:
     return textwrap.wrap(text, width=100, initial_indent=" " * indent, subsequent_indent=" " * (indent + 4))
 
 
+def audit_rows(finding: AuditFinding) -> list[tuple[str, str]]:
+    """One formula's audit as (label, text) rows: its formula, true expression, where it
+    holds, and its errors at the nominal values, in the worst case and by Monte Carlo.
+
+    The terminal block and the calculation record both show these rows.
+    """
+    f = finding
+    rows: list[tuple[str, str]] = [("quantity", f.quantity)]
+    if f.expression:
+        rows.append(("formula", f.expression + (f"  ({f.reference})" if f.reference else "")))
+    rows.append(("exact", f.true_expression + (f"  [{f.unit}]" if f.unit else "")))
+    rows.append(("how", f.method))
+    if f.verdict == "differs":
+        rows.append(("holds when", ", ".join(f.holds_when) if f.holds_when else "no single condition found"))
+    if f.nominal_error is not None:
+        what = "spread" if f.verdict == "spread" else "error"
+        rows.append((f"{what} at nominal", _percent(f.nominal_error)))
+    if f.worst_case is not None:
+        w = f.worst_case
+        at = ", ".join(f"{name} = {value:.6g}" for name, value in w.at)
+        spent = "" if w.complete else ", budget spent: bounds wider"
+        rows.append(("worst case", f"{_percent(w.low)} to {_percent(w.high)} ({w.method}{spent}), largest at {at}"))
+    if f.monte_carlo is not None:
+        m = f.monte_carlo
+        rows.append(
+            (
+                "Monte Carlo",
+                f"({m.samples:,} {m.distribution} samples, seed {m.seed}): mean {_percent(m.mean)}, "
+                f"std {m.std * 100:.4g} %, 1st to 99th percentile {_percent(m.p01)} to {_percent(m.p99)}",
+            )
+        )
+    rows.extend(("likely mistake", f"({d.mistake}): {d.detail}") for d in f.diagnosis)
+    rows.extend(("note", note) for note in f.notes)
+    return rows
+
+
+def _terminal_row(label: str, text: str) -> str:
+    if label in ("formula", "exact", "how"):
+        return f"{label:<8} {text}"
+    if label == "note":
+        return f"note: {text}"
+    return f"{label} {text}"
+
+
 def audit_lines(findings: tuple[AuditFinding, ...]) -> list[str]:
-    """The terminal block of the audit: per formula its verdict, true expression, where
-    it holds, and its errors at the nominal values, in the worst case and by Monte Carlo."""
+    """The terminal block of the audit: per formula a verdict line, then its rows
+    (:func:`audit_rows`)."""
     if not findings:
         return []
     lines = ["", "formula audit"]
     for f in findings:
         mark = "ok" if f.ok else "!!"
         lines.append(f"{mark} {f.name}: {f.quantity}  {f.verdict}")
-        if f.expression:
-            lines.extend(_wrap(f"formula  {f.expression}" + (f"  ({f.reference})" if f.reference else "")))
-        lines.extend(_wrap(f"exact    {f.true_expression}" + (f"  [{f.unit}]" if f.unit else "")))
-        lines.extend(_wrap(f"how      {f.method}"))
-        if f.verdict == "differs":
-            lines.extend(
-                _wrap("holds when " + (", ".join(f.holds_when) if f.holds_when else "no single condition found"))
-            )
-        if f.nominal_error is not None:
-            what = "spread" if f.verdict == "spread" else "error"
-            lines.extend(_wrap(f"{what} at nominal {_percent(f.nominal_error)}"))
-        if f.worst_case is not None:
-            w = f.worst_case
-            at = ", ".join(f"{name} = {value:.6g}" for name, value in w.at)
-            lines.extend(
-                _wrap(
-                    f"worst case {_percent(w.low)} to {_percent(w.high)} ({w.method}{'' if w.complete else ', budget spent: bounds wider'}), largest at {at}"
-                )
-            )
-        if f.monte_carlo is not None:
-            m = f.monte_carlo
-            lines.extend(
-                _wrap(
-                    f"Monte Carlo ({m.samples:,} {m.distribution} samples, seed {m.seed}): mean {_percent(m.mean)}, "
-                    f"std {m.std * 100:.4g} %, 1st to 99th percentile {_percent(m.p01)} to {_percent(m.p99)}"
-                )
-            )
-        for d in f.diagnosis:
-            lines.extend(_wrap(f"likely mistake ({d.mistake}): {d.detail}"))
-        for note in f.notes:
-            lines.extend(_wrap(f"note: {note}"))
+        for label, text in audit_rows(f)[1:]:  # the quantity is on the verdict line
+            lines.extend(_wrap(_terminal_row(label, text)))
     return lines

@@ -118,7 +118,8 @@ def _number(node: Number) -> sympy.Expr:
     if node.imaginary:
         value: sympy.Expr = Digits(digits + "j")
     else:
-        value = sympy.Integer(int(digits)) if digits.isdigit() else Digits(digits)
+        value = sympy.Integer(int(digits)) if digits.isdigit() and not node.unit else Digits(digits)
+    # With a unit, a number stays as written: sympy would print 1*uF as uF alone.
     unit = _unit(node.unit)
     return value if unit is None else sympy.Mul(value, unit, evaluate=False)
 
@@ -189,12 +190,20 @@ def mathml_of(expr: sympy.Expr) -> str:
     """Presentation MathML (the content of a ``math`` element) from sympy's printer."""
     from sympy.printing.mathml import mathml
 
-    return mathml(expr, printer="presentation", order="old")  # "old": factors in the order written
+    # "old": factors in the order written.
+    return mathml(expr, printer="presentation", order="old", mul_symbol=_multiplication(expr))
 
 
 def latex_of(expr: sympy.Expr) -> str:
     """LaTeX from sympy's printer."""
-    return sympy.latex(expr, order="none")
+    return sympy.latex(expr, order="none", mul_symbol=_multiplication(expr))
+
+
+def _multiplication(expr: sympy.Expr) -> str | None:
+    """A centre dot between factors where a name of several letters (``Req``, ``kΩ``)
+    would otherwise run into its neighbour (``Req Cc`` read as one word); none else."""
+    names = (a.name for a in expr.atoms(sympy.Symbol) if not isinstance(a, Digits))
+    return "dot" if any(len(name) > 1 for name in names) else None
 
 
 def typeset_formula(text: str, names: frozenset[str], values: Mapping[str, sympy.Expr] | None = None) -> sympy.Expr | None:

@@ -18,7 +18,8 @@ class Inputs:
     """What a record is made from.
 
     ``evidence`` is None when the numerical solution was not asked for; when it was
-    asked for but could not be had, ``evidence_problem`` says why.
+    asked for but could not be had, ``evidence_problem`` says why. ``audit`` holds the
+    formula audit's findings (empty without ``[[formula]]`` entries).
     """
 
     worksheet: Any
@@ -26,3 +27,4 @@ class Inputs:
     report: Any
     evidence: Any = None
     evidence_problem: str | None = None
+    audit: tuple[Any, ...] = ()  # the formula audit's findings, one per [[formula]]

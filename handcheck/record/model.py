@@ -9,6 +9,7 @@ printers, :mod:`handcheck.record.formula`).
 
 from __future__ import annotations
 
+import cmath
 import dataclasses
 import math
 import os
@@ -104,6 +105,14 @@ def _source_phasor(spec: Any, circuit: Any) -> sympy.Expr | None:
         return None
 
 
+def _engineering_phasor(phasor: sympy.Expr, unit: str) -> str:
+    """A phasor as its size in engineering notation and its angle in degrees."""
+    value = complex(sympy.N(phasor, 15))
+    size = engineering(abs(value), unit)
+    angle = math.degrees(cmath.phase(value))
+    return size if abs(angle) < 1e-9 else f"{size} ∠ {angle:.6g}°"
+
+
 def _circuit(inputs: Inputs) -> dict[str, Any]:
     circuit, sheet = inputs.circuit, inputs.worksheet
     written = {part.id: part for part in sheet.parts}
@@ -112,10 +121,18 @@ def _circuit(inputs: Inputs) -> dict[str, Any]:
     for part in circuit.parts:
         spec = written.get(part.id)
         value = part.value
-        try:
-            numeric = float(sympy.N(value, 15)) if value.is_real else None
-        except (TypeError, ValueError):
-            numeric = None
+        is_source = part.kind in ("voltage", "current") and spec is not None
+        phasor = _source_phasor(spec, circuit) if is_source else None
+        if phasor is not None and value == 0 and phasor != 0:
+            # A sinusoidal source: its value is the phasor (the DC value is zero).
+            engineered = _engineering_phasor(phasor, _UNITS.get(part.kind, ""))
+            value = phasor.xreplace({sympy.I: sympy.Symbol("j")})
+        else:
+            try:
+                numeric = float(sympy.N(value, 15)) if value.is_real else None
+            except (TypeError, ValueError):
+                numeric = None
+            engineered = engineering(numeric, _UNITS.get(part.kind, "")) if numeric is not None else sympy.sstr(value)
         parts.append(
             {
                 "id": part.id,
@@ -124,12 +141,11 @@ def _circuit(inputs: Inputs) -> dict[str, Any]:
                 "written": spec.value if spec else "",
                 "exact": sympy.sstr(value),
                 "exact_typeset": _typeset(value),
-                "engineering": engineering(numeric, _UNITS.get(part.kind, "")) if numeric is not None else sympy.sstr(value),
+                "engineering": engineered,
             }
         )
-        if part.kind in ("voltage", "current") and spec is not None:
+        if is_source:
             raw = keys.get(part.id, {})
-            phasor = _source_phasor(spec, circuit)
             sources.append(
                 {
                     "id": part.id,
@@ -198,23 +214,17 @@ def _step(step: Any, spec: Any, names: frozenset[str], values: dict[str, sympy.E
     }
 
 
-def _plain(value: Any) -> Any:
-    """Any findings value as JSON data (for audit results, whatever they hold)."""
-    if dataclasses.is_dataclass(value) and not isinstance(value, type):
-        return {f.name: _plain(getattr(value, f.name)) for f in dataclasses.fields(value) if f.repr}
-    if isinstance(value, dict):
-        return {str(k): _plain(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_plain(v) for v in value]
-    if isinstance(value, bool) or value is None or isinstance(value, (int, str)):
-        return value
-    if isinstance(value, float):
-        return _number(value)
-    return str(value)
+def _audit_entry(finding: Any) -> dict[str, Any]:
+    """One audited formula: the ``audit`` keys of check output format 1, and the rows
+    the terminal shows (label, text) for the record's table."""
+    from handcheck.record.audit import audit_dict, audit_rows
+
+    return {**audit_dict(finding), "ok": finding.ok, "rows": [[label, text] for label, text in audit_rows(finding)]}
 
 
-def _summary(report: Any, steps: list[dict[str, Any]]) -> dict[str, Any]:
+def _summary(report: Any, steps: list[dict[str, Any]], audit: tuple[Any, ...]) -> dict[str, Any]:
     verdicts = Counter(step["verdict"] for step in steps)
+    audited = Counter(finding.verdict for finding in audit)
     bases = Counter(step["basis"] for step in steps if step["basis"])
     first = report.first_divergence
     mistake = None
@@ -223,9 +233,19 @@ def _summary(report: Any, steps: list[dict[str, Any]]) -> dict[str, Any]:
         if step["diagnosis"]:
             mistake = {"step": step["name"], **step["diagnosis"][0]}
             break
+    steps_ok = report.ok
+    audit_ok = all(finding.ok for finding in audit)
+    if steps_ok and audit_ok:
+        status = "Every step agrees or is unchecked" + (", and every audited formula holds." if audit else ".")
+    elif steps_ok:
+        status = "Every step agrees or is unchecked, but an audited formula differs from the circuit."
+    else:
+        status = "Not every step agrees" + ("." if audit_ok else ", and an audited formula differs from the circuit.")
     return {
-        "ok": report.ok,
+        "ok": steps_ok and audit_ok,
+        "status": status,
         "steps": len(steps),
+        "audit_counts": dict(sorted(audited.items())) if audit else None,
         "verdict_counts": dict(sorted(verdicts.items())),
         "basis_counts": dict(sorted(bases.items())) if bases else None,
         "first_divergence": first,
@@ -284,10 +304,10 @@ def build_record(inputs: Inputs, plots: list[dict[str, str]] | None = None) -> d
         "date": record_date(),
         "author": getattr(sheet, "author", None),
         "checker": getattr(sheet, "checker", None),
-        "summary": _summary(report, steps),
+        "summary": _summary(report, steps, inputs.audit),
         "circuit": _circuit(inputs),
         "steps": steps,
-        "audit": _plain(list(getattr(report, "audit", ()) or ())),
+        "audit": [_audit_entry(finding) for finding in inputs.audit],
         "evidence": evidence_dict(inputs.evidence) if inputs.evidence is not None else None,
         "evidence_problem": inputs.evidence_problem,
         "plots": [{"title": p["title"], "file": p.get("file")} for p in plots or []],
