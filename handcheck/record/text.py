@@ -130,9 +130,9 @@ def render(
     status = "OK" if ok else "NOT OK"
     tail = f"; first divergence: {first}" if first else ""
     count = f"{len(report.steps)} step{'s' if len(report.steps) != 1 else ''}"
+    count += f" ({summary})" if summary else ""
     if audit:
         differ = sum(not finding.ok for finding in audit)
         count += f", {len(audit)} audited formula{'s' if len(audit) != 1 else ''} ({differ} not equivalent)"
-    summary = f" ({summary})" if summary else ""
-    lines.append(f"{status}: {count}{summary}{tail}")
+    lines.append(f"{status}: {count}{tail}")
     return "\n".join(lines)
