@@ -12,7 +12,7 @@ from dataclasses import dataclass
 import sympy
 
 from handcheck.budget import Budget
-from handcheck.circuit.model import Circuit, Part
+from handcheck.circuit.model import GROUND, Circuit, Part
 from handcheck.errors import HandcheckError, TimeLimitError
 from handcheck.solve.phasor import solve
 from handcheck.solve.quantities import Quantity, evaluate_quantity
@@ -30,6 +30,7 @@ __all__ = [
     "is_phasor",
     "matches",
     "matches_truth",
+    "node_voltages",
     "replaced",
     "requantify",
     "same",
@@ -75,6 +76,20 @@ def requantify(ctx: Context, circuit: Circuit) -> sympy.Expr | None:
         return None
     try:
         return evaluate_quantity(solve(circuit), ctx.quantity).expr
+    except TimeLimitError:
+        raise
+    except (HandcheckError, NotImplementedError, ZeroDivisionError):
+        return None
+
+
+def node_voltages(circuit: Circuit, nodes: tuple[str, ...]) -> tuple[sympy.Expr, ...] | None:
+    """The phasors of these nodes (ground is 0) from one exact solve (None when it fails)."""
+    try:
+        solution = solve(circuit)
+        return tuple(
+            sympy.Integer(0) if n == GROUND else evaluate_quantity(solution, Quantity("voltage", (n,), f"voltage({n})")).expr
+            for n in nodes
+        )
     except TimeLimitError:
         raise
     except (HandcheckError, NotImplementedError, ZeroDivisionError):
