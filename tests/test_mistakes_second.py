@@ -402,3 +402,28 @@ claim = "9.4248 ohm"
     assert finding(report, "X3").verdict == "agrees"
     assert codes(report, "XL") == ["other-frequency"]
     assert "150 Hz" in finding(report, "XL").diagnosis[0].detail
+
+
+def test_parallel_as_series_with_a_node_named_inside_the_quantity_word():
+    # R1 (30 ohm) and C1 (XC = -40 ohm) in series from a through node m to ground,
+    # Rs = 10 ohm from the source: looking into a, Z = Rs || (R1 + jXC) (series and
+    # parallel impedances, from memory). The slip: R1 and C1 taken in parallel. The node
+    # "m" is a letter of "impedance": the rewiring must still be tried.
+    xc = complex(0, -40)
+    par = lambda a, b: a * b / (a + b)  # noqa: E731
+    wrong = par(10, par(30, xc))
+    text = HEAD + f"""
+[parts]
+Vs = {{ voltage = "5 V", frequency = "50 Hz", nodes = ["in", "gnd"] }}
+Rs = {{ resistor = "10 ohm", nodes = ["in", "a"] }}
+R1 = {{ resistor = "30 ohm", nodes = ["a", "m"] }}
+C1 = {{ capacitor = "{C_F * 1e6:.12f} uF", nodes = ["m", "gnd"] }}
+
+[[step]]
+name = "Z"
+quantity = "impedance(a, gnd)"
+claim = "{polar(wrong, "ohm")}"
+"""
+    report = handcheck.check_text(text)
+    assert finding(report, "Z").verdict == "differs"
+    assert "parallel-as-series" in codes(report, "Z")

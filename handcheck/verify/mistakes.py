@@ -125,6 +125,18 @@ def _with_nodes(circuit: Circuit, parts: list[Part]) -> Circuit:
     return dataclasses.replace(circuit, parts=tuple(parts), nodes=tuple(nodes))
 
 
+def _names_in(q: Quantity) -> set[str]:
+    """Every node or part name a quantity refers to, nested quantities included (not
+    a substring of its text: a node "m" is not inside "impedance")."""
+    names: set[str] = set()
+    for arg in q.args:
+        if isinstance(arg, Quantity):
+            names |= _names_in(arg)
+        else:
+            names.add(arg)
+    return names
+
+
 def _rewired(ctx: Context, series_for_parallel: bool) -> str | None:
     """Two parts in parallel put in series (or two in series put in parallel), one
     pair at a time, and the quantity solved again."""
@@ -149,7 +161,7 @@ def _rewired(ctx: Context, series_for_parallel: bool) -> str | None:
                     continue
                 (middle,) = shared
                 touching = [p for p in circuit.parts if middle in p.nodes or (isinstance(p.control, tuple) and middle in p.control)]
-                if middle == "gnd" or len(touching) != 2 or middle in ctx.quantity.text:
+                if middle == "gnd" or len(touching) != 2 or middle in _names_in(ctx.quantity):
                     continue
                 ends = [n for n in (*first.nodes, *second.nodes) if n != middle]
                 parts[i] = dataclasses.replace(first, nodes=(ends[0], ends[1]))
