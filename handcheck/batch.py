@@ -23,7 +23,7 @@ from typing import Any, Literal
 
 from handcheck.errors import HandcheckError, TimeLimitError, WorksheetError
 
-__all__ = ["Options", "Outcome", "check_all", "check_one", "expand", "status_of", "summary_line"]
+__all__ = ["Options", "Outcome", "check_all", "check_one", "expand", "record_all", "status_of", "summary_line"]
 
 EXIT_OK, EXIT_DISAGREES, EXIT_BAD_INPUT = 0, 1, 2
 
@@ -167,6 +167,110 @@ def check_one(path: str, options: Options = Options()) -> Outcome:
     text = render(report, __version__, result.evidence, result.audit)
     status = EXIT_OK if result.ok else EXIT_DISAGREES
     return Outcome(path, status, data, text, time.monotonic() - started)
+
+
+def _record_one(path: str, folder: Path, name: str, evidence: bool, time_limit: float | None) -> Any:
+    from handcheck.budget import DEFAULT_TIME_LIMIT, Budget, watchdog
+    from handcheck.pipeline import record_inputs
+    from handcheck.record.index import Entry
+    from handcheck.record.write import write_record
+    from handcheck.worksheet.load import load
+
+    started = time.monotonic()
+
+    def refused(message: str) -> Entry:
+        return Entry(path, EXIT_BAD_INPUT, error=message, seconds=time.monotonic() - started)
+
+    budget = Budget(DEFAULT_TIME_LIMIT if time_limit is None else time_limit)
+    timer = watchdog(budget, path)
+    try:
+        inputs = record_inputs(load(path), evidence=evidence, budget=budget)
+        write_record(inputs, folder / name)
+    except (HandcheckError, TimeLimitError) as exc:
+        return refused(f"{'' if getattr(exc, 'file', None) else f'{path}: '}{exc}")
+    except OSError as exc:
+        return refused(f"{exc.filename or path}: {exc.strerror or exc}")
+    except RecursionError:
+        return refused(f"{path}: an expression is nested too deeply to read")
+    finally:
+        if timer is not None:
+            timer.cancel()
+    report = inputs.report
+    ok = report.ok and all(f.ok for f in inputs.audit) and (inputs.evidence is None or inputs.evidence.ok)
+    verdicts: dict[str, int] = {}
+    for step in report.steps:
+        verdicts[step.verdict] = verdicts.get(step.verdict, 0) + 1
+    audited: dict[str, int] = {}
+    for finding in inputs.audit:
+        audited[finding.verdict] = audited.get(finding.verdict, 0) + 1
+    return Entry(
+        path,
+        EXIT_OK if ok else EXIT_DISAGREES,
+        file=name,
+        title=report.title,
+        steps=len(report.steps),
+        verdict_counts=dict(sorted(verdicts.items())),
+        audit_counts=dict(sorted(audited.items())),
+        seconds=time.monotonic() - started,
+    )
+
+
+def record_all(
+    paths: Sequence[str],
+    folder: str | Path,
+    fmt: str = "html",
+    *,
+    evidence: bool = True,
+    time_limit: float | None = None,
+    done: Callable[[Any], None] | None = None,
+) -> tuple[tuple[Any, ...], Path]:
+    """Write one record per worksheet into ``folder``, then the index page.
+
+    Parameters
+    ----------
+    paths
+        Worksheet files (see :func:`handcheck.batch.expand`).
+    folder
+        The output folder (made if missing).
+    fmt
+        The records' format: ``"html"``, ``"md"`` or ``"json"``.
+    evidence
+        Add the numerical time-domain solution to each record.
+    time_limit
+        Seconds allowed for each worksheet (``None``: the default limit).
+    done
+        Called with each entry as it is finished.
+
+    Returns
+    -------
+    tuple
+        The entries (:class:`handcheck.record.index.Entry`) in the order of ``paths``, and the index file written.
+
+    Raises
+    ------
+    HandcheckError
+        When ``folder`` exists and is no folder.
+    OSError
+        When the folder or the index cannot be written.
+    """
+    from handcheck.record.document import write_atomic
+    from handcheck.record.index import index_name, record_name, render_index
+
+    target = Path(folder)
+    if target.exists() and not target.is_dir():
+        raise HandcheckError(f'"{target}" is a file; records of several worksheets go into a folder: name one with -o')
+    target.mkdir(parents=True, exist_ok=True)
+    taken: set[str] = set()
+    entries = []
+    for path in paths:
+        name = record_name(path, f".{fmt}", taken)
+        taken.add(name)
+        entries.append(_record_one(path, target, name, evidence, time_limit))
+        if done is not None:
+            done(entries[-1])
+    index = target / index_name("md" if fmt == "md" else "html")
+    write_atomic(index, render_index(entries, "md" if fmt == "md" else "html").encode("utf-8"))
+    return tuple(entries), index
 
 
 def _pool_context() -> Any:

@@ -55,8 +55,13 @@ def _parser() -> argparse.ArgumentParser:
     simulate.add_argument("--json", action="store_true", help="print the evidence as JSON")
     simulate.add_argument("--time-limit", type=_seconds, default=None, metavar="SECONDS", help="wall-clock budget")
     record = commands.add_parser("record", help="check a worksheet and write its calculation record")
-    record.add_argument("file", metavar="FILE", help="the worksheet (TOML, format 1)")
-    record.add_argument("-o", "--output", required=True, metavar="OUT", help="the record: .html, .md or .json")
+    record.add_argument("paths", nargs="+", metavar="PATH", help="the worksheet (TOML, format 1), or several and folders")
+    record.add_argument(
+        "-o", "--output", required=True, metavar="OUT", help="the record (.html, .md or .json), or a folder for several"
+    )
+    record.add_argument(
+        "--format", choices=("html", "md", "json"), default=None, help="records into the folder OUT in this format (default html)"
+    )
     record.add_argument("--no-evidence", action="store_true", help="leave out the numerical solution and its plots")
     record.add_argument("--time-limit", type=_seconds, default=None, metavar="SECONDS", help="wall-clock budget")
     reverify = commands.add_parser("reverify", help="re-run the worksheet embedded in a record and compare")
@@ -84,7 +89,26 @@ def _jobs(text: str) -> int:
 def _is_batch(args: argparse.Namespace) -> bool:
     from pathlib import Path
 
+    if args.command == "record":
+        return len(args.paths) > 1 or Path(args.paths[0]).is_dir() or args.format is not None
     return args.command == "check" and (len(args.paths) > 1 or Path(args.paths[0]).is_dir())
+
+
+def _records(args: argparse.Namespace) -> int:
+    from handcheck.batch import expand, record_all
+    from handcheck.record.index import status_of
+
+    paths = expand(args.paths)
+    if not args.no_evidence:
+        sys.stderr.write("handcheck: solving the circuits numerically in time...\n")
+    entries, index = record_all(
+        paths, args.output, args.format or "html", evidence=not args.no_evidence, time_limit=args.time_limit
+    )
+    for entry in entries:
+        if entry.error:
+            sys.stderr.write(f"handcheck: {entry.error}\n")
+    sys.stderr.write(f"handcheck: {sum(1 for e in entries if e.file)} records and the index written to {index}\n")
+    return status_of(entries)
 
 
 def _batch(args: argparse.Namespace) -> int:
@@ -227,9 +251,11 @@ def main(argv: Sequence[str] | None = None) -> int:
     if args.command is None:
         parser.print_help(sys.stderr)
         return EXIT_BAD_INPUT
-    if args.command == "check":
+    if args.command in ("check", "record"):
         args.file = args.paths[0]
     try:
+        if args.command == "record" and _is_batch(args):
+            return _records(args)
         return _batch(args) if _is_batch(args) else _run(args)
     except (HandcheckError, TimeLimitError) as exc:
         where = "" if exc.file else f"{args.file}: "

@@ -15,12 +15,13 @@ from typing import Any
 
 from handcheck.record.document import data_line, digest_line
 
-__all__ = ["render_html", "render_json", "render_markdown"]
+__all__ = ["environment", "render_html", "render_json", "render_markdown"]
 
 _MD_SPECIAL = re.compile(r"([\\`*_\[\]|#!{}$~])")
 
 
-def _environment(autoescape: bool) -> Any:
+def environment(autoescape: bool) -> Any:
+    """The jinja2 environment of the record templates (HTML: every value escaped)."""
     import jinja2
 
     env = jinja2.Environment(
@@ -94,13 +95,13 @@ def render_html(record: dict[str, Any], plots: list[dict[str, str]]) -> str:
     from markupsafe import Markup
 
     shown = [{"title": p["title"], "svg": Markup(p["svg"])} for p in plots]
-    page = _environment(True).get_template("record.html.j2").render(record=_math(record), plots=shown)
+    page = environment(True).get_template("record.html.j2").render(record=_math(record), plots=shown)
     return page + data_line(_reverify_data(record)) + "\n" + digest_line() + "\n"
 
 
 def render_markdown(record: dict[str, Any]) -> str:
     """The record as Markdown: tables, ``$...$`` LaTeX, plots linked as SVG files beside it."""
-    page = _environment(False).get_template("record.md.j2").render(record=record)
+    page = environment(False).get_template("record.md.j2").render(record=record)
     return page + "\n" + data_line(_reverify_data(record)) + "\n" + digest_line() + "\n"
 
 
