@@ -23,7 +23,7 @@ from typing import Any, Literal
 
 from handcheck.errors import HandcheckError, TimeLimitError, WorksheetError
 
-__all__ = ["Options", "Outcome", "check_all", "check_one", "expand", "record_all", "status_of", "summary_line"]
+__all__ = ["Options", "Outcome", "check_all", "check_one", "expand", "print_summary_table", "record_all", "status_of", "summary_line", "summary_rows", "summary_table"]
 
 EXIT_OK, EXIT_DISAGREES, EXIT_BAD_INPUT = 0, 1, 2
 
@@ -364,6 +364,66 @@ def summary_line(outcomes: Sequence[Outcome]) -> str:
     kinds = [outcome.kind for outcome in outcomes]
     seconds = sum(outcome.seconds for outcome in outcomes)
     return f"{line}: {kinds.count('ok')} ok, {kinds.count('differ')} differ, {kinds.count('refused')} refused ({seconds:.1f} s of checking)"
+
+
+SUMMARY_HEADER = ("worksheet", "steps", "verdicts", "seconds")
+
+
+def summary_rows(outcomes: Sequence[Outcome]) -> list[tuple[str, str, str, str]]:
+    """One row per worksheet: path, number of steps, verdict counts (steps, then audited
+    formulas), seconds of checking; a refused worksheet shows ``refused``.
+
+    >>> summary_rows([Outcome("a.toml", 0, {"steps": [{"verdict": "agrees"}] * 2, "audit": []}, "", 0.25)])
+    [('a.toml', '2', '2 agrees', '0.2')]
+    """
+    rows = []
+    for outcome in outcomes:
+        if outcome.error:
+            rows.append((outcome.path, "-", "refused", f"{outcome.seconds:.1f}"))
+            continue
+        steps = outcome.data.get("steps") or []
+        counts: dict[str, int] = {}
+        for step in steps:
+            counts[step["verdict"]] = counts.get(step["verdict"], 0) + 1
+        shown = ", ".join(f"{n} {verdict}" for verdict, n in sorted(counts.items()))
+        audited: dict[str, int] = {}
+        for finding in outcome.data.get("audit") or []:
+            verdict = str(finding.get("verdict", "?"))
+            audited[verdict] = audited.get(verdict, 0) + 1
+        if audited:
+            shown += "; audit " + ", ".join(f"{n} {verdict}" for verdict, n in sorted(audited.items()))
+        rows.append((outcome.path, str(len(steps)), shown, f"{outcome.seconds:.1f}"))
+    return rows
+
+
+def summary_table(outcomes: Sequence[Outcome]) -> str:
+    """:func:`summary_rows` as plain text in aligned columns (for logs and pipes)."""
+    rows = [SUMMARY_HEADER, *summary_rows(outcomes)]
+    widths = [max(len(row[i]) for row in rows) for i in range(len(SUMMARY_HEADER))]
+    lines = []
+    for row in rows:
+        cells = [row[0].ljust(widths[0]), row[1].rjust(widths[1]), row[2].ljust(widths[2]), row[3].rjust(widths[3])]
+        lines.append("  ".join(cells).rstrip())
+    return "\n".join(lines)
+
+
+def print_summary_table(outcomes: Sequence[Outcome]) -> None:
+    """The summary table on stdout: drawn with rich when stdout is a terminal, else plain text."""
+    if getattr(sys.stdout, "isatty", None) and sys.stdout.isatty():
+        try:
+            from rich.console import Console
+            from rich.table import Table
+        except ImportError:
+            pass
+        else:
+            table = Table(*SUMMARY_HEADER)
+            for column in (1, 3):
+                table.columns[column].justify = "right"
+            for row in summary_rows(outcomes):
+                table.add_row(*row)
+            Console().print(table)
+            return
+    print(summary_table(outcomes))
 
 
 def stderr_is_terminal() -> bool:

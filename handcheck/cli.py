@@ -112,7 +112,7 @@ def _records(args: argparse.Namespace) -> int:
 
 
 def _batch(args: argparse.Namespace) -> int:
-    from handcheck.batch import Options, check_all, expand, progress, status_of, summary_line
+    from handcheck.batch import Options, check_all, expand, print_summary_table, progress, status_of, summary_line
 
     if args.plot:
         raise WorksheetError("--plot draws the evidence of one worksheet: give one FILE, not several or a folder")
@@ -129,6 +129,8 @@ def _batch(args: argparse.Namespace) -> int:
         print(json.dumps([outcome.data for outcome in outcomes], ensure_ascii=False))
     else:
         print("\n\n".join(f"== {outcome.path} ==\n{outcome.text}" for outcome in outcomes))
+        print()
+        print_summary_table(outcomes)
         print(f"\n{summary_line(outcomes)}")
     if args.junit:
         _junit([(outcome.data, outcome.seconds) for outcome in outcomes], args.junit)
