@@ -113,11 +113,15 @@ def expand(paths: Sequence[str]) -> tuple[str, ...]:
     return tuple(found)
 
 
-def _refused(path: str, message: str, started: float) -> Outcome:
+def refused_data(path: str, message: str) -> dict[str, Any]:
+    """The error object of a worksheet that could not be checked (check output format 1)."""
     from handcheck import __version__
 
-    data = {"handcheck": __version__, "worksheet": path, "ok": False, "error": message}
-    return Outcome(path, EXIT_BAD_INPUT, data, f"refused: {message}", time.monotonic() - started)
+    return {"handcheck": __version__, "worksheet": path, "ok": False, "error": message}
+
+
+def _refused(path: str, message: str, started: float) -> Outcome:
+    return Outcome(path, EXIT_BAD_INPUT, refused_data(path, message), f"refused: {message}", time.monotonic() - started)
 
 
 def check_one(path: str, options: Options = Options()) -> Outcome:

@@ -146,10 +146,10 @@ def _junit(entries: list[tuple[dict[str, Any], float]], out: str) -> None:
 
 def _junit_refused(args: argparse.Namespace, message: str) -> None:
     """The JUnit file of one worksheet that could not be checked (one test case with an error)."""
-    from handcheck import __version__
+    from handcheck.batch import refused_data
 
     try:
-        _junit([({"handcheck": __version__, "worksheet": args.file, "ok": False, "error": message}, 0.0)], args.junit)
+        _junit([(refused_data(args.file, message), 0.0)], args.junit)
     except OSError as exc:
         sys.stderr.write(f"handcheck: {exc.filename or args.junit}: {exc.strerror or exc}\n")
 
@@ -246,6 +246,38 @@ def _plot(result: Any, out: str) -> None:
     sys.stderr.write(f"handcheck: plots written to {path}\n")
 
 
+def _refuse(args: argparse.Namespace, message: str) -> int:
+    """Exit status 2: the one-line message on stderr and, with --json (one worksheet), the
+    error object on stdout, so that stdout is always one JSON value."""
+    sys.stderr.write(f"handcheck: {message}\n")
+    if getattr(args, "json", False) and args.command == "check" and not _is_batch(args):
+        from handcheck.batch import refused_data
+
+        print(json.dumps(refused_data(args.file, message), ensure_ascii=False))
+    return EXIT_BAD_INPUT
+
+
+def _not_over_inputs(args: argparse.Namespace) -> None:
+    """Refuse an output path (record -o, --plot, --junit) that is one of the input worksheets."""
+    from pathlib import Path
+
+    inputs = [Path(p) for p in getattr(args, "paths", None) or [args.file] if not Path(p).is_dir()]
+    for option in ("output", "plot", "junit"):
+        out = getattr(args, option, None)
+        if not out:
+            continue
+        for path in inputs:
+            try:
+                same = Path(out).resolve() == path.resolve() or (
+                    Path(out).exists() and path.exists() and Path(out).samefile(path)
+                )
+            except OSError:
+                same = False
+            if same:
+                flag = "-o" if option == "output" else f"--{option}"
+                raise WorksheetError(f'{flag} {out} is the worksheet itself; write the output to another file')
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; return the exit status."""
     parser = _parser()
@@ -256,22 +288,20 @@ def main(argv: Sequence[str] | None = None) -> int:
     if args.command in ("check", "record"):
         args.file = args.paths[0]
     try:
+        _not_over_inputs(args)
         if args.command == "record" and _is_batch(args):
             return _records(args)
         return _batch(args) if _is_batch(args) else _run(args)
     except (HandcheckError, TimeLimitError) as exc:
         where = "" if exc.file else f"{args.file}: "
-        sys.stderr.write(f"handcheck: {where}{exc}\n")
-        if getattr(args, "junit", None) and not _is_batch(args):
+        if getattr(args, "junit", None) and not _is_batch(args) and "is the worksheet itself" not in str(exc):
             _junit_refused(args, f"{where}{exc}")
-        return EXIT_BAD_INPUT
+        return _refuse(args, f"{where}{exc}")
     except OSError as exc:  # a plot that cannot be written, for one
         target = exc.filename or args.file
-        sys.stderr.write(f"handcheck: {target}: {exc.strerror or exc}\n")
-        return EXIT_BAD_INPUT
+        return _refuse(args, f"{target}: {exc.strerror or exc}")
     except RecursionError:
-        sys.stderr.write(f"handcheck: {args.file}: an expression is nested too deeply to read\n")
-        return EXIT_BAD_INPUT
+        return _refuse(args, f"{args.file}: an expression is nested too deeply to read")
     except KeyboardInterrupt:
         sys.stderr.write("handcheck: interrupted\n")
         return 130

@@ -17,7 +17,7 @@ import sympy
 
 from handcheck.errors import HandcheckError, ParseError, WorksheetError
 from handcheck.worksheet.evaluate import evaluate
-from handcheck.worksheet.expr import Node, Number, names_in, one_line, parse, printable, tokenize, walk
+from handcheck.worksheet.expr import Node, Number, foreign_digit, names_in, one_line, parse, printable, tokenize, walk
 from handcheck.worksheet.units import DIMENSIONLESS, dim_of
 
 __all__ = [
@@ -334,6 +334,9 @@ class _AuditReader:
         text = value.strip() if isinstance(value, str) else ""
         if not text.endswith("%"):
             raise self.fail(f'tolerance of part "{ident}" must be a percentage in quotes, like tolerance = "5%"', line)
+        foreign = next((ch for ch in text if ch.isdecimal() and not ch.isascii()), None)
+        if foreign is not None:  # Fraction() would read "٥%" as 5 %
+            raise self.fail(f'tolerance of part "{ident}": {foreign_digit(foreign)}', line)
         try:
             number = Fraction(text[:-1].strip()) / 100
         except (ValueError, ZeroDivisionError):

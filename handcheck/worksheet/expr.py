@@ -23,6 +23,7 @@ A number and the unit after it bind as one value, so ``t/3.2 ms`` divides by
 from __future__ import annotations
 
 import re
+import unicodedata
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from fractions import Fraction
@@ -101,10 +102,17 @@ class Call(Node):
     args: tuple[Node, ...]
 
 
-_NUMBER = re.compile(r"(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?")
+# Digits are ASCII 0-9 only (re.ASCII): a str pattern's \d also matches every Unicode
+# decimal digit (general category Nd: Arabic-Indic, fullwidth, Devanagari ...), which
+# would read silently as numbers. Those are refused by name in tokenize().
+_NUMBER = re.compile(r"(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?", re.ASCII)
 _NAME = re.compile(r"[A-Za-z_Ωµμ°ω][A-Za-z0-9_Ωµμω]*")
 #: "j4.5" as engineers write an imaginary number (part names of this shape are refused).
-_J_NUMBER = re.compile(r"j((?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)")
+_J_NUMBER = re.compile(r"j((?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)", re.ASCII)
+#: U+2126 OHM SIGN is canonically equivalent to U+03A9 GREEK CAPITAL LETTER OMEGA (its
+#: canonical decomposition in UnicodeData.txt; NFC maps it to U+03A9), so both read as
+#: the same unit sign. One character for one: columns stay where they were.
+OHM_SIGN = "\u2126"
 _OPS = ("**", "||", "/_", "∠", "+", "-", "*", "/", "^", "(", ")", ",")
 
 
@@ -125,6 +133,14 @@ def one_line(exc: HandcheckError) -> HandcheckError:
     return exc
 
 
+def foreign_digit(ch: str) -> str:
+    """The message for a decimal digit other than ASCII 0-9, naming it by its Unicode name."""
+    return (
+        f'the digit "{ch}" (U+{ord(ch):04X} {unicodedata.name(ch, "DIGIT")}) is not one handcheck reads; '
+        "write numbers with the digits 0-9"
+    )
+
+
 def tokenize(text: str) -> list[Token]:
     """Split ``text`` into tokens; raise :class:`ParseError` on a character that has no place."""
     if len(text) > MAX_LENGTH:
@@ -132,6 +148,7 @@ def tokenize(text: str) -> list[Token]:
             f"the text is {len(text):,} characters long; handcheck reads at most {MAX_LENGTH:,} in one formula, "
             "claim or value; split the calculation into steps"
         )
+    text = text.replace(OHM_SIGN, "\u03a9")
     tokens: list[Token] = []
     pos = 0
     glued = False
@@ -169,6 +186,8 @@ def tokenize(text: str) -> list[Token]:
             hint = ""
             if ch in "`$;\"'[]{}=!<>&|@#\\":
                 hint = ": formulas hold only numbers, units, names, operators + - * / ^ || and parentheses"
+            if ch.isdecimal():  # Unicode general category Nd, not 0-9 (those matched above)
+                raise ParseError(foreign_digit(ch), printable(text), pos + 1)
             shown = f'"{ch}"' if ch.isprintable() else f"U+{ord(ch):04X} (an invisible character; delete it)"
             raise ParseError(f"unexpected character {shown}{hint}", printable(text), pos + 1)
     tokens.append(Token("end", "", len(text), False))

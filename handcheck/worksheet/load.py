@@ -110,7 +110,16 @@ def load(path: str | Path) -> Worksheet:
             raise LimitError(
                 f"the file is {size:,} bytes; a worksheet may be at most {MAX_BYTES:,} bytes", file=name
             )
-        data = Path(path).read_bytes()
+        # The reported size is 0 for a pipe or a device (/dev/zero): read one byte past the
+        # limit whatever it claims, never more.
+        with open(path, "rb") as stream:
+            data = stream.read(MAX_BYTES + 1)
+        if len(data) > MAX_BYTES:
+            raise LimitError(
+                f"the file holds more than {MAX_BYTES:,} bytes (its size was reported as {size:,}); "
+                f"a worksheet may be at most {MAX_BYTES:,} bytes",
+                file=name,
+            )
     except FileNotFoundError:
         raise WorksheetError("no such file", file=name) from None
     except IsADirectoryError:
@@ -121,8 +130,12 @@ def load(path: str | Path) -> Worksheet:
         text = data.decode("utf-8")
     except UnicodeDecodeError as exc:
         line = data[: exc.start].count(b"\n") + 1
+        # RFC 3629 section 4 gives the well-formed byte sequences; Python's codec follows it
+        # (no surrogates U+D800-DFFF, no overlong forms, nothing above U+10FFFF).
         raise WorksheetError(
-            f"the file is not UTF-8 text (byte 0x{data[exc.start]:02x}); save it as UTF-8", file=name, line=line
+            f"the file is not UTF-8 text (byte 0x{data[exc.start]:02x} at byte offset {exc.start:,}); save it as UTF-8",
+            file=name,
+            line=line,
         ) from None
     return loads(text, name, sha256=hashlib.sha256(data).hexdigest())
 
@@ -142,6 +155,11 @@ def loads(text: str, path: str = "<worksheet>", *, sha256: str | None = None) ->
         raise LimitError(f"the worksheet is larger than {MAX_BYTES:,} bytes", file=path)
     if sha256 is None:
         sha256 = hashlib.sha256(encoded).hexdigest()
+    if text.startswith("\ufeff"):
+        # A byte-order mark some editors write at the start of a UTF-8 file (the Unicode
+        # standard, section 23.8 "Specials": U+FEFF as a signature); not part of the text.
+        text = text[1:]
+    _check_nesting(text, path)
     if not text.strip():
         raise WorksheetError("the file is empty; a worksheet starts with a [worksheet] table", file=path)
     try:
@@ -151,7 +169,57 @@ def loads(text: str, path: str = "<worksheet>", *, sha256: str | None = None) ->
         reason = re.sub(r"\s*\(at line \d+, column \d+\)", "", str(exc)).rstrip(".")
         line = int(match.group(1)) if match else None
         raise WorksheetError(f"not valid TOML: {reason}", file=path, line=line) from None
-    return _Reader(path, text, sha256, data).worksheet()
+    reader = _Reader(path, text, sha256, data)
+    reader.check_sizes(data, ())
+    return reader.worksheet()
+
+
+#: Deepest nesting of TOML arrays and inline tables read (a worksheet needs 3: a part's
+#: inline table holding a nodes array). TOML 1.0 sets no limit; the parser recurses.
+MAX_NESTING = 20
+#: Most items in one array of values (arrays of [[step]] and [[formula]] tables have
+#: their own limits), and the longest string, in characters, before any stripping.
+MAX_ITEMS = 1000
+MAX_TEXT = 10_000
+_TOKENS = re.compile(r"""\\.|'''|\"\"\"|["'#\[\]{}\n]""")
+
+
+def _check_nesting(text: str, path: str) -> None:
+    """Refuse arrays and inline tables nested deeper than :data:`MAX_NESTING`, with the line.
+
+    A scan of the TOML 1.0 lexical structure (toml.io/en/v1.0.0): brackets inside basic,
+    literal and multi-line strings and in comments do not count; table headers [a] and
+    [[a]] open and close on their own line.
+    """
+    depth, line, quote, comment = 0, 1, "", False
+    for match in _TOKENS.finditer(text):
+        token = match.group()
+        if token == "\n":
+            line += 1
+            comment = False
+            if len(quote) == 1:
+                quote = ""  # a one-line string cannot go on; tomllib reports that error
+            continue
+        if comment:
+            continue
+        if quote:
+            if token == quote or (quote == "'" and token == "\\'"):
+                quote = ""  # in a literal string a backslash is only a backslash
+            continue
+        if token in ('"', "'", '"""', "'''"):
+            quote = token
+        elif token == "#":
+            comment = True
+        elif token in ("[", "{"):
+            depth += 1
+            if depth > MAX_NESTING:
+                raise LimitError(
+                    f"arrays and tables are nested more than {MAX_NESTING} levels deep; a worksheet needs three at most",
+                    file=path,
+                    line=line,
+                )
+        elif token in ("]", "}"):
+            depth = max(depth - 1, 0)
 
 
 class _Reader:
@@ -161,6 +229,38 @@ class _Reader:
         self.sha256 = sha256
         self.data = data
         self.where = _Locator(text)
+
+    def check_sizes(self, value: Any, where: tuple[str, ...]) -> None:
+        """Refuse overlong strings and arrays anywhere in the file, before any stripping."""
+        if isinstance(value, str) and len(value) > MAX_TEXT:
+            raise LimitError(
+                f'the text of "{".".join(where)}" is {len(value):,} characters long; '
+                f"a worksheet text may be at most {MAX_TEXT:,} characters",
+                file=self.path,
+                line=self._line(where),
+            )
+        if isinstance(value, dict):
+            for key, item in value.items():
+                self.check_sizes(item, (*where, str(key)))
+        elif isinstance(value, list):
+            if len(value) > MAX_ITEMS and not (len(where) == 1 and all(isinstance(v, dict) for v in value)):
+                raise LimitError(
+                    f'the array "{".".join(where)}" holds {len(value):,} items; '
+                    f"a worksheet array may hold at most {MAX_ITEMS:,}",
+                    file=self.path,
+                    line=self._line(where),
+                )
+            for index, item in enumerate(value):
+                self.check_sizes(item, (*where, str(index)))
+
+    def _line(self, where: tuple[str, ...]) -> int | None:
+        if len(where) >= 2 and where[0] == "parts":
+            return self.where.part(where[1])
+        if len(where) >= 3 and where[0] in ("step", "formula") and where[1].isdigit():
+            return self.where.key(f"{where[0]}.{where[1]}", where[2])
+        if len(where) >= 2:
+            return self.where.key(where[0], where[1])
+        return None
 
     def fail(self, message: str, line: int | None = None) -> WorksheetError:
         return WorksheetError(printable(message), file=self.path, line=line)

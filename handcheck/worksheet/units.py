@@ -159,6 +159,7 @@ def lookup_unit(name: str) -> UnitValue:
     UnitError
         If the word is not a unit, or is a dimensionless unit other than an angle.
     """
+    name = name.replace("\u2126", "\u03a9")  # OHM SIGN, canonically equivalent to GREEK CAPITAL OMEGA
     if name in _ANGLES:
         return UnitValue(name, _ANGLES[name], DIMENSIONLESS)
     if not name or not all(ch.isalnum() or ch in "_Ωµμ" for ch in name):
