@@ -303,3 +303,30 @@ def test_a_formula_in_the_wrong_unit() -> None:
     found = _audit(LOADED + _formula("Z", "impedance(R)", "1/R"))["Z"]
     assert found.verdict == "unit"
     assert [d.mistake for d in found.diagnosis] == ["impedance-as-admittance"]
+
+
+# -- display of a root of a perfect square --------------------------------------------
+# First-order RC high-pass loaded by a second resistor: w_c = 1/(R_eq C) with
+# R_eq = R1 || R2 (textbook single-pole cutoff, from memory). The truth is found as
+# a square, w_c^2 = (R1 + R2)^2/(C^2 R1^2 R2^2), and shown as its exact root.
+def test_cutoff_found_as_a_square_is_shown_as_its_root() -> None:
+    text = (
+        HEAD
+        + """
+[parts]
+Vin = { voltage = "1 V", frequency = "100 Hz", nodes = ["in", "gnd"] }
+C = { capacitor = "1 uF", tolerance = "10%", nodes = ["in", "x"] }
+R1 = { resistor = "10 kohm", tolerance = "1%", nodes = ["x", "gnd"] }
+R2 = { resistor = "40 kohm", tolerance = "1%", nodes = ["x", "gnd"] }
+
+[audit]
+samples = 1000
+"""
+        + _formula("wc", "cutoff_frequency(network_function(voltage(x), voltage(in)))", "1/(2*pi*R1*C)")
+    )
+    found = _audit(text)["wc"]
+    assert found.verdict == "differs"
+    assert "sqrt" not in found.true_expression
+    assert found.true_expression.replace(" ", "") in ("abs((R1+R2)/(C*R1*R2))/(2*pi)", "abs((R1+R2)/(R1*R2*C))/(2*pi)")
+    # nominal: R_eq/R1 - 1 = 8000/10000 - 1 = -0.2, the formula's f is 1/(2 pi R1 C) = 0.8 f_c
+    assert found.nominal_error == pytest.approx(-0.2, rel=1e-12)

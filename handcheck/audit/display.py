@@ -8,6 +8,7 @@ Printed by sympy's own printer (``**`` for powers, as the formula language reads
 from __future__ import annotations
 
 import sympy
+from sympy.printing.str import StrPrinter
 
 from handcheck.audit.ring import RatFunc, Ring
 from handcheck.audit.truth import Truth, coefficients_in_s
@@ -63,5 +64,33 @@ def true_expression(ring: Ring, truth: Truth) -> str:
     assert truth.value is not None
     expr = _plain(truth.value, truth.in_s)
     if truth.form == "square":
-        expr = sympy.sqrt(expr)
-    return sympy.sstr(expr)
+        expr = _square_root(expr)
+    return _Printer().doprint(expr)
+
+
+class _Printer(StrPrinter):
+    """sympy's text printer, with ``abs(x)`` as the formula language writes it."""
+
+    def _print_Abs(self, expr: sympy.Abs) -> str:
+        return f"abs({self._print(expr.args[0])})"
+
+
+def _exact_root(poly: sympy.Expr) -> sympy.Expr | None:
+    """The square root of a polynomial that is a perfect square (every factor to an
+    even power, a square coefficient), up to sign; otherwise None."""
+    coefficient, factors = sympy.factor_list(poly)
+    root = sympy.sqrt(coefficient)
+    if not (coefficient > 0 and root.is_Rational) or any(power % 2 for _, power in factors):
+        return None
+    return sympy.Mul(root, *(base ** (power // 2) for base, power in factors))
+
+
+def _square_root(square: sympy.Expr) -> sympy.Expr:
+    """sqrt of a square of a rational function: abs(N/D) when numerator and denominator
+    are perfect squares (sqrt((a + b)**2/c**2) reads as abs((a + b)/c)); sqrt else."""
+    numerator, denominator = sympy.fraction(sympy.together(square))
+    if numerator.free_symbols | denominator.free_symbols and len(sympy.Add.make_args(sympy.expand(numerator))) <= MAX_FACTOR_TERMS:
+        top, bottom = _exact_root(numerator), _exact_root(denominator)
+        if top is not None and bottom is not None:
+            return sympy.Abs(top / bottom)
+    return sympy.sqrt(square)
