@@ -321,7 +321,7 @@ def check_all(
 
     results: dict[int, Outcome] = {}
     lost: list[int] = []
-    with ProcessPoolExecutor(max_workers=min(jobs, len(paths)), mp_context=_pool_context()) as pool:
+    with ProcessPoolExecutor(max_workers=min(jobs, len(paths)), mp_context=_pool_context(), initializer=warm) as pool:
         futures = {pool.submit(check_one, path, options): index for index, path in enumerate(paths)}
         for future in as_completed(futures):
             index = futures[future]
@@ -342,12 +342,22 @@ def check_all(
     return tuple(results[index] for index in range(len(paths)))
 
 
+def warm() -> None:
+    """Import the stages and build the unit registry in a new worker, before any
+    worksheet's budget starts: a worksheet's time limit is for checking it, not for
+    the worker's first imports (several seconds on a busy machine)."""
+    import handcheck.pipeline  # noqa: F401  (the stages it imports)
+    from handcheck.worksheet.units import lookup_unit
+
+    lookup_unit("kohm")
+
+
 def _alone(path: str, options: Options) -> Outcome:
     from concurrent.futures import ProcessPoolExecutor
     from concurrent.futures.process import BrokenProcessPool
 
     started = time.monotonic()
-    with ProcessPoolExecutor(max_workers=1, mp_context=_pool_context()) as pool:
+    with ProcessPoolExecutor(max_workers=1, mp_context=_pool_context(), initializer=warm) as pool:
         try:
             return pool.submit(check_one, path, options).result()
         except BrokenProcessPool:
