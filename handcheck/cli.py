@@ -247,13 +247,10 @@ def _plot(result: Any, out: str) -> None:
 
 
 def _refuse(args: argparse.Namespace, message: str) -> int:
-    """Exit status 2: the one-line message on stderr and, with --json (one worksheet), the
-    error object on stdout, so that stdout is always one JSON value."""
+    """Exit status 2: the one-line message on stderr. With --json, stdout of one worksheet
+    stays empty, as the first edition's callers rely on (a batch's array holds an error
+    object instead)."""
     sys.stderr.write(f"handcheck: {message}\n")
-    if getattr(args, "json", False) and args.command == "check" and not _is_batch(args):
-        from handcheck.batch import refused_data
-
-        print(json.dumps(refused_data(args.file, message), ensure_ascii=False))
     return EXIT_BAD_INPUT
 
 
