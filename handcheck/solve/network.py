@@ -84,210 +84,13 @@ from fractions import Fraction
 from numbers import Integral
 from typing import TYPE_CHECKING, Any
 
+from handcheck.solve.rational import RationalFunction, laplace_symbol, number_field, to_sympy_number
+
 if TYPE_CHECKING:  # pragma: no cover - typing only
     import sympy
     from sympy.polys.matrices import DomainMatrix
 
 __all__ = ("RationalFunction", "laplace_symbol", "solve_rational")
-
-
-def laplace_symbol() -> sympy.Symbol:
-    """Return the Laplace variable ``s`` used in every returned polynomial.
-
-    Returns
-    -------
-    sympy.Symbol
-        ``sympy.Symbol("s")`` (sympy caches symbols by name, so equal
-        to any other ``Symbol("s")``).
-    """
-    import sympy
-
-    return sympy.Symbol("s")
-
-
-@dataclass(frozen=True)
-class RationalFunction:
-    """Reduced rational function ``num(s) / den(s)`` with exact coefficients.
-
-    Parameters
-    ----------
-    num : sympy.Poly
-        Numerator in the symbol ``s``.
-    den : sympy.Poly
-        Denominator in ``s``, nonzero and monic, same domain as ``num``
-        (``QQ``, or an algebraic field ``QQ<a>`` for algebraic input).
-
-    Notes
-    -----
-    Instances built by :func:`solve_rational` or :meth:`reduced` have
-    ``gcd(num, den) = 1``, so two equal functions have equal fields and the
-    dataclass equality is exact equality of rational functions.
-    """
-
-    num: sympy.Poly
-    den: sympy.Poly
-
-    def __post_init__(self) -> None:
-        import sympy
-
-        if not isinstance(self.num, sympy.Poly) or not isinstance(self.den, sympy.Poly):
-            raise TypeError("num and den must be sympy.Poly")
-        if self.num.gens != (laplace_symbol(),) or self.den.gens != (laplace_symbol(),):
-            raise ValueError("num and den must be univariate polynomials in s")
-        if self.num.domain != self.den.domain:
-            raise ValueError("num and den must share one coefficient domain")
-        if self.den.is_zero:
-            raise ZeroDivisionError("denominator polynomial is zero")
-        if self.den.LC() != 1:
-            raise ValueError("denominator must be monic; use RationalFunction.reduced")
-
-    @classmethod
-    def reduced(cls, num: sympy.Poly, den: sympy.Poly) -> RationalFunction:
-        """Build the reduced form of ``num / den`` (gcd cancelled, monic den).
-
-        Parameters
-        ----------
-        num, den : sympy.Poly
-            Polynomials in ``s`` over one field (``QQ`` or an algebraic field).
-
-        Returns
-        -------
-        RationalFunction
-        """
-        if den.is_zero:
-            raise ZeroDivisionError("denominator polynomial is zero")
-        if num.is_zero:
-            return cls(num, den.one)
-        g = num.gcd(den)
-        num = num.exquo(g)
-        den = den.exquo(g)
-        lc = den.LC()
-        return cls(num.exquo_ground(lc), den.monic())
-
-    def as_expr(self) -> sympy.Expr:
-        """Return ``num/den`` as a sympy expression in ``s``."""
-        return self.num.as_expr() / self.den.as_expr()
-
-    def __call__(self, value: Any) -> sympy.Expr:
-        """Evaluate exactly at a number.
-
-        Parameters
-        ----------
-        value : int, fractions.Fraction or sympy number
-            Rational or algebraic point (no floats).
-
-        Returns
-        -------
-        sympy.Expr
-            Exact value (a ``sympy.Rational`` for rational coefficients and
-            a rational point).
-
-        Raises
-        ------
-        ZeroDivisionError
-            If ``value`` is a pole (the denominator vanishes there).
-
-        Notes
-        -----
-        Horner's rule in the smallest number field containing the
-        coefficients and ``value`` (built by ``sympy.construct_domain``), so
-        the zero test on the denominator is exact.
-        """
-        v = _to_sympy_number(value)
-        coeffs_n = self.num.all_coeffs()
-        coeffs_d = self.den.all_coeffs()
-        if self.num.domain.is_QQ and v.is_Rational:
-            from sympy import QQ
-
-            dom = QQ
-            conv = [QQ(int(c.p), int(c.q)) for c in coeffs_n + coeffs_d + [v]]
-        else:
-            dom, conv = _number_field(coeffs_n + coeffs_d + [v])
-        cn = conv[: len(coeffs_n)]
-        cd = conv[len(coeffs_n) : len(coeffs_n) + len(coeffs_d)]
-        x = conv[-1]
-        vn = _horner(cn, x, dom)
-        vd = _horner(cd, x, dom)
-        if not vd:
-            raise ZeroDivisionError(f"s = {v} is a pole of this rational function")
-        field = dom if dom.is_Field else dom.get_field()
-        return field.to_sympy(field.quo(field.convert(vn, dom), field.convert(vd, dom)))
-
-
-def _horner(coeffs: list, x: Any, dom: Any) -> Any:
-    """Evaluate a polynomial (coefficients high to low) by Horner's rule in ``dom``."""
-    acc = dom.zero
-    for c in coeffs:
-        acc = acc * x + c
-    return acc
-
-
-# --------------------------------------------------------------------------
-# input conversion
-# --------------------------------------------------------------------------
-
-
-def _to_sympy_number(x: Any) -> sympy.Expr:
-    """Convert one exact number to sympy, refusing floats and text.
-
-    Parameters
-    ----------
-    x : int, fractions.Fraction or sympy number
-        ``bool``, ``float``, ``sympy.Float``, ``str`` and expressions with
-        free symbols are refused.
-
-    Returns
-    -------
-    sympy.Expr
-    """
-    import sympy
-
-    if isinstance(x, bool):
-        raise TypeError("a bool is not a matrix entry")
-    if isinstance(x, sympy.Basic):
-        if x.has(sympy.Float):
-            raise TypeError(f"inexact (floating-point) entry refused: {x!r}")
-        if not x.is_number:
-            raise TypeError(f"entry must be a number, got {x!r}")
-        return x
-    if isinstance(x, Integral):
-        return sympy.Integer(int(x))
-    if isinstance(x, Fraction):
-        return sympy.Rational(x.numerator, x.denominator)
-    if isinstance(x, float):
-        raise TypeError(f"float entry refused (give a Fraction or sympy Rational): {x!r}")
-    raise TypeError(f"unsupported entry type {type(x).__name__}: {x!r}")
-
-
-def _number_field(exprs: list) -> tuple[Any, list]:
-    """Smallest exact number field holding ``exprs``, and the converted elements.
-
-    Parameters
-    ----------
-    exprs : list of sympy.Expr
-        Exact numbers.
-
-    Returns
-    -------
-    tuple
-        ``(K, elements)`` with ``K`` one of ``QQ``, ``QQ_I`` or an algebraic
-        field ``QQ<a>`` (primitive element), from
-        ``sympy.polys.constructor.construct_domain(..., extension=True)``.
-
-    Raises
-    ------
-    TypeError
-        If the numbers are not all algebraic (e.g. ``pi``).
-    """
-    from sympy.polys.constructor import construct_domain
-
-    K, elems = construct_domain(exprs, extension=True)
-    if K.is_ZZ or K.is_ZZ_I:
-        F = K.get_field()
-        return F, [F.convert(e, K) for e in elems]
-    if not (K.is_QQ or K.is_QQ_I or K.is_AlgebraicField):
-        raise TypeError(f"entries must be rational or algebraic numbers; they span {K}")
-    return K, elems
 
 
 def _rows(M: Any, name: str) -> list[list[Any]]:
@@ -321,7 +124,7 @@ def _domain_entries(G: Any, C: Any, b: Any) -> tuple[Any, int, dict, dict, dict]
     -------
     tuple
         ``(K, n, G_dod, C_dod, b_dod)``: ``K`` is ``QQ`` when every entry is
-        rational, else the field from :func:`_number_field`; the matrices
+        rational, else the field from :func:`number_field`; the matrices
         are dicts ``{row: {col: element}}`` of nonzero entries (``b`` as an
         ``n x 1`` matrix).
     """
@@ -354,13 +157,13 @@ def _domain_entries(G: Any, C: Any, b: Any) -> tuple[Any, int, dict, dict, dict]
                     if e:
                         dod.setdefault(i, {})[j] = QQ(int(e))
                 else:
-                    v = _to_sympy_number(e)
+                    v = to_sympy_number(e)
                     if not v.is_zero:
                         slow.append((m, i, j, v))
     K = QQ
     irr = list(dict.fromkeys(v for _, _, _, v in slow if not v.is_Rational))
     if irr:
-        K, _ = _number_field(irr)
+        K, _ = number_field(irr)
         for dod in mats:
             for row in dod.values():
                 for j in row:
