@@ -10,7 +10,7 @@ from pathlib import Path
 
 from handcheck.verify.findings import Report
 
-__all__ = ["assert_checks_out"]
+__all__ = ["assert_checks_out", "run_command"]
 
 
 def assert_checks_out(path: str | Path) -> Report:
@@ -32,3 +32,18 @@ def assert_checks_out(path: str | Path) -> Report:
                 lines.extend(f"    likely {d.mistake}: {d.detail}" for d in step.diagnosis)
         raise AssertionError("\n".join(lines))
     return report
+
+
+def run_command(capsys, *argv: str) -> tuple[int, str, str]:
+    """Run the command line in this process under pytest's ``capsys``.
+
+    Returns the exit status (an argparse exit counts too), stdout and stderr.
+    """
+    from handcheck.cli import main
+
+    try:
+        code = main(list(argv))
+    except SystemExit as exc:
+        code = exc.code  # type: ignore[assignment]
+    out, err = capsys.readouterr()
+    return code, out, err

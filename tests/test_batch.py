@@ -20,8 +20,8 @@ import junitparser
 import pytest
 
 from handcheck.batch import Options, check_all, expand, status_of, summary_line
-from handcheck.cli import main
 from handcheck.record.junit import junit_bytes
+from handcheck.testing import run_command
 
 REPO = Path(__file__).resolve().parents[1]
 DEMOS = REPO / "worksheets"
@@ -62,13 +62,7 @@ expression = "1/(1 + R/Rload + s*R*C)"
 """
 
 
-def run(capsys, *argv: str) -> tuple[int, str, str]:
-    try:
-        code = main(list(argv))
-    except SystemExit as exc:
-        code = exc.code
-    out, err = capsys.readouterr()
-    return code, out, err
+run = run_command  # exit status, stdout and stderr of the command line
 
 
 @pytest.fixture

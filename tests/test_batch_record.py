@@ -19,8 +19,8 @@ from urllib.parse import unquote
 
 import pytest
 
-from handcheck.cli import main
 from handcheck.record.index import Entry, record_name, render_index
+from handcheck.testing import run_command
 
 REPO = Path(__file__).resolve().parents[1]
 DEMOS = REPO / "worksheets"
@@ -28,13 +28,7 @@ BROKEN = "[worksheet\nformat = 1\n"  # not TOML: the table header is not closed
 HOSTILE = 'Snubber <script>alert("x")</script> & <b>bold</b>'
 
 
-def run(capsys, *argv: str) -> tuple[int, str, str]:
-    try:
-        code = main(list(argv))
-    except SystemExit as exc:
-        code = exc.code
-    out, err = capsys.readouterr()
-    return code, out, err
+run = run_command  # exit status, stdout and stderr of the command line
 
 
 @pytest.fixture

@@ -23,7 +23,7 @@ from pathlib import Path
 import pytest
 from numpy.testing import assert_allclose
 
-from handcheck.cli import main
+from handcheck.testing import run_command
 
 REPO = Path(__file__).resolve().parents[1]
 DEMOS = REPO / "worksheets"
@@ -43,14 +43,7 @@ MISTAKES = {
 }  # fmt: skip
 
 
-def run(capsys, *argv: str) -> tuple[int, str, str]:
-    """Exit status, stdout and stderr of the command line (argparse exits count too)."""
-    try:
-        code = main(list(argv))
-    except SystemExit as exc:
-        code = exc.code
-    out, err = capsys.readouterr()
-    return code, out, err
+run = run_command  # exit status, stdout and stderr of the command line
 
 
 def run_json(capsys, path: Path | str) -> tuple[int, dict]:
