@@ -29,10 +29,12 @@ from handcheck.circuit.build import build
 from handcheck.circuit.kinds import KINDS
 from handcheck.circuit.model import Circuit
 from handcheck.errors import CircuitError, HandcheckError, TimeLimitError, UnitError, WorksheetError
+from handcheck.solve.frequency import LIST_QUANTITIES
 from handcheck.solve.phasor import Solution
-from handcheck.solve.solutions import ExactSolutions
 from handcheck.solve.quantities import TIME_DOMAIN, Quantity, evaluate_quantity, parse_quantity
+from handcheck.solve.solutions import ExactSolutions
 from handcheck.solve.timequantities import evaluate_time_quantity, waveform_of
+from handcheck.verify.basis import matching_quantities, settle, unit_kind
 from handcheck.verify.claims import (
     TIME,
     Claim,
@@ -43,12 +45,10 @@ from handcheck.verify.claims import (
     relative_error,
     to_complex,
 )
-from handcheck.solve.frequency import LIST_QUANTITIES
-from handcheck.verify.basis import matching_quantities, settle, unit_kind
-from handcheck.verify.findings import Diagnosis, Report, StepFinding
-from handcheck.verify.responses import check_function_of_s, check_list
+from handcheck.verify.findings import Diagnosis, Report, Shown, StepBase, StepFinding, Verdict
 from handcheck.verify.mistakes import Context, diagnose, worksheet_frequencies
 from handcheck.verify.present import describe_frequency, describe_function, format_number, format_value
+from handcheck.verify.responses import check_function_of_s, check_list
 from handcheck.verify.safety import cautions
 from handcheck.worksheet.evaluate import Value, evaluate
 from handcheck.worksheet.expr import Node, names_in, parse
@@ -119,7 +119,7 @@ class _Checker:
         """The closed-form complete response (computed on first use)."""
         return self.exact.transient
 
-    def check_function(self, base: dict[str, Any], claim: Claim, quantity: Quantity, tolerance: Tolerance) -> StepFinding:
+    def check_function(self, base: StepBase, claim: Claim, quantity: Quantity, tolerance: Tolerance) -> StepFinding:
         """Compare a claimed time function with the true waveform over a span of time.
 
         The error is the largest difference over the span relative to the waveform's
@@ -135,20 +135,18 @@ class _Checker:
         scale = max(abs(v) for v in truth) or 1.0
         error = max(abs(a - b) for a, b in zip(claimed, truth, strict=True)) / scale
         limit = tolerance.relative if tolerance.relative is not None else 0.01
-        shown = {
-            "error": error,
-            "expected": describe_function(wave, claim),
-            "message": f"compared at 401 times from 0 to {format_number(span, 4)} s; largest difference "
-            f"{error:.3g} of the waveform's largest value (allowed {limit:.3g})",
-        }
-        verdict = "agrees" if error <= limit else "differs"
-        return StepFinding(**base, **shown, verdict=verdict)  # type: ignore[arg-type]
+        message = (
+            f"compared at 401 times from 0 to {format_number(span, 4)} s; largest difference "
+            f"{error:.3g} of the waveform's largest value (allowed {limit:.3g})"
+        )
+        verdict: Verdict = "agrees" if error <= limit else "differs"
+        return StepFinding(**base, error=error, expected=describe_function(wave, claim), message=message, verdict=verdict)
 
-    def check_response(self, base: dict[str, Any], claim: Claim, quantity: Quantity, tolerance: Tolerance) -> StepFinding:
+    def check_response(self, base: StepBase, claim: Claim, quantity: Quantity, tolerance: Tolerance) -> StepFinding:
         """A claimed network function (in s) or a claimed list (poles, zeros, band edges)."""
         if quantity.name in LIST_QUANTITIES:
             truths = evaluate_quantity(self.solution, quantity)
-            return check_list(base, claim, truths, tolerance)  # type: ignore[arg-type]
+            return check_list(base, claim, truths, tolerance)
         if claim.form == "list":
             return StepFinding(**base, verdict="differs", message=f"a list is claimed, but {quantity} is one value")
         if claim.form != "laplace":
@@ -270,7 +268,7 @@ class _Checker:
         if claim.form != "function":
             self.claimed_env[step.name] = claim.value
         tree = self.parse_formula(step) if step.formula else None
-        base = {"name": step.name, "claimed": step.claim, "quantity": step.quantity, "formula": step.formula, "line": step.line}
+        base: StepBase = {"name": step.name, "claimed": step.claim, "quantity": step.quantity, "formula": step.formula, "line": step.line}
 
         truth: Value | None = None
         quantity = None
@@ -324,7 +322,7 @@ class _Checker:
             reference = to_complex(truth.expr)
         except HandcheckError as exc:
             raise self.located(exc, step, "quantity" if step.quantity else "formula") from None
-        shown = {
+        shown: Shown = {
             "expected": self.expected_text(truth, claim, quantity),
             "expected_si": (reference.real, reference.imag),
             "exact": truth.expr,

@@ -3,11 +3,11 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Literal
+from typing import Literal, TypedDict
 
 import sympy
 
-__all__ = ["BASES", "VERDICTS", "Basis", "Diagnosis", "Report", "StepFinding", "Verdict"]
+__all__ = ["BASES", "VERDICTS", "Basis", "Diagnosis", "Expected", "Report", "Shown", "StepBase", "StepFinding", "Verdict"]
 
 Verdict = Literal["agrees", "arithmetic", "formula", "carried", "differs", "unit", "unchecked"]
 VERDICTS: tuple[Verdict, ...] = ("agrees", "arithmetic", "formula", "carried", "differs", "unit", "unchecked")
@@ -16,6 +16,31 @@ Basis = Literal["circuit", "formula", "none"]
 BASES: tuple[Basis, ...] = ("circuit", "formula", "none")
 #: Verdicts that do not make a worksheet fail.
 PASSING: frozenset[str] = frozenset({"agrees", "unchecked"})
+
+
+class StepBase(TypedDict):
+    """The fields of a :class:`StepFinding` that come from the step itself."""
+
+    name: str
+    claimed: str
+    quantity: str | None
+    formula: str | None
+    line: int | None
+
+
+class Expected(TypedDict, total=False):
+    """The fields of a :class:`StepFinding` that show the true value beside the claim."""
+
+    expected: str | None
+    expected_si: tuple[float, float] | None
+    exact: sympy.Expr | None
+
+
+class Shown(Expected, total=False):
+    """:class:`Expected` with the claim's error and the value its own formula gives."""
+
+    error: float | None
+    recomputed: str | None
 
 
 @dataclass(frozen=True)

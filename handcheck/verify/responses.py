@@ -14,13 +14,12 @@ percentage).
 from __future__ import annotations
 
 import math
-from typing import Any
 
 import mpmath
 import sympy
 
 from handcheck.verify.claims import LAPLACE, Claim, Tolerance, agrees, relative_error, to_complex
-from handcheck.verify.findings import StepFinding
+from handcheck.verify.findings import Expected, StepBase, StepFinding, Verdict
 from handcheck.verify.present import format_number, format_value
 from handcheck.worksheet.evaluate import Value
 
@@ -55,9 +54,9 @@ def _at(expr: sympy.Expr, w: float) -> complex:
     return complex(f(mpmath.mpc(0, w)))
 
 
-def check_function_of_s(base: dict[str, Any], claim: Claim, truth: Value, tolerance: Tolerance) -> StepFinding:
+def check_function_of_s(base: StepBase, claim: Claim, truth: Value, tolerance: Tolerance) -> StepFinding:
     """The verdict on a claimed network function against the exact one."""
-    shown = {"expected": f"{sympy.sstr(sympy.N(truth.expr, 6))} {claim.unit_text}".strip(), "exact": truth.expr, "expected_si": None}
+    shown: Expected = {"expected": f"{sympy.sstr(sympy.N(truth.expr, 6))} {claim.unit_text}".strip(), "exact": truth.expr, "expected_si": None}
     if claim.dim != truth.dim:
         return StepFinding(**base, **shown, verdict="unit", message=f"the claim is in {claim.dim or 'no unit'}, but the quantity is in {truth.dim or 'no unit'}")
     if sympy.cancel(sympy.together(claim.value.expr - truth.expr)) == 0:
@@ -81,15 +80,15 @@ def check_function_of_s(base: dict[str, Any], claim: Claim, truth: Value, tolera
         f"compared at {GRID} frequencies from {format_number(grid[0], 4)} to {format_number(grid[-1], 4)} rad/s; "
         f"largest relative difference {error:.3g} at {format_number(worst, 4)} rad/s (allowed {limit:.3g})"
     )
-    verdict = "agrees" if error <= limit else "differs"
-    return StepFinding(**base, **shown, verdict=verdict, error=error, message=message)  # type: ignore[arg-type]
+    verdict: Verdict = "agrees" if error <= limit else "differs"
+    return StepFinding(**base, **shown, verdict=verdict, error=error, message=message)
 
 
-def check_list(base: dict[str, Any], claim: Claim, truths: tuple[Value, ...], tolerance: Tolerance) -> StepFinding:
+def check_list(base: StepBase, claim: Claim, truths: tuple[Value, ...], tolerance: Tolerance) -> StepFinding:
     """The verdict on a claimed list of values (poles, zeros, band edges)."""
     items = claim.items or (claim,)
     first = truths[0] if truths else None
-    shown: dict[str, Any] = {
+    shown: Expected = {
         "expected": ", ".join(format_value(t, items[0]) for t in truths) or "none",
         "expected_si": (to_complex(first.expr).real, to_complex(first.expr).imag) if first is not None else None,
         "exact": sympy.Tuple(*(t.expr for t in truths)),
@@ -110,4 +109,4 @@ def check_list(base: dict[str, Any], claim: Claim, truths: tuple[Value, ...], to
         ok = ok and agrees(item, nearest, tolerance)
         if item.form == "real" and abs(nearest.imag) > 1e-12 * abs(nearest):
             ok = False  # a real number claimed for a complex root
-    return StepFinding(**base, **shown, verdict="agrees" if ok else "differs", error=worst)  # type: ignore[arg-type]
+    return StepFinding(**base, **shown, verdict="agrees" if ok else "differs", error=worst)
