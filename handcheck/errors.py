@@ -9,6 +9,8 @@ single line on stderr.
 
 from __future__ import annotations
 
+from typing import TypedDict
+
 __all__ = [
     "CircuitError",
     "HandcheckError",
@@ -16,8 +18,25 @@ __all__ = [
     "ParseError",
     "TimeLimitError",
     "UnitError",
+    "Where",
     "WorksheetError",
 ]
+
+
+class Where(TypedDict):
+    """Where in a worksheet an error is: the keyword arguments ``file`` and ``line`` of every error here."""
+
+    file: str | None
+    line: int | None
+
+
+def _prefix(file: str | None, line: int | None) -> str:
+    """The location prefix, ``file:line: `` or ``file: ``, or empty."""
+    if file and line:
+        return f"{file}:{line}: "
+    if file:
+        return f"{file}: "
+    return ""
 
 
 class HandcheckError(Exception):
@@ -31,11 +50,7 @@ class HandcheckError(Exception):
 
     def where(self) -> str:
         """The location prefix, ``file:line: `` or ``file: ``, or empty."""
-        if self.file and self.line:
-            return f"{self.file}:{self.line}: "
-        if self.file:
-            return f"{self.file}: "
-        return ""
+        return _prefix(self.file, self.line)
 
     def located(self, file: str | None = None, line: int | None = None) -> HandcheckError:
         """Fill in the file and line where they are not known yet; return self."""
@@ -120,7 +135,9 @@ class TimeLimitError(BaseException):
         self.file = file
         self.line = line
 
-    where = HandcheckError.where
+    def where(self) -> str:
+        """The location prefix, as :meth:`HandcheckError.where`."""
+        return _prefix(self.file, self.line)
     located = HandcheckError.located  # type: ignore[assignment]
 
     def __str__(self) -> str:

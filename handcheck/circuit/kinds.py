@@ -10,7 +10,7 @@ from dataclasses import dataclass
 from types import MappingProxyType
 from typing import Literal, get_args
 
-__all__ = ["KINDS", "Kind", "KindInfo", "REACTIVE", "SOURCES", "kind_unit"]
+__all__ = ["KINDS", "REACTIVE", "SOURCES", "Kind", "KindInfo", "kind_unit"]
 
 Kind = Literal[
     "resistor",

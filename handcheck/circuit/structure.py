@@ -11,9 +11,10 @@ from __future__ import annotations
 
 import difflib
 from collections import defaultdict, deque
+from collections.abc import Iterable
 
 from handcheck.circuit.model import GROUND, Circuit, Part
-from handcheck.errors import CircuitError
+from handcheck.errors import CircuitError, Where
 
 __all__ = ["check_dc", "check_structure"]
 
@@ -85,7 +86,7 @@ def _suggest(word: str, choices: set[str] | list[str]) -> str:
     return f' (did you mean "{close[0]}"?)' if close else ""
 
 
-def _names(idents: list[str] | set[str]) -> str:
+def _names(idents: Iterable[str]) -> str:
     ordered = sorted(idents)
     return ", ".join(ordered[:-1]) + " and " + ordered[-1] if len(ordered) > 1 else ordered[0]
 
@@ -118,7 +119,7 @@ def _check_references(circuit: Circuit) -> None:
     nodes = set(circuit.nodes) | {GROUND}
     ids = {part.id: part for part in circuit.parts}
     for part in circuit.parts:
-        where = {"file": circuit.path, "line": part.line}
+        where: Where = {"file": circuit.path, "line": part.line}
         if part.kind in ("vcvs", "vccs"):
             for node in part.control or ():
                 if node not in nodes:
@@ -129,8 +130,8 @@ def _check_references(circuit: Circuit) -> None:
                         **where,
                     )
         if part.kind == "vcvs" and part.control is not None:
-            control = tuple(part.control)
-            if (control == part.nodes and part.value == 1) or (control == part.nodes[::-1] and part.value == -1):
+            sensed = tuple(part.control)
+            if (sensed == part.nodes and part.value == 1) or (sensed == part.nodes[::-1] and part.value == -1):
                 raise CircuitError(
                     f"{part.id} senses its own output voltage with gain {part.value}, so its equation reads "
                     "v = v and leaves that voltage undetermined; take the control from another pair of nodes",
@@ -239,7 +240,7 @@ def _check_voltage_loops(circuit: Circuit, dc: bool) -> None:
 
 
 def _check_current_cuts(circuit: Circuit, dc: bool) -> None:
-    edges = []
+    edges: list[tuple[str, str, str]] = []
     for part in circuit.parts:
         if part.kind in _CURRENT_DEFINED or (dc and part.kind == "capacitor"):
             continue

@@ -35,7 +35,7 @@ from typing import Literal
 import numpy as np
 
 from handcheck.circuit.model import GROUND, Circuit, Part
-from handcheck.errors import CircuitError
+from handcheck.errors import CircuitError, Where
 
 __all__ = ["Equations", "assemble", "current_keys"]
 
@@ -194,7 +194,7 @@ def assemble(circuit: Circuit, *, switches: Literal["after", "before"] = "after"
 
     for part in parts:
         kind = part.kind
-        where = {"file": circuit.path, "line": part.line}
+        where: Where = {"file": circuit.path, "line": part.line}
         if kind in ("coupling",):
             continue
         if kind == "opamp":

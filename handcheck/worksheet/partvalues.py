@@ -9,12 +9,13 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass
+from itertools import pairwise
 from typing import Any
 
 import sympy
 
 from handcheck.circuit.kinds import KINDS
-from handcheck.errors import HandcheckError, WorksheetError
+from handcheck.errors import HandcheckError, Where, WorksheetError
 from handcheck.worksheet.sourcefunction import (
     SourceFunction,
     constant,
@@ -83,7 +84,7 @@ def read_part_values(
     WorksheetError, UnitError, ParseError
         For a value in the wrong unit, out of range, or unreadable.
     """
-    where = {"file": file, "line": line}
+    where: Where = {"file": file, "line": line}
     if kind in ("voltage", "current"):
         return _source(ident, kind, value, body, file, line)
     text = str(value)
@@ -139,7 +140,7 @@ def read_part_values(
 
 def _source(ident: str, kind: str, value: Any, body: dict[str, Any], file: str, line: int | None) -> PartValues:
     """A source's function: a list of points, a function of t, or the first edition's amplitude."""
-    where = {"file": file, "line": line}
+    where: Where = {"file": file, "line": line}
     unit = KINDS[kind].unit
     frequency, phase = body.get("frequency"), body.get("phase")
     if isinstance(value, tuple):
@@ -186,7 +187,7 @@ def _source(ident: str, kind: str, value: Any, body: dict[str, Any], file: str, 
     return PartValues(sympy.Integer(0), sinusoid(peak, omega, angle), rms)
 
 
-def _points(ident: str, unit: str, pairs: tuple[tuple[str, str], ...], where: dict[str, Any]) -> SourceFunction:
+def _points(ident: str, unit: str, pairs: tuple[tuple[str, str], ...], where: Where) -> SourceFunction:
     points = tuple(
         (
             read_value(t, "s", f"a time in the points of {ident}", **where),
@@ -195,6 +196,6 @@ def _points(ident: str, unit: str, pairs: tuple[tuple[str, str], ...], where: di
         for t, v in pairs
     )
     times = [t for t, _ in points]
-    if times[0] < 0 or any(b <= a for a, b in zip(times, times[1:])):
+    if times[0] < 0 or any(b <= a for a, b in pairwise(times)):
         raise WorksheetError(f"the times in the points of {ident} must start at 0 s or later and increase", **where)
     return from_points(points)
