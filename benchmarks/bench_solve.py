@@ -183,7 +183,7 @@ def run_case(route: str, n: int, limit: float):
             return msg[1], msg[2]
         return None, None
     except EOFError:
-        raise RuntimeError(f"{route} N={n}: child died (exit code {proc.exitcode})")
+        raise RuntimeError(f"{route} N={n}: child died (exit code {proc.exitcode})") from None
     finally:
         if proc.is_alive():
             proc.kill()

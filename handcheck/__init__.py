@@ -22,7 +22,15 @@ from __future__ import annotations
 
 from importlib.metadata import PackageNotFoundError, version
 
-from handcheck.errors import CircuitError, HandcheckError, LimitError, ParseError, TimeLimitError, UnitError, WorksheetError
+from handcheck.errors import (
+    CircuitError,
+    HandcheckError,
+    LimitError,
+    ParseError,
+    TimeLimitError,
+    UnitError,
+    WorksheetError,
+)
 from handcheck.verify.check import check
 from handcheck.verify.findings import Report, StepFinding
 from handcheck.worksheet.load import load, loads

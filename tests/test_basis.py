@@ -87,7 +87,7 @@ def test_terminal_shows_notes_and_counts_the_two_kinds_of_agreement() -> None:
 
 
 def test_circuit_only_summary_keeps_its_wording() -> None:
-    report = handcheck.check_text(DIVIDER + STEPS.split("[[step]]\nname = \"Vo\"")[0], "sheet.toml")
+    report = handcheck.check_text(DIVIDER + STEPS.split("[[step]]\nname = \"Vo\"", maxsplit=1)[0], "sheet.toml")
     assert [s.basis for s in report.steps] == ["circuit"]
     assert render(report, handcheck.__version__).splitlines()[-1] == "OK: 1 step (1 agrees)"
 

@@ -64,7 +64,7 @@ def links(page: Path) -> _Links:
 
 
 def reference(capsys, path: Path) -> dict:
-    code, out, _ = run(capsys, "check", str(path), "--json")
+    _, out, _ = run(capsys, "check", str(path), "--json")
     return json.loads(out)
 
 

@@ -12,7 +12,7 @@ import shutil
 from collections import Counter
 from pathlib import Path
 
-from handcheck.batch import check_all, print_summary_table, summary_rows, summary_line, summary_table
+from handcheck.batch import check_all, print_summary_table, summary_line, summary_rows, summary_table
 
 DEMOS = Path(__file__).resolve().parents[1] / "worksheets"
 

@@ -32,7 +32,7 @@ import sympy
 
 import handcheck
 from handcheck.circuit.build import build
-from handcheck.worksheet.values import read_frequency
+from handcheck.circuit.kinds import KINDS as PART_KINDS
 from handcheck.cli import main
 from handcheck.record.jsonout import report_dict
 from handcheck.record.text import render
@@ -43,7 +43,7 @@ from handcheck.verify.claims import Tolerance, agrees, read_claim, read_toleranc
 from handcheck.verify.findings import BASES, VERDICTS
 from handcheck.worksheet.evaluate import FUNCTIONS, Value, evaluate, evaluate_text
 from handcheck.worksheet.expr import parse
-from handcheck.circuit.kinds import KINDS as PART_KINDS
+from handcheck.worksheet.values import read_frequency
 
 DOC = Path(__file__).resolve().parents[1] / "docs" / "worksheet.md"
 TEXT = DOC.read_text(encoding="utf-8")

@@ -29,13 +29,13 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 import handcheck
-from handcheck.worksheet.values import read_frequency, read_value
 from handcheck.errors import HandcheckError, LimitError, ParseError
 from handcheck.solve.quantities import parse_quantity
 from handcheck.verify.claims import read_claim, read_tolerance
 from handcheck.worksheet.evaluate import Value, evaluate_text
 from handcheck.worksheet.expr import parse
 from handcheck.worksheet.units import dim_of
+from handcheck.worksheet.values import read_frequency, read_value
 
 # -- how many cases -------------------------------------------------------------
 

@@ -102,7 +102,7 @@ def test_ohm_sign_and_greek_omega_read_as_the_same_unit():
 
 
 def test_ohm_sign_in_a_worksheet_checks(tmp_path, capsys):
-    status, out, err = check(tmp_path, capsys, sheet(value="1 k\u2126").encode())
+    status, _, err = check(tmp_path, capsys, sheet(value="1 k\u2126").encode())
     assert status == 0, err
 
 
@@ -158,13 +158,13 @@ def test_brackets_in_strings_and_comments_do_not_count_as_nesting():
 def test_a_long_array_is_refused(tmp_path, capsys):
     nodes = ", ".join(['"a"'] * (MAX_ITEMS + 1))
     text = sheet().replace('nodes = ["a", "gnd"] }\n\n[[step]]', f"nodes = [{nodes}] }}\n\n[[step]]")
-    status, out, err = check(tmp_path, capsys, text.encode())
+    status, _, err = check(tmp_path, capsys, text.encode())
     assert status == 2
     assert "ws.toml:7:" in err and f"holds {MAX_ITEMS + 1:,} items" in err
 
 
 def test_a_claim_padded_with_spaces_is_refused_before_trimming(tmp_path, capsys):
-    status, out, err = check(tmp_path, capsys, sheet(claim="10 mA" + " " * 100_000).encode())
+    status, _, err = check(tmp_path, capsys, sheet(claim="10 mA" + " " * 100_000).encode())
     assert status == 2
     assert "ws.toml:12:" in err and '"step.0.claim" is 100,005 characters long' in err
     assert f"at most {MAX_TEXT:,} characters" in err

@@ -37,15 +37,15 @@ F, R, L, C, V = 50.0, 10.0, 0.05, 200e-6, 10.0
 W = 2 * math.pi * F
 XL, XC = W * L, -1 / (W * C)
 Z = complex(R, XL + XC)
-I = V / Z
-P = 0.5 * (V * I.conjugate()).real
+I_LOAD = V / Z
+P = 0.5 * (V * I_LOAD.conjugate()).real
 
 
 def series_rlc(
     xl: str = sig(XL),
     xc: str = sig(XC),
     z: str = rect(Z, "ohm"),
-    i: str = polar(I, "A"),
+    i: str = polar(I_LOAD, "A"),
     p: str = sig(P),
     *,
     phasors: str = "peak",
@@ -183,14 +183,14 @@ def test_peak_as_rms():
 
 
 def test_sine_reference():
-    i = I * cmath.exp(-1j * math.pi / 2)  # cosine result read against a sine reference
+    i = I_LOAD * cmath.exp(-1j * math.pi / 2)  # cosine result read against a sine reference
     report = handcheck.check_text(series_rlc(i=polar(i, "A")))
     assert verdicts(report)["I"] == "arithmetic"
     assert "sine-reference" in codes(report, "I")
 
 
 def test_phase_sign():
-    report = handcheck.check_text(series_rlc(i=polar(I.conjugate(), "A")))
+    report = handcheck.check_text(series_rlc(i=polar(I_LOAD.conjugate(), "A")))
     assert "phase-sign" in codes(report, "I")
 
 
@@ -202,7 +202,7 @@ def test_prefix():
 
 def test_radians_as_degrees_label():
     # The author wrote the angle in radians but labelled it degrees.
-    text = series_rlc(i=f"{sig(abs(I))} A /_ {sig(cmath.phase(I))} deg")
+    text = series_rlc(i=f"{sig(abs(I_LOAD))} A /_ {sig(cmath.phase(I_LOAD))} deg")
     report = handcheck.check_text(text)
     assert "radians-as-degrees" in codes(report, "I")
 

@@ -40,7 +40,7 @@ def finding(report: handcheck.Report, name: str) -> handcheck.StepFinding:
 
 
 def test_the_second_edition_codes_are_catalogued():
-    assert TESTED <= set(CODES)
+    assert set(CODES) >= TESTED
 
 
 # -- magnitude-as-phasor ---------------------------------------------------------------
@@ -52,9 +52,9 @@ def test_the_second_edition_codes_are_catalogued():
 W = 2 * math.pi * 50
 C_F = 1 / (W * 40)
 Z = complex(30, -40)
-I = 50 / Z
-VC = I * complex(0, -40)
-VR = I * 30
+I_SERIES = 50 / Z
+VC = I_SERIES * complex(0, -40)
+VR = I_SERIES * 30
 
 
 def rc(vc: str, vr: str, vr_formula: str | None = "Vs - VC", z: str = "50.00 ohm", z_formula: str | None = None) -> str:

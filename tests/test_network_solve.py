@@ -188,7 +188,7 @@ def test_capacitive_divider_needs_a_shifted_regular_point():
     G, C, b = mna(2, [("V", 1, 0, 1), ("C", 1, 0, C1), ("C", 1, 2, C2), ("C", 2, 0, C3)])
     c1, c2, c3 = (sympy.Rational(x.numerator, x.denominator) for x in (C1, C2, C3))
     for use_flint in (True, False):
-        (v1, v2, i_src), route = _solve(G, C, b, None, None, use_flint)
+        (_, v2, i_src), route = _solve(G, C, b, None, None, use_flint)
         assert route == "reversal"
         assert v2 == rf_of(c2 / (c2 + c3))
         assert i_src == rf_of(-s * (c1 + c2 * c3 / (c2 + c3)))
@@ -217,7 +217,7 @@ def test_small_ladder_equals_sympy_lusolve_cancel():
     ref = (sym_matrix(G) + s * sym_matrix(C)).LUsolve(sym_matrix([[x] for x in b]))
     got = solve_rational(G, C, b)
     assert len(got) == len(ref)
-    for rf, e in zip(got, ref):
+    for rf, e in zip(got, ref, strict=True):
         assert rf == rf_of(e)
     assert got[out].den.degree() == 4  # two L and two C, all independent
 
@@ -227,10 +227,10 @@ def test_ladder_against_numpy_at_imaginary_frequency():
     np = pytest.importorskip("numpy")
     G, C, b, out = ladder(8)
     sv = sympy.Rational(7, 10) * sympy.I
-    A = np.array([[float(g) + 0.7j * float(c) for g, c in zip(rg, rc)] for rg, rc in zip(G, C)])
+    A = np.array([[float(g) + 0.7j * float(c) for g, c in zip(rg, rc, strict=True)] for rg, rc in zip(G, C, strict=True)])
     x = np.linalg.solve(A, np.array([float(v) for v in b], dtype=complex))
     got = solve_rational(G, C, b, unknowns=[out, 1])
-    for k, rf in zip([out, 1], got):
+    for k, rf in zip([out, 1], got, strict=True):
         assert complex(rf(sv)) == pytest.approx(x[k], rel=1e-10, abs=1e-12)
 
 
@@ -248,7 +248,7 @@ def systems(draw):
         k = draw(st.integers(1, max(1, n - 1)))
         us = [[draw(_sparse_entry) for _ in range(n)] for _ in range(k)]
         vs = [[draw(_entry) for _ in range(n)] for _ in range(k)]
-        C = [[sum(u[i] * v[j] for u, v in zip(us, vs)) for j in range(n)] for i in range(n)]
+        C = [[sum(u[i] * v[j] for u, v in zip(us, vs, strict=True)) for j in range(n)] for i in range(n)]
     b = [draw(_entry) for _ in range(n)]
     return G, C, b
 
@@ -275,7 +275,7 @@ def test_random_systems_match_sympy_exact_solve(system):
         if det.subs(s, sv) == 0:
             continue
         ref = (Gs + sv * Cs).LUsolve(bs)
-        for rf, e in zip(fast, ref):
+        for rf, e in zip(fast, ref, strict=True):
             assert rf(sv) == e
         checked += 1
         if checked == 4:

@@ -5,11 +5,11 @@ from __future__ import annotations
 import pytest
 import sympy
 
-from handcheck.worksheet.values import read_frequency
 from handcheck.errors import LimitError, ParseError, UnitError
 from handcheck.verify.claims import Tolerance, agrees, read_claim, read_tolerance, to_complex
 from handcheck.worksheet.evaluate import Value, evaluate_text
 from handcheck.worksheet.units import dim_of
+from handcheck.worksheet.values import read_frequency
 
 OHM, FARAD, SECOND = dim_of("ohm"), dim_of("F"), dim_of("s")
 

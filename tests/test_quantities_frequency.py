@@ -109,11 +109,11 @@ Rr = { resistor = "15 ohm", nodes = ["out", "gnd"] }
 def test_series_rlc_band_pass_bandwidth_and_q() -> None:
     # Series RLC band-pass across R: f0 = 1/(2 pi sqrt(LC)), bandwidth R/(2 pi L),
     # Q = f0/BW = (1/R) sqrt(L/C) (Alexander & Sadiku, 5th ed., sec. 14.5, from memory).
-    l, c, r = sympy.Rational(1, 100), sympy.Rational(22, 10**7), sympy.Integer(15)
-    f0 = 1 / (2 * sympy.pi * sympy.sqrt(l * c))
-    bw = r / (2 * sympy.pi * l)
+    ind, c, r = sympy.Rational(1, 100), sympy.Rational(22, 10**7), sympy.Integer(15)
+    f0 = 1 / (2 * sympy.pi * sympy.sqrt(ind * c))
+    bw = r / (2 * sympy.pi * ind)
     found = run(SERIES_RLC, [
-        ("f0", f"peak_frequency(transfer(voltage(out), voltage(in)))", f"{float(f0):.5g} Hz"),
+        ("f0", "peak_frequency(transfer(voltage(out), voltage(in)))", f"{float(f0):.5g} Hz"),
         ("fr", "resonant_frequency(without(impedance(in, gnd), Vs))", f"{float(f0):.5g} Hz"),
         ("BW", "bandwidth(transfer(voltage(out), voltage(in)))", f"{float(bw):.5g} Hz"),
         ("edges", "band_edges(transfer(voltage(out), voltage(in)))", "1 kHz, 2 kHz"),
@@ -124,7 +124,7 @@ def test_series_rlc_band_pass_bandwidth_and_q() -> None:
     assert sympy.simplify(found["BW"].exact - bw) == 0
     low, high = (float(sympy.N(e, 20)) for e in found["edges"].exact)
     assert_allclose(math.sqrt(low * high), float(f0), rtol=1e-12)  # edges are geometric about f0
-    assert_allclose(float(f0) / (high - low), float(sympy.sqrt(l / c) / r), rtol=1e-12)
+    assert_allclose(float(f0) / (high - low), float(sympy.sqrt(ind / c) / r), rtol=1e-12)
     assert found["f0"].verdict == found["fr"].verdict == found["BW"].verdict == "agrees"
     assert found["edges"].verdict == "differs"
 

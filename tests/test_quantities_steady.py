@@ -115,8 +115,8 @@ Vs = { voltage = "230 V rms", frequency = "50 Hz", nodes = ["a", "gnd"] }
 Rw = { resistor = "10 ohm", nodes = ["a", "m"] }
 Lw = { inductor = "31.831 mH", nodes = ["m", "gnd"] }
 """
-    r, l, v, w = 10.0, 31.831e-3, 230.0, 2 * math.pi * 50
-    z = complex(r, w * l)
+    r, ind, v, w = 10.0, 31.831e-3, 230.0, 2 * math.pi * 50
+    z = complex(r, w * ind)
     s = v**2 / z.conjugate()
     found = run(parts, [("P", "power(Rw, Lw)", f"{s.real:.6g} W"), ("Q", "reactive_power(Rw, Lw)", f"{s.imag:.6g} var"),
                         ("S", "apparent_power(Rw, Lw)", f"{abs(s):.6g} VA"), ("pf", "power_factor(Rw, Lw)", f"{r / abs(z):.6g}"),

@@ -167,7 +167,7 @@ def test_resistor_energy_in_rc_charge(until: str) -> None:
             ("wc", f'absorbed_energy(C1, "{until}")', "1 uJ"),
         ],
     )
-    t = float(until.split()[0]) * 1e-3
+    t = float(until.split(maxsplit=1)[0]) * 1e-3
     c, vs = 1e-6, 10.0
     assert_allclose(value(steps["wr"]), vs**2 * c / 2 * (1 - math.exp(-2 * t / 1e-3)), rtol=1e-14)
     assert_allclose(value(steps["wv"]), -c * vs**2 * (1 - math.exp(-t / 1e-3)), rtol=1e-14)

@@ -10,6 +10,7 @@ and the trigonometric identity sin(x) = cos(x - 90 deg).
 from __future__ import annotations
 
 import math
+from itertools import pairwise
 
 import numpy as np
 import pytest
@@ -179,7 +180,7 @@ def test_unseen_worksheets_agree_with_solve_ivp_in_both_paths(name):
 
     edges = sorted({0.0, *[c for c in _CORNERS[name] if c < span], span})
     times, values, state = [], [], [0.0, 0.0]
-    for a, b in zip(edges, edges[1:]):
+    for a, b in pairwise(edges):
         grid = np.linspace(a, b, 31)[:-1] + (b - a) / 60
         ivp = solve_ivp(rhs, (a, b), state, t_eval=grid, method="DOP853", rtol=1e-11, atol=1e-13)
         assert ivp.success

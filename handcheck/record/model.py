@@ -10,7 +10,6 @@ printers, :mod:`handcheck.record.formula`).
 from __future__ import annotations
 
 import cmath
-import dataclasses
 import math
 import os
 import platform

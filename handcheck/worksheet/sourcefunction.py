@@ -35,10 +35,10 @@ from handcheck.worksheet.expr import Name, Number, one_line, parse, walk
 from handcheck.worksheet.units import DIMENSIONLESS, dim_of
 
 __all__ = [
+    "TIME",
     "Repeat",
     "SourceFunction",
     "SourceTerm",
-    "TIME",
     "constant",
     "from_points",
     "read_function",
