@@ -71,7 +71,7 @@ def true_expression(ring: Ring, truth: Truth) -> str:
 class _Printer(StrPrinter):
     """sympy's text printer, with ``abs(x)`` as the formula language writes it."""
 
-    def _print_Abs(self, expr: sympy.Abs) -> str:
+    def _print_Abs(self, expr: sympy.Abs) -> str:  # noqa: N802  sympy's printer dispatches on _print_<class name>
         return f"abs({self._print(expr.args[0])})"
 
 

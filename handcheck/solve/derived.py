@@ -85,8 +85,9 @@ def retuned(circuit: Circuit, omega: sympy.Expr) -> Circuit:
                 for term in source.function.terms
             )
             function = dataclasses.replace(source.function, terms=terms)
-            part = dataclasses.replace(part, source=dataclasses.replace(source, function=function))
-        parts.append(part)
+            parts.append(dataclasses.replace(part, source=dataclasses.replace(source, function=function)))
+        else:
+            parts.append(part)
     return dataclasses.replace(circuit, omega=omega, parts=tuple(parts))
 
 

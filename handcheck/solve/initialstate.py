@@ -102,8 +102,9 @@ def steady_state(circuit: Circuit) -> dict[str, Any]:
                     function = SourceFunction((SourceTerm(value, before_zero=True),))
                 else:
                     function = SourceFunction((SourceTerm(value, omega=omega, before_zero=True),))
-                p = dataclasses.replace(p, source=Source(function))
-            out.append(p)
+                out.append(dataclasses.replace(p, source=Source(function)))
+            else:
+                out.append(p)
         return out
 
     collect(solve(driven(zero), zero, "at DC"), False)

@@ -74,7 +74,7 @@ def _signs(a: Term, b: Term, pole: Any, pa: Any, pb: Any) -> tuple[int, int, Any
     tiny = mpmath.mpf(10) ** (-(WORK_DPS - 10)) * size
     signs = []
     for first, second, part in ((a.real_sign, b.real_sign, numeric.real), (a.imag_sign, b.imag_sign, numeric.imag)):
-        if first == 0 or second == 0 or first == second:
+        if 0 in (first, second) or first == second:
             signs.append(first or second)
         else:  # opposite signs: the sum's sign, zero when they cancel (conjugate poles)
             signs.append(0 if abs(part) <= tiny else _sign(part))

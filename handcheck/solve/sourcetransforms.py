@@ -120,8 +120,8 @@ def source_waves(source: Source, horizon: Any) -> list[Wave]:
         for weight, basis, at in term_waves(term):
             merged[(basis, at)] = merged.get((basis, at), zero) + weight
     out = []
-    for (basis, at), weight in merged.items():
-        weight = compact(sympy.expand(weight)) if not weight.is_Rational else weight
+    for (basis, at), total in merged.items():
+        weight = compact(sympy.expand(total)) if not total.is_Rational else total
         if weight != 0:
             out.append((weight, basis, at))
     return out

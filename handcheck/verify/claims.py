@@ -16,6 +16,7 @@ import math
 import re
 from dataclasses import dataclass
 from fractions import Fraction
+from itertools import pairwise
 from typing import Literal
 
 import mpmath
@@ -237,7 +238,7 @@ def _top_level_commas(text: str) -> list[int]:
 def _read_list(text: str) -> Claim:
     """A list of values with one unit at the end: ``"-500 + 866j, -500 - 866j, -1000 rad/s"``."""
     cuts = [-1, *_top_level_commas(text), len(text)]
-    pieces = [text[a + 1 : b].strip() for a, b in zip(cuts, cuts[1:])]
+    pieces = [text[a + 1 : b].strip() for a, b in pairwise(cuts)]
     if any(not piece for piece in pieces):
         raise ParseError('a list claim holds values between commas, like "-500 + 866j, -500 - 866j, -1000 rad/s"', text, None)
     _, unit = _split_unit(pieces[-1])

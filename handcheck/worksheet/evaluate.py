@@ -282,9 +282,8 @@ class _Evaluator:
         elif fn.dims == "polar":
             _dimensionless(name + " angle", args[1], self.text, node.args[1])
             dim = args[0].dim
-        if node.function in ("ln", "log10"):
-            if args[0].expr == 0:
-                raise ParseError(f'{name} of exactly 0 is not defined', self.text, node.start + 1)
+        if node.function in ("ln", "log10") and args[0].expr == 0:
+            raise ParseError(f'{name} of exactly 0 is not defined', self.text, node.start + 1)
         exprs = [a.expr for a in args]
         if self.angle_scale is not None and node.function in _TRIG:
             exprs[-1] = exprs[-1] * self.angle_scale

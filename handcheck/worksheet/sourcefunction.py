@@ -25,6 +25,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass
+from itertools import pairwise
 from typing import Any
 
 import sympy
@@ -163,9 +164,13 @@ class SourceFunction:
         """The distinct angular frequencies (> 0) of the terms that run for all t >= 0."""
         out: list[sympy.Expr] = []
         for term in self.terms:
-            if term.steady and term.omega != 0 and not any(_same(term.omega, w) for w in out):
-                if self.steady(term.omega) != 0:
-                    out.append(term.omega)
+            if (
+                term.steady
+                and term.omega != 0
+                and not any(_same(term.omega, w) for w in out)
+                and self.steady(term.omega) != 0
+            ):
+                out.append(term.omega)
         return tuple(out)
 
     @property
@@ -211,8 +216,8 @@ class SourceFunction:
                 key = (moved.power, moved.decay, moved.omega)
                 sums[key] = sums.get(key, sympy.Integer(0)) + moved.phasor
         out = []
-        for (power, decay, omega), phasor in sums.items():
-            phasor = _tidy(phasor)
+        for (power, decay, omega), total in sums.items():
+            phasor = _tidy(total)
             if phasor != 0 and abs(complex(sympy.N(phasor, 30))) > 1e-25 * (1 + abs(complex(sympy.N(phasor, 5)))):
                 out.append(SourceTerm(phasor, power, decay, omega, last))
         return tuple(out)
@@ -241,13 +246,13 @@ class SourceFunction:
         """Each steady sinusoid's phase multiplied by ``scale``; None when no phase is not 0."""
         terms, changed = [], False
         for t in self.terms:
-            if t.steady and t.omega != 0:
-                angle = sympy.arg(t.phasor)
-                if angle != 0:
-                    changed = True
-                    phasor = sympy.Abs(t.phasor) * sympy.exp(sympy.I * angle * scale)
-                    t = SourceTerm(phasor, 0, t.decay, t.omega, t.start, t.before_zero)
-            terms.append(t)
+            angle = sympy.arg(t.phasor) if t.steady and t.omega != 0 else 0
+            if angle != 0:
+                changed = True
+                phasor = sympy.Abs(t.phasor) * sympy.exp(sympy.I * angle * scale)
+                terms.append(SourceTerm(phasor, 0, t.decay, t.omega, t.start, t.before_zero))
+            else:
+                terms.append(t)
         return SourceFunction(tuple(terms), self.repeats) if changed else None
 
     def expanded(self, horizon: sympy.Expr) -> tuple[tuple[SourceTerm, ...], sympy.Expr | None]:
@@ -305,10 +310,10 @@ def sinusoid(peak: sympy.Expr, omega: sympy.Expr, phase: sympy.Expr) -> SourceFu
 def from_points(points: tuple[tuple[sympy.Expr, sympy.Expr], ...]) -> SourceFunction:
     """Straight lines through (time, value) points, holding the first value before the first
     point and the last value after the last. Times are exact, increasing, at least 0."""
-    first_time, first_value = points[0]
+    first_value = points[0][1]
     terms = [SourceTerm(first_value)] if first_value != 0 else []
     previous = sympy.Integer(0)
-    for (t0, v0), (t1, v1) in zip(points, points[1:]):
+    for (t0, v0), (t1, v1) in pairwise(points):
         slope = (v1 - v0) / (t1 - t0)
         if slope != previous:
             terms.append(SourceTerm(slope - previous, 1, start=t0))
@@ -509,8 +514,8 @@ def _paired(complex_terms: dict[tuple[int, Any, Any, bool], sympy.Expr], text: s
     import mpmath
 
     out: list[SourceTerm] = []
-    for (power, rate, start, before), c in complex_terms.items():
-        c = _tidy(c)
+    for (power, rate, start, before), coefficient in complex_terms.items():
+        c = _tidy(coefficient)
         if c == 0:
             continue
         imag = sympy.im(rate)
@@ -527,8 +532,7 @@ def _paired(complex_terms: dict[tuple[int, Any, Any, bool], sympy.Expr], text: s
             value = complex(sympy.N(c, 30))
             if abs(value.imag) > 1e-20 * abs(value):
                 raise _fail(text, "the function is not real (a complex coefficient, j in it?)")
-            c = sympy.re(c) if not c.is_real else c
-            phasor = _tidy(c)
+            phasor = _tidy(sympy.re(c) if not c.is_real else c)
         else:
             phasor = _tidy(2 * c)
         out.append(SourceTerm(phasor, power, _tidy(decay), _tidy(imag), start, before))
@@ -544,10 +548,10 @@ def _repeat(call: Any, factor: sympy.Expr, text: str) -> Repeat:
         raise _fail(text, "repeat(...) may only be multiplied by a real number")
     terms, _ = _canonical(body * factor, text, allow_repeat=False)
     window: list[SourceTerm] = []
-    for term in terms:
-        if term.start >= period:
+    for each in terms:
+        if each.start >= period:
             continue
-        term = SourceTerm(term.phasor, term.power, term.decay, term.omega, term.start)
+        term = SourceTerm(each.phasor, each.power, each.decay, each.omega, each.start)
         window.append(term)
         window += [moved.scaled(-1) for moved in term.at(period)]
     return Repeat(period, combined(window))
@@ -560,8 +564,8 @@ def combined(terms: list[SourceTerm]) -> tuple[SourceTerm, ...]:
         key = (term.power, term.decay, term.omega, term.start, term.before_zero)
         sums[key] = sums.get(key, sympy.Integer(0)) + term.phasor
     out = []
-    for (power, decay, omega, start, before), phasor in sums.items():
-        phasor = _tidy(phasor)
+    for (power, decay, omega, start, before), total in sums.items():
+        phasor = _tidy(total)
         if phasor != 0:
             out.append(SourceTerm(phasor, power, decay, omega, start, before))
     out.sort(key=lambda term: (float(term.start), term.power, float(term.decay), float(term.omega)))
