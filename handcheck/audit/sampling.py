@@ -77,7 +77,7 @@ def poly_values(poly: Any, columns: Mapping[int, Any]) -> Any:
     folded: dict[tuple[tuple[int, int], ...], Any] = {}
     for raw, coeff in zip(poly.monoms(), poly.coeffs(), strict=True):
         scale: Any = float(int(coeff))
-        key = []
+        key: list[tuple[int, int]] = []
         for index, power in enumerate(int(p) for p in raw):
             if not power:
                 continue
@@ -89,9 +89,9 @@ def poly_values(poly: Any, columns: Mapping[int, Any]) -> Any:
         folded[tuple(key)] = folded.get(tuple(key), 0.0) + scale
     cache: dict[tuple[int, int], Any] = {}
     total: Any = 0.0
-    for key, scale in folded.items():
+    for factors, scale in folded.items():
         term: Any = scale
-        for index, power in key:
+        for index, power in factors:
             if (index, power) not in cache:
                 cache[(index, power)] = columns[index] ** power
             term = term * cache[(index, power)]

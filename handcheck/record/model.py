@@ -143,7 +143,7 @@ def _circuit(inputs: Inputs) -> dict[str, Any]:
                 "engineering": engineered,
             }
         )
-        if is_source:
+        if is_source and spec is not None:
             raw = keys.get(part.id, {})
             sources.append(
                 {

@@ -87,9 +87,9 @@ def product_integral(f: TimeFunction, g: TimeFunction, until: Any) -> Any:
         left = [_numeric(t) for t in first]
         right = [_numeric(t) for t in second]
         total = mpmath.mpc(0)
-        for a in left:
-            for b in right:
-                total += _pair_numeric(a, b, end)
+        for x in left:
+            for y in right:
+                total += _pair_numeric(x, y, end)
         return +total.real
 
 

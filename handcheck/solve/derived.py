@@ -25,6 +25,7 @@ from __future__ import annotations
 
 import dataclasses
 from collections.abc import Callable
+from typing import Any
 
 import sympy
 
@@ -55,7 +56,8 @@ DERIVED: dict[str, str] = {
 POWER_NAMES = frozenset({"power", "reactive_power", "apparent_power", "power_factor"})
 
 #: How a quantity is evaluated on a (possibly changed) solution: the caller's evaluator.
-Evaluate = Callable[[Solution, object], Value]
+#: The quantity is typed Any: its class lives in solve/quantities.py, which imports this module.
+Evaluate = Callable[[Solution, Any], Value]
 
 _SHORT_ID = "short_current.link"
 
@@ -269,8 +271,8 @@ def evaluate_derived(solution: Solution, q: object, evaluate: Evaluate) -> Value
     if name in POWER_NAMES:
         return group_power(solution, name, args, text)
     if name in ("delivered_power", "delivered_reactive_power"):
-        inner = group_power(solution, name.removeprefix("delivered_"), args, text)
-        return Value(-inner.expr, inner.dim)
+        absorbed = group_power(solution, name.removeprefix("delivered_"), args, text)
+        return Value(-absorbed.expr, absorbed.dim)
     if name == "energy":
         if len(args) != 1:
             raise _fail("energy() takes one capacitor or inductor, like energy(C1)", text)

@@ -18,8 +18,8 @@ Design*, 1982, ch. 2, from memory). Real roots are isolated exactly
 
 from __future__ import annotations
 
-from collections.abc import Callable
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import sympy
 
@@ -28,6 +28,9 @@ from handcheck.solve.network import laplace_symbol, solve_rational
 from handcheck.solve.phasor import Solution
 from handcheck.worksheet.evaluate import Value
 from handcheck.worksheet.units import Dim, dim_of
+
+if TYPE_CHECKING:  # derived.py is imported where it is used
+    from handcheck.solve.derived import Evaluate
 
 __all__ = ["FREQUENCY_QUANTITIES", "LIST_QUANTITIES", "Response", "evaluate_frequency", "network_function"]
 
@@ -132,7 +135,7 @@ def impedance_function(solution: Solution, args: tuple[str, ...], text: str) -> 
     return _response(va - vb, dim_of("ohm"), text)
 
 
-def network_function(solution: Solution, q: object, evaluate: Callable[[Solution, object], Value]) -> Response:
+def network_function(solution: Solution, q: object, evaluate: Evaluate) -> Response:
     """The exact H(s) named by ``network_function(Q1, Q2)``, ``transfer(Q1, Q2)``,
     ``impedance(...)`` or ``admittance(...)``.
 
@@ -242,7 +245,7 @@ def _peak(h: Response, text: str) -> sympy.Expr:
     return where
 
 
-def evaluate_frequency(solution: Solution, q: object, evaluate: Callable[[Solution, object], Value]) -> Value | tuple[Value, ...]:
+def evaluate_frequency(solution: Solution, q: object, evaluate: Evaluate) -> Value | tuple[Value, ...]:
     """The value of a quantity of :data:`FREQUENCY_QUANTITIES`.
 
     Returns a :class:`Value` (for ``network_function``, an expression in s), or a

@@ -30,7 +30,7 @@ from handcheck.worksheet.evaluate import Value
 from handcheck.worksheet.expr import Token, tokenize
 from handcheck.worksheet.units import DIMENSIONLESS, dim_of
 
-__all__ = ["QUANTITIES", "Quantity", "evaluate_quantity", "parse_quantity"]
+__all__ = ["QUANTITIES", "Quantity", "evaluate_quantity", "evaluate_values", "parse_quantity"]
 
 #: Quantity names and the unit word used to display them.
 QUANTITIES: dict[str, str] = {
@@ -340,3 +340,15 @@ def evaluate_quantity(solution: Solution, quantity: Quantity) -> Value:
         For a time-domain quantity (not evaluated by the phasor solution).
     """
     return _Evaluator(solution, quantity.text).run(quantity)
+
+
+def evaluate_values(solution: Solution, quantity: Quantity) -> tuple[Value, ...]:
+    """The exact values of a list quantity (poles, zeros, band edges) in the solved circuit.
+
+    Raises
+    ------
+    ParseError
+        As :func:`evaluate_quantity`.
+    """
+    values = evaluate_frequency(solution, quantity, lambda sol, inner: _Evaluator(sol, quantity.text).run(inner))
+    return values if isinstance(values, tuple) else (values,)

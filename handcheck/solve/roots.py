@@ -232,7 +232,8 @@ def _numeric_roots_qq(poly: sympy.Poly) -> tuple[Root, ...]:
     roots: list[Root] = []
     bits = int(WORK_DPS * 3.33) + 64
     with flint.ctx.workprec(bits):
-        found = flint.fmpq_poly(coeffs).complex_roots()
+        # python-flint 0.9's stub says list[acb]; complex_roots() returns (root, multiplicity) pairs
+        found: list[tuple[flint.acb, int]] = flint.fmpq_poly(coeffs).complex_roots()  # type: ignore[assignment]
         for ball, mult in found:
             if mult != 1:  # an irreducible factor is squarefree
                 raise ArithmeticError("an irreducible factor reported a repeated root")

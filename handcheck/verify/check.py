@@ -31,7 +31,7 @@ from handcheck.circuit.model import Circuit
 from handcheck.errors import CircuitError, HandcheckError, TimeLimitError, UnitError, WorksheetError
 from handcheck.solve.frequency import LIST_QUANTITIES
 from handcheck.solve.phasor import Solution
-from handcheck.solve.quantities import TIME_DOMAIN, Quantity, evaluate_quantity, parse_quantity
+from handcheck.solve.quantities import TIME_DOMAIN, Quantity, evaluate_quantity, evaluate_values, parse_quantity
 from handcheck.solve.solutions import ExactSolutions
 from handcheck.solve.timequantities import evaluate_time_quantity, waveform_of
 from handcheck.verify.basis import matching_quantities, settle, unit_kind
@@ -145,7 +145,7 @@ class _Checker:
     def check_response(self, base: StepBase, claim: Claim, quantity: Quantity, tolerance: Tolerance) -> StepFinding:
         """A claimed network function (in s) or a claimed list (poles, zeros, band edges)."""
         if quantity.name in LIST_QUANTITIES:
-            truths = evaluate_quantity(self.solution, quantity)
+            truths = evaluate_values(self.solution, quantity)
             return check_list(base, claim, truths, tolerance)
         if claim.form == "list":
             return StepFinding(**base, verdict="differs", message=f"a list is claimed, but {quantity} is one value")

@@ -232,9 +232,9 @@ def gather_evidence(
                 numeric = _numeric(sim, q)
             except (HandcheckError, KeyError):
                 continue
-            exact = np.array([complex(wave.value(float(t))).real for t in sim.times])
-            peak = max(float(np.max(np.abs(exact))), float(np.max(np.abs(numeric))), 1e-300)
-            difference = float(np.max(np.abs(exact - numeric))) / peak
+            closed = np.array([complex(wave.value(float(t))).real for t in sim.times])
+            peak = max(float(np.max(np.abs(closed))), float(np.max(np.abs(numeric))), 1e-300)
+            difference = float(np.max(np.abs(closed - numeric))) / peak
             waveforms.append((q.text, difference))
             if difference > tolerance:
                 problems.append(

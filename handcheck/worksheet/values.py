@@ -6,6 +6,8 @@ the loader calls them so that no later stage reads worksheet text.
 
 from __future__ import annotations
 
+from fractions import Fraction
+
 import sympy
 
 from handcheck.errors import HandcheckError, UnitError, WorksheetError
@@ -121,7 +123,7 @@ def _read_frequency(text: str, what: str, *, file: str | None, line: int | None)
         value = evaluate(tree, {}, text)
     except HandcheckError as exc:
         raise exc.located(file, line) from None
-    if value.dim != Dim(time=-1) or not value.expr.is_positive:
+    if value.dim != Dim(time=Fraction(-1)) or not value.expr.is_positive:
         raise UnitError(
             f'{what} "{text}" must be a positive frequency in Hz or rad/s, like "60 Hz" or "377 rad/s"',
             file=file,
