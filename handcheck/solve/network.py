@@ -87,7 +87,6 @@ from typing import TYPE_CHECKING, Any
 from handcheck.solve.rational import RationalFunction, laplace_symbol, number_field, to_sympy_number
 
 if TYPE_CHECKING:  # pragma: no cover - typing only
-    import sympy
     from sympy.polys.matrices import DomainMatrix
 
 __all__ = ("RationalFunction", "laplace_symbol", "solve_rational")
@@ -112,8 +111,9 @@ def _vector(b: Any) -> list[Any]:
         if isinstance(e, (list, tuple)):
             if len(e) != 1:
                 raise ValueError("b must be a vector")
-            e = e[0]
-        out.append(e)
+            out.append(e[0])
+        else:
+            out.append(e)
     return out
 
 
@@ -203,7 +203,7 @@ def _check_deadline(deadline: float | None, stage: str) -> None:
         raise TimeoutError(f"solve_rational: time limit exceeded ({stage})")
 
 
-def _singular() -> tuple[type, ...]:
+def _singular() -> tuple[type[Exception], ...]:
     """Exceptions sympy raises for a singular exact solve."""
     from sympy.polys.matrices.exceptions import DMNonInvertibleMatrixError
 
@@ -273,7 +273,11 @@ def _reduce_pencil(
         Wsel = W.extract([Wrows[k] for k in sel], list(range(r)))
         return _StateSpace(Kmat, g, Wsel, tuple(c_full[k] for k in sel), None, "schur")
 
-    GQ2 = Gn - Gp * F if r else Gn
+    if r:
+        assert Gp is not None and F is not None  # both exist when r > 0 and m > 0
+        GQ2 = Gn - Gp * F
+    else:
+        GQ2 = Gn
     A2 = P * GQ2  # columns of A = P G Q beyond the first r
     A22 = A2[r:, :]
     schur_ok = True
@@ -463,7 +467,7 @@ def _solve(
     _check_deadline(deadline, "numerators")
 
     results = []
-    for i, k in enumerate(sel):
+    for i in range(len(sel)):
         ck = ss.c[i]
         low = [ck * dj for dj in d]  # c_k D(sigma)
         for j, w in enumerate(NW[i]):

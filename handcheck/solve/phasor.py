@@ -46,9 +46,10 @@ def _singular(system: MnaSystem, circuit: Circuit, matrix: list[list[sympy.Expr]
         involved = set(range(system.size))
     names = {system.labels[k][2:-1].split(".")[0] for k in involved}
     for part in circuit.parts:
-        if part.id in names or any(n in names for n in part.nodes if n != GROUND):
-            if part.kind in ("inductor", "capacitor", "voltage", "vcvs", "ccvs", "cccs", "vccs", "opamp", "transformer", "current"):
-                parts.add(part.id)
+        if (part.id in names or any(n in names for n in part.nodes if n != GROUND)) and part.kind in (
+            "inductor", "capacitor", "voltage", "vcvs", "ccvs", "cccs", "vccs", "opamp", "transformer", "current"
+        ):
+            parts.add(part.id)
     ordered = sorted(parts)
     listed = (", ".join(ordered[:-1]) + " and " + ordered[-1]) if len(ordered) > 1 else (ordered[0] if ordered else "the circuit")
     lines = [p.line for p in circuit.parts if p.id in parts and p.line]
