@@ -20,6 +20,7 @@ that reproduces the same number only by coincidence (``_RULES_OUT``).
 
 from __future__ import annotations
 
+import contextlib
 import dataclasses
 from collections.abc import Callable, Iterable
 
@@ -473,10 +474,8 @@ def worksheet_frequencies(quantities: Iterable[Quantity]) -> tuple[sympy.Expr, .
     while pending:
         q = pending.pop(0)
         if q.name == "at_frequency" and len(q.args) == 2 and isinstance(q.args[1], str):
-            try:
+            with contextlib.suppress(HandcheckError):  # the step itself reports it
                 found.setdefault(read_frequency(q.args[1], q.text), None)
-            except HandcheckError:
-                pass  # the step itself reports it
         pending.extend(a for a in q.args if isinstance(a, Quantity))
     return tuple(found)
 
@@ -489,7 +488,7 @@ def _other_frequency(ctx: Context) -> str | None:
     if ctx.truth is None or ctx.truth.dim not in (dim_of("ohm"), dim_of("S")) or ctx.circuit.omega == 0:
         return None
     named = [w for p in ctx.circuit.parts if p.source is not None for w in p.source.frequencies]
-    others = dict.fromkeys(w for w in (*named, *ctx.frequencies) if w != ctx.circuit.omega and w != 0)
+    others = dict.fromkeys(w for w in (*named, *ctx.frequencies) if w not in (ctx.circuit.omega, 0))
     here = format_number(float(sympy.N(ctx.circuit.frequency)), 6)
     for omega in list(others)[:6]:
         hertz = format_number(float(sympy.N(omega / (2 * sympy.pi))), 6)

@@ -8,6 +8,7 @@ from __future__ import annotations
 import dataclasses
 from collections.abc import Iterator, Mapping
 from dataclasses import dataclass
+from typing import Any
 
 import sympy
 
@@ -103,8 +104,9 @@ def at_omega(circuit: Circuit, omega: sympy.Expr) -> Circuit:
         source = part.source
         if source is not None and source.frequencies and circuit.active(part):
             moved = source.function.moved(circuit.omega, omega)
-            part = dataclasses.replace(part, source=dataclasses.replace(source, function=moved))
-        parts.append(part)
+            parts.append(dataclasses.replace(part, source=dataclasses.replace(source, function=moved)))
+        else:
+            parts.append(part)
     return dataclasses.replace(circuit, parts=tuple(parts), omega=omega)
 
 
@@ -116,8 +118,9 @@ def with_phases(circuit: Circuit, scale: sympy.Expr) -> Circuit | None:
         turned = source.function.phases_scaled(scale) if source is not None else None
         if source is not None and turned is not None:
             changed = True
-            part = dataclasses.replace(part, source=dataclasses.replace(source, function=turned))
-        parts.append(part)
+            parts.append(dataclasses.replace(part, source=dataclasses.replace(source, function=turned)))
+        else:
+            parts.append(part)
     return dataclasses.replace(circuit, parts=tuple(parts)) if changed else None
 
 
@@ -188,7 +191,8 @@ def replaced(tree: Node, target: Node, new: Node) -> Node:
     """The tree with the node ``target`` (found by identity) replaced by ``new``."""
     if tree is target:
         return new
-    changes = {}
+    # the fields of whichever node class the tree is: a child node or a tuple of them
+    changes: dict[str, Any] = {}
     for field in dataclasses.fields(tree):
         value = getattr(tree, field.name)
         if isinstance(value, Node):

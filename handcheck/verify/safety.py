@@ -33,7 +33,7 @@ def _crest(function: object) -> float:
     scales = [float(r.period) for r in function.repeats]  # type: ignore[attr-defined]
     scales += [1 / float(t.decay) for t in function.terms if t.decay > 0]  # type: ignore[attr-defined]
     scales += [2 * np.pi / float(t.omega) for t in function.terms if t.omega != 0]  # type: ignore[attr-defined]
-    span = max(starts + [0.0]) + 3 * max(scales + [1e-3])
+    span = max([*starts, 0.0]) + 3 * max([*scales, 1e-3])
     times = np.linspace(0.0, span, 2001)
     return max(abs(function.value(float(t))) for t in times)  # type: ignore[attr-defined]
 
