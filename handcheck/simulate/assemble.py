@@ -147,9 +147,9 @@ def assemble(circuit: Circuit, *, switches: Literal["after", "before"] = "after"
     branch: dict[str, int] = {}
     for part in parts:
         if part.kind == "transformer":
-            for key in current_keys(part):
-                branch[key] = len(labels)
-                labels.append(f"i({key})")
+            for name in current_keys(part):
+                branch[name] = len(labels)
+                labels.append(f"i({name})")
         elif part.kind != "coupling" and _needs_branch(part, controls):
             branch[part.id] = len(labels)
             labels.append(f"i({part.id})")
@@ -199,12 +199,12 @@ def assemble(circuit: Circuit, *, switches: Literal["after", "before"] = "after"
             continue
         if kind == "opamp":
             out, plus, minus = (idx(node) for node in part.nodes)
-            col = branch[part.id]
-            add(G, out, col, 1.0)  # the output current enters the op-amp from the output node
-            voltage_row(G, col, plus, minus, 1.0)
+            io = branch[part.id]
+            add(G, out, io, 1.0)  # the output current enters the op-amp from the output node
+            voltage_row(G, io, plus, minus, 1.0)
             if part.value != 0:  # finite open-loop gain A: v(+) - v(-) - v(out)/A = 0
-                add(G, col, out, -1.0 / float(part.value))
-            Jx[key_index[part.id], col] = 1.0
+                add(G, io, out, -1.0 / float(part.value))
+            Jx[key_index[part.id], io] = 1.0
             continue
         if kind == "transformer":
             p1, p2, s1, s2 = (idx(node) for node in part.nodes)

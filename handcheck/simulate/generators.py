@@ -24,6 +24,7 @@ from __future__ import annotations
 import cmath
 import math
 from dataclasses import dataclass
+from typing import SupportsComplex
 
 import numpy as np
 
@@ -239,9 +240,9 @@ def _plan(part: Part, offset: int) -> SourcePlan:
     return _with_initial(plan)
 
 
-def sympy_real(value: object) -> float:
+def sympy_real(value: SupportsComplex) -> float:
     """The real part of an exact number, as a float."""
-    return complex(value).real  # type: ignore[arg-type]
+    return complex(value).real
 
 
 def _with_initial(plan: SourcePlan) -> SourcePlan:

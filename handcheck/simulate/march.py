@@ -29,8 +29,8 @@ def steady_before(circuit: Circuit, exo: Exosystem) -> tuple[np.ndarray, list[st
     u = np.array([plan.before_dc for plan in exo.plans])
     rhs = eq.B @ u if len(u) else np.zeros(eq.size)
     x, *_ = np.linalg.lstsq(eq.G, rhs, rcond=1e-12)
-    rank = np.linalg.matrix_rank(eq.G, tol=1e-12 * max(np.linalg.norm(eq.G, 2), 1e-300))
-    if np.linalg.norm(eq.G @ x - rhs) > 1e-9 * max(np.linalg.norm(rhs), 1e-300) and np.linalg.norm(rhs) > 0:
+    rank = np.linalg.matrix_rank(eq.G, tol=1e-12 * max(float(np.linalg.norm(eq.G, 2)), 1e-300))
+    if np.linalg.norm(eq.G @ x - rhs) > 1e-9 * max(float(np.linalg.norm(rhs)), 1e-300) and np.linalg.norm(rhs) > 0:
         raise CircuitError(
             "before t = 0 the circuit has no DC steady state (a constant source drives a capacitor with no "
             'path for direct current, or an inductor with nothing to limit its current); use start = "rest"',

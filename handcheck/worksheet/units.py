@@ -166,8 +166,8 @@ def _registry() -> pint.UnitRegistry:
 
     folder = _cache_folder()
     try:
-        registry = pint.UnitRegistry(non_int_type=Fraction, cache_folder=folder)
-    except Exception:  # noqa: BLE001 - a damaged or half-written cache: parse afresh
+        registry: pint.UnitRegistry = pint.UnitRegistry(non_int_type=Fraction, cache_folder=folder)
+    except Exception:  # a damaged or half-written cache: parse afresh
         registry = pint.UnitRegistry(non_int_type=Fraction)
     for definition in _EXTRA:
         registry.define(definition)
@@ -198,10 +198,14 @@ def lookup_unit(name: str) -> UnitValue:
     dimensionality = quantity.dimensionality
     if set(dimensionality) - set(_BASES):
         raise UnitError(f'"{name}" is not an electrical unit')
-    dim = Dim._of([Fraction(dimensionality.get(base, 0)) for base in _BASES])
+    # pint types an exponent as any magnitude; from this registry it is an int or a Fraction
+    dim = Dim._of([Fraction(dimensionality.get(base, 0)) for base in _BASES])  # type: ignore[arg-type]
     if dim.dimensionless:
         raise UnitError(f'"{name}" is not a unit handcheck knows')
-    magnitude = Fraction(quantity.magnitude)
+    raw = quantity.magnitude
+    if not isinstance(raw, (int, float, Fraction)):  # pint's magnitude type also admits complex numbers and arrays
+        raise UnitError(f'"{name}" is not a unit handcheck knows')
+    magnitude = Fraction(raw)
     factor = sympy.Rational(magnitude.numerator, magnitude.denominator)
     return UnitValue(name, factor, dim)
 
