@@ -89,7 +89,7 @@ from handcheck.solve.rational import RationalFunction, laplace_symbol, number_fi
 if TYPE_CHECKING:  # pragma: no cover - typing only
     from sympy.polys.matrices import DomainMatrix
 
-__all__ = ("RationalFunction", "laplace_symbol", "solve_rational")
+__all__ = ("NetworkFunctions", "RationalFunction", "laplace_symbol", "prepare_rational", "solve_rational")
 
 
 def _rows(M: Any, name: str) -> list[list[Any]]:
@@ -407,35 +407,58 @@ def _adjugate_columns(ss: _StateSpace, d: list, deadline: float | None) -> Domai
     return DomainMatrix.hstack(*cols)
 
 
-def _solve(
-    G: Any,
-    C: Any,
-    b: Any,
-    unknowns: Sequence[int] | None,
-    time_limit: float | None,
-    use_flint: bool,
-) -> tuple[tuple[RationalFunction, ...], str]:
-    """Implementation of :func:`solve_rational`; also returns the route name.
+class NetworkFunctions:
+    """The reduced pencil of one right-hand side, ready to give any unknown's ``N_k/D_k``.
+
+    Built by :func:`prepare_rational`: the pencil reduction, the characteristic
+    polynomial and the adjugate vectors are computed once for every unknown; each
+    :meth:`function` then costs one row times a matrix and one gcd, so a caller that
+    needs a few unknowns of a large circuit pays for those few only.
+    """
+
+    def __init__(self, ss: _StateSpace, d: list, umat: Any, dom: Any, size: int, deadline: float | None) -> None:
+        self._ss, self._d, self._umat, self._dom = ss, d, umat, dom
+        self._deadline = deadline
+        self.size = size
+        self.route = ss.route
+        self._cache: dict[int, RationalFunction] = {}
+
+    def function(self, k: int) -> RationalFunction:
+        """``x_k(s)`` reduced (``D_k`` monic)."""
+        from sympy import Poly
+
+        cached = self._cache.get(k)
+        if cached is not None:
+            return cached
+        ss, d, dom = self._ss, self._d, self._dom
+        ck = ss.c[k]
+        low = [ck * dj for dj in d]  # c_k D(sigma)
+        if self._umat is not None:
+            for j, w in enumerate((ss.W[k : k + 1, :] * self._umat).to_list()[0]):
+                low[j] = low[j] + w
+        s = laplace_symbol()
+        if ss.shift is None:
+            Nk = Poly.from_list(list(reversed(low)), s, domain=dom)
+            Dk = Poly.from_list(list(reversed(d)), s, domain=dom)
+        else:
+            # p(t) -> (s - s0)^r p(1/(s - s0)): reverse the length-(r+1) list, shift
+            Nk = Poly.from_list(low, s, domain=dom).shift(-ss.shift)
+            Dk = Poly.from_list(list(d), s, domain=dom).shift(-ss.shift)
+        result = RationalFunction.reduced(Nk, Dk)
+        self._cache[k] = result
+        return result
+
+
+def _prepare(G: Any, C: Any, b: Any, time_limit: float | None, use_flint: bool) -> NetworkFunctions:
+    """The pencil reduction of :func:`solve_rational`, for every unknown, numerators not yet formed.
 
     ``use_flint=False`` forces the general pure-sympy route.
     """
-    from sympy import Poly
     from sympy.polys.matrices import DomainMatrix
 
     deadline = None if time_limit is None else time.monotonic() + float(time_limit)
     _check_deadline(deadline, "start")
     dom, n, Gd, Cd, bd = _domain_entries(G, C, b)
-    if unknowns is None:
-        sel = list(range(n))
-    else:
-        sel = []
-        for k in unknowns:
-            if isinstance(k, bool) or not isinstance(k, Integral):
-                raise TypeError(f"unknown index must be an int, got {k!r}")
-            if not 0 <= int(k) < n:
-                raise IndexError(f"unknown index {k} out of range 0..{n - 1}")
-            sel.append(int(k))
-
     if use_flint and dom.is_QQ:
         try:
             import flint  # noqa: F401
@@ -453,35 +476,49 @@ def _solve(
             Gm, Cm, bm = dense
     _check_deadline(deadline, "conversion")
 
-    ss = _reduce_pencil(Gm, Cm, bm, sel, deadline)
-    r = ss.K.shape[0]
+    ss = _reduce_pencil(Gm, Cm, bm, range(n), deadline)
     d = _det_shifted(ss.K, use_flint)
     _check_deadline(deadline, "characteristic polynomial")
-    s = laplace_symbol()
-    D = Poly.from_list(list(reversed(d)), s, domain=dom)
-    if r:
-        Umat = _adjugate_columns(ss, d, deadline)
-        NW = (ss.W * Umat).to_list()
-    else:
-        NW = [[] for _ in sel]
-    _check_deadline(deadline, "numerators")
+    umat = _adjugate_columns(ss, d, deadline) if ss.K.shape[0] else None
+    return NetworkFunctions(ss, d, umat, dom, n, deadline)
 
+
+def _solve(
+    G: Any,
+    C: Any,
+    b: Any,
+    unknowns: Sequence[int] | None,
+    time_limit: float | None,
+    use_flint: bool,
+) -> tuple[tuple[RationalFunction, ...], str]:
+    """Implementation of :func:`solve_rational`; also returns the route name."""
+    prepared = _prepare(G, C, b, time_limit, use_flint)
+    n = prepared.size
+    if unknowns is None:
+        sel = list(range(n))
+    else:
+        sel = []
+        for k in unknowns:
+            if isinstance(k, bool) or not isinstance(k, Integral):
+                raise TypeError(f"unknown index must be an int, got {k!r}")
+            if not 0 <= int(k) < n:
+                raise IndexError(f"unknown index {k} out of range 0..{n - 1}")
+            sel.append(int(k))
     results = []
-    for i in range(len(sel)):
-        ck = ss.c[i]
-        low = [ck * dj for dj in d]  # c_k D(sigma)
-        for j, w in enumerate(NW[i]):
-            low[j] = low[j] + w
-        Nk = Poly.from_list(list(reversed(low)), s, domain=dom)
-        Dk = D
-        if ss.shift is not None:
-            # p(t) -> (s - s0)^r p(1/(s - s0)): reverse the length-(r+1) list, shift
-            Nk = Poly.from_list(low, s, domain=dom).shift(-ss.shift)
-            Dk = Poly.from_list(list(d), s, domain=dom).shift(-ss.shift)
-        results.append(RationalFunction.reduced(Nk, Dk))
+    for i, k in enumerate(sel):
+        results.append(prepared.function(k))
         if i % 16 == 15:
-            _check_deadline(deadline, "reduction")
-    return tuple(results), ss.route
+            _check_deadline(prepared._deadline, "reduction")
+    return tuple(results), prepared.route
+
+
+def prepare_rational(G: Any, C: Any, b: Any, *, time_limit: float | None = None) -> NetworkFunctions:
+    """Reduce ``(G + s*C) x = b`` once; each unknown's rational function on request.
+
+    Same arguments, exceptions and exactness as :func:`solve_rational` (which is
+    this followed by :meth:`NetworkFunctions.function` for every unknown wanted).
+    """
+    return _prepare(G, C, b, time_limit, use_flint=True)
 
 
 def solve_rational(

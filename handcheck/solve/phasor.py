@@ -11,8 +11,9 @@ quickly; then each unknown is first found as an exact rational function of s
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import sympy
 
@@ -21,7 +22,10 @@ from handcheck.circuit.model import GROUND, Circuit, Part
 from handcheck.circuit.structure import check_dc
 from handcheck.errors import CircuitError, TimeLimitError
 
-__all__ = ["Solution", "part_current", "part_voltage", "solve", "solve_columns"]
+if TYPE_CHECKING:  # pragma: no cover - typing only
+    from handcheck.solve.network import NetworkFunctions
+
+__all__ = ["Solution", "Unknowns", "part_current", "part_voltage", "solve", "solve_columns"]
 
 
 def _format_frequency(omega: sympy.Expr) -> str:
@@ -63,10 +67,49 @@ def _singular(system: MnaSystem, circuit: Circuit, matrix: list[list[sympy.Expr]
     )
 
 
-def solve_columns(system: MnaSystem, circuit: Circuit, columns: Sequence[Sequence[sympy.Expr]]) -> list[list[sympy.Expr]]:
+class Unknowns(Sequence[sympy.Expr]):
+    """The exact phasors of a system's unknowns, each built on first use.
+
+    ``build(k)`` gives unknown k; the value is kept, so every caller sees the same
+    expression. An unknown nobody asks for is never formed (a step of a large
+    circuit needs a handful of its hundreds of unknowns).
+    """
+
+    def __init__(self, size: int, build: Callable[[int], sympy.Expr]) -> None:
+        self._size = size
+        self._build = build
+        self._values: dict[int, sympy.Expr] = {}
+
+    def __len__(self) -> int:
+        return self._size
+
+    def __getitem__(self, index):  # type: ignore[no-untyped-def, override]
+        if isinstance(index, slice):
+            return tuple(self[k] for k in range(*index.indices(self._size)))
+        k = index + self._size if index < 0 else index
+        if not 0 <= k < self._size:
+            raise IndexError(f"unknown {index} out of range 0..{self._size - 1}")
+        value = self._values.get(k)
+        if value is None:
+            value = self._values[k] = self._build(k)
+        return value
+
+    def __eq__(self, other: object) -> bool:
+        if not isinstance(other, Sequence) or len(other) != len(self):
+            return NotImplemented
+        return all(a == b for a, b in zip(self, other, strict=True))
+
+    __hash__ = None  # type: ignore[assignment]
+
+    def __repr__(self) -> str:
+        return f"Unknowns({self._size}, formed {sorted(self._values)})"
+
+
+def solve_columns(system: MnaSystem, circuit: Circuit, columns: Sequence[Sequence[sympy.Expr]]) -> list[Sequence[sympy.Expr]]:
     """Solve ``(G + jw C) x = b`` exactly for each right-hand side ``b`` in ``columns``.
 
-    Returns one list of unknowns per column.
+    Returns one sequence of unknowns per column (formed on first use when w is
+    transcendental, see :class:`Unknowns`).
 
     Raises
     ------
@@ -79,15 +122,24 @@ def solve_columns(system: MnaSystem, circuit: Circuit, columns: Sequence[Sequenc
     s = sympy.I * circuit.omega
     if circuit.omega.is_algebraic:
         return _solve_direct(system, circuit, s, columns)
-    return _solve_by_network_functions(system, circuit, s, columns)
+    functions = _network_functions(system, circuit, columns)
+    return [_weighted(system, [(sympy.Integer(1), f)], circuit.omega) for f in functions]
 
 
 def _solve_direct(system: MnaSystem, circuit: Circuit, s: sympy.Expr, columns: Sequence[Sequence[sympy.Expr]]) -> list[list[sympy.Expr]]:
     from sympy.polys.matrices import DomainMatrix
     from sympy.polys.matrices.exceptions import DMNonInvertibleMatrixError
 
+    from handcheck.solve.realform import solve_real_form
+
     n = system.size
     matrix = [[system.G[r][c] + s * system.C[r][c] for c in range(n)] for r in range(n)]
+    try:
+        fast = solve_real_form(system.G, system.C, circuit.omega, columns)
+    except ZeroDivisionError:
+        raise _singular(system, circuit, matrix) from None
+    if fast is not None:
+        return fast
     rhs = [[columns[k][r] for k in range(len(columns))] for r in range(n)]
     both = DomainMatrix.from_list_sympy(
         n, n + len(columns), [row + rhs[r] for r, row in enumerate(matrix)], extension=True
@@ -102,34 +154,54 @@ def _solve_direct(system: MnaSystem, circuit: Circuit, s: sympy.Expr, columns: S
     return [[values[r, k] for r in range(n)] for k in range(len(columns))]
 
 
-def _solve_by_network_functions(
-    system: MnaSystem, circuit: Circuit, s: sympy.Expr, columns: Sequence[Sequence[sympy.Expr]]
-) -> list[list[sympy.Expr]]:
-    from handcheck.solve.network import solve_rational
+def _network_functions(system: MnaSystem, circuit: Circuit, columns: Sequence[Sequence[sympy.Expr]]) -> list[NetworkFunctions | None]:
+    """Each column's reduced pencil (None for a zero column); no unknown is formed yet."""
+    from handcheck.solve.network import prepare_rational
 
-    results = []
+    prepared: list[NetworkFunctions | None] = []
     for column in columns:
         if all(v == 0 for v in column):
-            results.append([sympy.Integer(0)] * system.size)
+            prepared.append(None)
             continue
         try:
-            functions = solve_rational(system.G, system.C, list(column))
+            prepared.append(prepare_rational(system.G, system.C, list(column)))
         except TimeLimitError:
             raise
         except ValueError:
             n = system.size
+            s = sympy.I * circuit.omega
             matrix = [[system.G[r][c] + s * system.C[r][c] for c in range(n)] for r in range(n)]
             raise _singular(system, circuit, matrix) from None
-        values = []
-        for fn in functions:
-            den = fn.den.as_expr().subs(fn.den.gen, s)
-            if sympy.expand(den) == 0:
-                n = system.size
-                matrix = [[system.G[r][c] + s * system.C[r][c] for c in range(n)] for r in range(n)]
-                raise _singular(system, circuit, matrix)
-            values.append(fn.num.as_expr().subs(fn.num.gen, s) / den)
-        results.append(values)
-    return results
+    return prepared
+
+
+def _weighted(system: MnaSystem, terms: list[tuple[sympy.Expr, NetworkFunctions | None]], omega: sympy.Expr) -> Unknowns:
+    """Unknowns ``sum(weight * x_k(jw))`` over the columns, each formed on first use.
+
+    Horner-free: ``x_k(jw) = sum c_i (jw)^i / sum d_i (jw)^i`` is assembled from the
+    exact coefficients and the powers of jw (kept once), never by substituting into a
+    sympy tree. w is transcendental here (2*pi*f), so no denominator can vanish at jw:
+    its coefficients are rational or algebraic, and a zero would make jw algebraic.
+    """
+    powers: list[sympy.Expr] = [sympy.Integer(1)]
+
+    def at(poly: sympy.Poly) -> sympy.Expr:
+        coeffs = poly.all_coeffs()[::-1]
+        while len(powers) < len(coeffs):
+            powers.append(powers[-1] * s)
+        return sympy.Add(*[c * p for c, p in zip(coeffs, powers, strict=False) if c != 0])
+
+    def build(k: int) -> sympy.Expr:
+        total: sympy.Expr = sympy.Integer(0)
+        for weight, functions in terms:
+            if functions is not None and weight != 0:
+                fn = functions.function(k)
+                if not fn.num.is_zero:
+                    total += weight * (at(fn.num) / at(fn.den))
+        return total
+
+    s = sympy.I * omega
+    return Unknowns(system.size, build)
 
 
 @dataclass(frozen=True)
@@ -143,7 +215,7 @@ class Solution:
 
     circuit: Circuit
     system: MnaSystem
-    x: tuple[sympy.Expr, ...]
+    x: Sequence[sympy.Expr]
     u: dict[str, sympy.Expr]
 
     @property
@@ -177,12 +249,16 @@ def solve(circuit: Circuit, system: MnaSystem | None = None) -> Solution:
             solve_columns(system, circuit, [[sympy.Integer(1)] + [sympy.Integer(0)] * (system.size - 1)])
         return Solution(circuit, system, (sympy.Integer(0),) * system.size, u)
     columns = [[system.B[r][k] for r in range(system.size)] for k in active]
-    responses = solve_columns(system, circuit, columns)
-    x = [
-        sum((response[r] * u[system.sources[k]] for k, response in zip(active, responses, strict=True)), sympy.Integer(0))
-        for r in range(system.size)
-    ]
-    return Solution(circuit, system, tuple(x), u)
+    weights = [u[system.sources[k]] for k in active]
+    if circuit.omega.is_algebraic:
+        responses = solve_columns(system, circuit, columns)
+        x = [
+            sum((response[r] * w for w, response in zip(weights, responses, strict=True)), sympy.Integer(0))
+            for r in range(system.size)
+        ]
+        return Solution(circuit, system, tuple(x), u)
+    functions = _network_functions(system, circuit, columns)
+    return Solution(circuit, system, _weighted(system, list(zip(weights, functions, strict=True)), circuit.omega), u)
 
 
 def part_voltage(solution: Solution, part: Part) -> sympy.Expr:

@@ -367,7 +367,13 @@ def _read_polar(text: str) -> Claim:
 
 
 def to_complex(expr: sympy.Expr) -> complex:
-    """An exact value evaluated to a Python complex, via 30-digit arithmetic."""
+    """An exact value evaluated to a Python complex: certified by ball arithmetic
+    (:func:`handcheck.solve.certified.certify`), else via 30-digit arithmetic."""
+    from handcheck.solve.certified import certify
+
+    certified = certify(expr)
+    if certified is not None:
+        return certified.value
     value = sympy.N(expr, DIGITS)
     re_part, im_part = value.as_real_imag()
     try:
