@@ -18,12 +18,12 @@ from handcheck.solve.phasor import solve
 from handcheck.solve.realform import solve_real_form
 from handcheck.verify.safety import cautions
 
-I, pi = sympy.I, sympy.pi
+J, pi = sympy.I, sympy.pi
 CASES = [
-    ("rational times power of j*100*pi", sympy.Rational(7, 3) * (I * 100 * pi) ** 9 + sympy.Rational(-1, 5)),
-    ("ratio of polynomials in j*w", (1 + 3 * I * pi / 7) / (2 - (I * 100 * pi) ** 2 / 10**5)),
-    ("roots and exponentials", sympy.sqrt(6) / 5 * sympy.exp(I * sympy.Rational(221, 1800) * pi)),
-    ("abs, arg and atan2", sympy.Abs(3 + 4 * I) + sympy.arg(-1 + I) + sympy.atan2(1, 3)),
+    ("rational times power of j*100*pi", sympy.Rational(7, 3) * (J * 100 * pi) ** 9 + sympy.Rational(-1, 5)),
+    ("ratio of polynomials in j*w", (1 + 3 * J * pi / 7) / (2 - (J * 100 * pi) ** 2 / 10**5)),
+    ("roots and exponentials", sympy.sqrt(6) / 5 * sympy.exp(J * sympy.Rational(221, 1800) * pi)),
+    ("abs, arg and atan2", sympy.Abs(3 + 4 * J) + sympy.arg(-1 + J) + sympy.atan2(1, 3)),
     ("strong cancellation", pi**20 - sympy.Rational(8769956796, 1) - sympy.Rational(1, 10**3)),
 ]
 
@@ -73,7 +73,7 @@ def test_real_form_equals_the_gaussian_rational_solve() -> None:
     G, C, b = _ladder_system(12)
     w = sympy.Rational(3, 2)
     (fast,) = solve_real_form(G, C, w, [b])
-    a = DomainMatrix.from_list_sympy(12, 12, [[G[r][c] + I * w * C[r][c] for c in range(12)] for r in range(12)])
+    a = DomainMatrix.from_list_sympy(12, 12, [[G[r][c] + J * w * C[r][c] for c in range(12)] for r in range(12)])
     rhs = DomainMatrix.from_list_sympy(12, 1, [[v] for v in b]).convert_to(a.domain)
     reference = a.to_field().lu_solve(rhs.to_field()).to_Matrix()
     assert all(sympy.expand(fast[r] - reference[r, 0]) == 0 for r in range(12))

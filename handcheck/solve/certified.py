@@ -31,7 +31,7 @@ PRECISIONS = (96, 192, 384, 1000)
 WIDTH = 2.0**-62
 
 
-class _Unknown(Exception):
+class _UnknownError(Exception):
     """An expression the ball evaluator does not handle."""
 
 
@@ -107,7 +107,7 @@ def _function(expr: sympy.Expr, memo: dict[sympy.Expr, Any]) -> Any:
         return one[name](args[0])
     if name == "atan2" and len(args) == 2 and all(a.imag == 0 for a in args):
         return flint.acb(flint.arb.atan2(args[0].real, args[1].real))
-    raise _Unknown(name)
+    raise _UnknownError(name)
 
 
 def _narrow(part: Any, scale: float) -> bool:
@@ -143,7 +143,7 @@ def certify(expr: sympy.Expr) -> Certified | None:
             flint.ctx.prec = prec
             try:
                 z = _ball(sympy.sympify(expr), {})
-            except (_Unknown, ZeroDivisionError, ValueError, TypeError):
+            except (_UnknownError, ZeroDivisionError, ValueError, TypeError):
                 return None
             re, im = z.real, z.imag
             magnitude = float(abs(z).mid()) if z.is_finite() else math.inf

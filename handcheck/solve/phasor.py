@@ -121,12 +121,12 @@ def solve_columns(system: MnaSystem, circuit: Circuit, columns: Sequence[Sequenc
         return [[] for _ in columns]
     s = sympy.I * circuit.omega
     if circuit.omega.is_algebraic:
-        return _solve_direct(system, circuit, s, columns)
+        return list(_solve_direct(system, circuit, s, columns))
     functions = _network_functions(system, circuit, columns)
     return [_weighted(system, [(sympy.Integer(1), f)], circuit.omega) for f in functions]
 
 
-def _solve_direct(system: MnaSystem, circuit: Circuit, s: sympy.Expr, columns: Sequence[Sequence[sympy.Expr]]) -> list[list[sympy.Expr]]:
+def _solve_direct(system: MnaSystem, circuit: Circuit, s: sympy.Expr, columns: Sequence[Sequence[sympy.Expr]]) -> list[Sequence[sympy.Expr]]:
     from sympy.polys.matrices import DomainMatrix
     from sympy.polys.matrices.exceptions import DMNonInvertibleMatrixError
 
@@ -139,7 +139,7 @@ def _solve_direct(system: MnaSystem, circuit: Circuit, s: sympy.Expr, columns: S
     except ZeroDivisionError:
         raise _singular(system, circuit, matrix) from None
     if fast is not None:
-        return fast
+        return list(fast)
     rhs = [[columns[k][r] for k in range(len(columns))] for r in range(n)]
     both = DomainMatrix.from_list_sympy(
         n, n + len(columns), [row + rhs[r] for r, row in enumerate(matrix)], extension=True
