@@ -17,6 +17,7 @@ import flint
 import sympy
 
 from handcheck.errors import HandcheckError
+from handcheck.solve.exact import as_sympy
 
 __all__ = ["AuditError", "RatFunc", "Ring"]
 
@@ -66,7 +67,7 @@ class Ring:
             If the expression is not rational in the ring's names with rational
             coefficients (a square root of a part, an irrational number).
         """
-        return _Converter(self).run(sympy.sympify(expr))
+        return _Converter(self).run(as_sympy(expr))
 
     def to_sympy(self, poly: Any, plain: bool = False) -> sympy.Expr:
         """A polynomial as a sympy expression in the ring's symbols."""

@@ -23,6 +23,8 @@ from typing import Any
 
 import sympy
 
+from handcheck.solve.exact import as_sympy
+
 __all__ = ["Certified", "certify"]
 
 #: Precisions tried, in bits (the last is about 300 digits).
@@ -142,7 +144,7 @@ def certify(expr: sympy.Expr) -> Certified | None:
         for prec in PRECISIONS:
             flint.ctx.prec = prec
             try:
-                z = _ball(sympy.sympify(expr), {})
+                z = _ball(as_sympy(expr), {})
             except (_UnknownError, ZeroDivisionError, ValueError, TypeError):
                 return None
             re, im = z.real, z.imag

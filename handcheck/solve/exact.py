@@ -4,7 +4,39 @@ from __future__ import annotations
 
 from typing import Any
 
-__all__ = ["compact", "real_imag", "real_part", "short", "tidy", "transcendental"]
+__all__ = ["as_sympy", "compact", "real_imag", "real_part", "short", "tidy", "transcendental"]
+
+
+def as_sympy(x: Any) -> Any:
+    """A number the program computed (int, Fraction, sympy) as a sympy number.
+
+    Unlike ``sympy.sympify`` this never parses a string: text from a worksheet
+    goes through ``worksheet.expr`` only.
+
+    Raises
+    ------
+    TypeError
+        For any other type (a string, a float that should have been exact).
+
+    Examples
+    --------
+    >>> from fractions import Fraction
+    >>> as_sympy(Fraction(3, 4))
+    3/4
+    """
+    import fractions
+
+    import sympy
+
+    if isinstance(x, sympy.Basic):
+        return x
+    if isinstance(x, bool):
+        raise TypeError("a truth value is not a number")
+    if isinstance(x, int):
+        return sympy.Integer(x)
+    if isinstance(x, fractions.Fraction):
+        return sympy.Rational(x.numerator, x.denominator)
+    raise TypeError(f"not an exact number: {type(x).__name__}")
 
 
 def tidy(x: Any) -> Any:

@@ -19,6 +19,8 @@ from typing import Any
 
 import sympy
 
+from handcheck.solve.exact import as_sympy
+
 __all__ = ["solve_real_form"]
 
 
@@ -70,7 +72,7 @@ def solve_real_form(
         return None
     split = []
     for column in columns:
-        parts = [(sympy.Rational(v), sympy.Integer(0)) if isinstance(v, (int, sympy.Rational)) else sympy.sympify(v).as_real_imag() for v in column]
+        parts = [(sympy.Rational(v), sympy.Integer(0)) if isinstance(v, (int, sympy.Rational)) else as_sympy(v).as_real_imag() for v in column]
         if not all(isinstance(p, sympy.Rational) for pair in parts for p in pair):
             return None
         split.append(parts)
