@@ -95,7 +95,9 @@ def main() -> None:
         print(f"cold single check of one worksheet: {single:.2f} s wall (median of {len(cold)})")
         for jobs in (1, 2):
             each = times[jobs] / len(sheets)
-            print(f"per worksheet in the batch with --jobs {jobs}: {each:.2f} s = {each / single:.2f} x a cold single check")
+            print(
+                f"per worksheet in the batch with --jobs {jobs}: {each:.2f} s = {each / single:.2f} x a cold single check"
+            )
 
 
 if __name__ == "__main__":

@@ -31,7 +31,10 @@ if ROOT not in sys.path:
 
 def ladder(sections: int) -> str:
     lines = [
-        "[worksheet]", "format = 1", 'title = "Benchmark ladder at 1000 rad/s (invented)"', "[parts]",
+        "[worksheet]",
+        "format = 1",
+        'title = "Benchmark ladder at 1000 rad/s (invented)"',
+        "[parts]",
         'drive = { voltage = "10 V", frequency = "1000 rad/s", nodes = ["n0", "gnd"] }',
     ]
     for k in range(sections):

@@ -144,8 +144,10 @@ def _solve_route(route: str, n: int):
         M = sympy.Matrix(
             size,
             size,
-            lambda i, j: sympy.Rational(G[i][j].numerator, G[i][j].denominator)
-            + s * sympy.Rational(C[i][j].numerator, C[i][j].denominator),
+            lambda i, j: (
+                sympy.Rational(G[i][j].numerator, G[i][j].denominator)
+                + s * sympy.Rational(C[i][j].numerator, C[i][j].denominator)
+            ),
         )
         rhs = sympy.Matrix([sympy.Rational(x.numerator, x.denominator) for x in b])
         if route == "LUsolve":
@@ -198,8 +200,10 @@ def main(argv=None) -> int:
     args = ap.parse_args(argv)
     T = args.time_limit
 
-    print(f"RLC ladder, exact output voltage V_N(s); time limit {T:g} s per case, "
-          f"each case in its own process; times exclude imports, a warm-up on N = 1 and ladder construction.")
+    print(
+        f"RLC ladder, exact output voltage V_N(s); time limit {T:g} s per case, "
+        f"each case in its own process; times exclude imports, a warm-up on N = 1 and ladder construction."
+    )
     head = f"{'N':>3} {'unknowns':>8} " + " ".join(f"{h:>22}" for _, h in COLUMNS) + "  check"
     print(head)
     print("-" * len(head))
@@ -229,8 +233,7 @@ def main(argv=None) -> int:
         else:
             check = "DISAGREE: " + ", ".join(answers)
             all_ok = False
-        print(f"{n:>3} {3 * n + 2:>8} " + " ".join(f"{c:>22}" for c in cells) + "  " + check,
-              flush=True)
+        print(f"{n:>3} {3 * n + 2:>8} " + " ".join(f"{c:>22}" for c in cells) + "  " + check, flush=True)
     if target is not None:
         verdict = "met" if target < 2.0 else "NOT met"
         print(f"\ntarget: N = 64 in under 2 s -> solve_rational took {target:.3f} s ({verdict})")

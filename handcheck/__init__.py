@@ -80,7 +80,9 @@ def check_file(path: str, *, time_limit: float | None = None) -> Report:
     return report
 
 
-def check_text(text: str, path: str = "<worksheet>", *, name: str | None = None, time_limit: float | None = None) -> Report:
+def check_text(
+    text: str, path: str = "<worksheet>", *, name: str | None = None, time_limit: float | None = None
+) -> Report:
     """Check a worksheet given as text.
 
     Parameters

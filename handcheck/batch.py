@@ -23,7 +23,19 @@ from typing import Any, Literal
 
 from handcheck.errors import HandcheckError, TimeLimitError, WorksheetError
 
-__all__ = ["Options", "Outcome", "check_all", "check_one", "expand", "print_summary_table", "record_all", "status_of", "summary_line", "summary_rows", "summary_table"]
+__all__ = [
+    "Options",
+    "Outcome",
+    "check_all",
+    "check_one",
+    "expand",
+    "print_summary_table",
+    "record_all",
+    "status_of",
+    "summary_line",
+    "summary_rows",
+    "summary_table",
+]
 
 EXIT_OK, EXIT_DISAGREES, EXIT_BAD_INPUT = 0, 1, 2
 

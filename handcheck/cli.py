@@ -41,7 +41,9 @@ def _parser() -> argparse.ArgumentParser:
     check.add_argument("--junit", metavar="OUT", help="also write JUnit XML to OUT (one test suite per worksheet)")
     check.add_argument("--jobs", type=_jobs, default=1, metavar="N", help="check N worksheets at once (default 1)")
     check.add_argument("--evidence", action="store_true", help="add the independent numerical time-domain evidence")
-    check.add_argument("--plot", metavar="OUT", help="write the evidence plots to OUT (.svg or .png); implies --evidence")
+    check.add_argument(
+        "--plot", metavar="OUT", help="write the evidence plots to OUT (.svg or .png); implies --evidence"
+    )
     check.add_argument(
         "--time-limit",
         type=_seconds,
@@ -55,12 +57,17 @@ def _parser() -> argparse.ArgumentParser:
     simulate.add_argument("--json", action="store_true", help="print the evidence as JSON")
     simulate.add_argument("--time-limit", type=_seconds, default=None, metavar="SECONDS", help="wall-clock budget")
     record = commands.add_parser("record", help="check a worksheet and write its calculation record")
-    record.add_argument("paths", nargs="+", metavar="PATH", help="the worksheet (TOML, format 1), or several and folders")
+    record.add_argument(
+        "paths", nargs="+", metavar="PATH", help="the worksheet (TOML, format 1), or several and folders"
+    )
     record.add_argument(
         "-o", "--output", required=True, metavar="OUT", help="the record (.html, .md or .json), or a folder for several"
     )
     record.add_argument(
-        "--format", choices=("html", "md", "json"), default=None, help="records into the folder OUT in this format (default html)"
+        "--format",
+        choices=("html", "md", "json"),
+        default=None,
+        help="records into the folder OUT in this format (default html)",
     )
     record.add_argument("--no-evidence", action="store_true", help="leave out the numerical solution and its plots")
     record.add_argument("--time-limit", type=_seconds, default=None, metavar="SECONDS", help="wall-clock budget")
@@ -229,7 +236,9 @@ def _record(args: argparse.Namespace, budget: Any) -> int:
         ok = inputs.report.ok and all(f.ok for f in inputs.audit) and (inputs.evidence is None or inputs.evidence.ok)
         return EXIT_OK if ok else EXIT_DISAGREES
     stored = read_record(args.file)
-    inputs = record_inputs(recorded_worksheet(stored, args.file), evidence="evidence" in stored["results"], budget=budget)
+    inputs = record_inputs(
+        recorded_worksheet(stored, args.file), evidence="evidence" in stored["results"], budget=budget
+    )
     outcome = compare(args.file, stored, inputs)
     if outcome.same:
         print(f"{args.file}: every result is the same")
@@ -272,7 +281,7 @@ def _not_over_inputs(args: argparse.Namespace) -> None:
                 same = False
             if same:
                 flag = "-o" if option == "output" else f"--{option}"
-                raise WorksheetError(f'{flag} {out} is the worksheet itself; write the output to another file')
+                raise WorksheetError(f"{flag} {out} is the worksheet itself; write the output to another file")
 
 
 def main(argv: Sequence[str] | None = None) -> int:

@@ -138,6 +138,7 @@ class TimeLimitError(BaseException):
     def where(self) -> str:
         """The location prefix, as :meth:`HandcheckError.where`."""
         return _prefix(self.file, self.line)
+
     located = HandcheckError.located  # type: ignore[assignment]
 
     def __str__(self) -> str:

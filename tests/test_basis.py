@@ -25,12 +25,15 @@ HEADER = '[worksheet]\nformat = 1\ntitle = "basis"\n'
 # A 10 V DC source on a 3 kohm + 2 kohm divider. Ohm's law and the voltage divider
 # (Nilsson and Riedel, Electric Circuits, 10th ed., sec. 3.3; from memory):
 # I = 10 V / 5 kohm = 2 mA; voltage(out) = 10 V * 2/5 = 4 V; voltage(R1) = 6 V.
-DIVIDER = HEADER + """
+DIVIDER = (
+    HEADER
+    + """
 [parts]
 V1 = { voltage = "10 V", nodes = ["in", "gnd"] }
 R1 = { resistor = "3 kohm", nodes = ["in", "out"] }
 R2 = { resistor = "2 kohm", nodes = ["out", "gnd"] }
 """
+)
 
 STEPS = """
 [[step]]
@@ -87,7 +90,7 @@ def test_terminal_shows_notes_and_counts_the_two_kinds_of_agreement() -> None:
 
 
 def test_circuit_only_summary_keeps_its_wording() -> None:
-    report = handcheck.check_text(DIVIDER + STEPS.split("[[step]]\nname = \"Vo\"", maxsplit=1)[0], "sheet.toml")
+    report = handcheck.check_text(DIVIDER + STEPS.split('[[step]]\nname = "Vo"', maxsplit=1)[0], "sheet.toml")
     assert [s.basis for s in report.steps] == ["circuit"]
     assert render(report, handcheck.__version__).splitlines()[-1] == "OK: 1 step (1 agrees)"
 
@@ -119,7 +122,9 @@ def test_a_right_claim_with_a_wrong_formula_shows_its_remark() -> None:
 def test_capacitor_impedance_formula_names_the_part() -> None:
     # Z_C = 1/(j w C) (Nilsson and Riedel, Electric Circuits, 10th ed., sec. 9.4; from
     # memory): at 1 kHz and 1 uF, -j/(2*pi*1e3*1e-6) = -159.15j ohm.
-    sheet = HEADER + """
+    sheet = (
+        HEADER
+        + """
 [parts]
 V1 = { voltage = "1 V", frequency = "1 kHz", nodes = ["in", "gnd"] }
 R1 = { resistor = "1 kohm", nodes = ["in", "out"] }
@@ -130,6 +135,7 @@ name = "Zc"
 formula = "1/(j*w*C1)"
 claim = "-159.2j ohm"
 """
+    )
     (step,) = handcheck.check_text(sheet, "rc.toml").steps
     assert (step.verdict, step.basis) == ("agrees", "formula")
     assert 'add quantity = "impedance(C1)"' in step.notes[0]

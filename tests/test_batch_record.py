@@ -61,8 +61,6 @@ def links(page: Path) -> _Links:
     return parser
 
 
-
-
 def reference(capsys, path: Path) -> dict:
     _, out, _ = run(capsys, "check", str(path), "--json")
     return json.loads(out)
@@ -110,7 +108,15 @@ def test_index_escapes_a_hostile_title(folder: Path, tmp_path: Path, capsys) -> 
     hostile = text.replace(old.group(0), "title = " + json.dumps(HOSTILE), 1)
     (folder / "coil-snubber.toml").write_text(hostile, encoding="utf-8")
     out = tmp_path / "records"
-    run(capsys, "record", str(folder / "coil-snubber.toml"), str(folder / "broken.toml"), "-o", str(out), "--no-evidence")
+    run(
+        capsys,
+        "record",
+        str(folder / "coil-snubber.toml"),
+        str(folder / "broken.toml"),
+        "-o",
+        str(out),
+        "--no-evidence",
+    )
     page = (out / "index.html").read_text(encoding="utf-8")
     assert "<script>" not in page and "<b>" not in page
     assert "&lt;script&gt;alert(&#34;x&#34;)&lt;/script&gt; &amp; &lt;b&gt;bold&lt;/b&gt;" in page

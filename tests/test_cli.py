@@ -216,7 +216,10 @@ def test_sha256_is_of_the_file_bytes(tmp_path, capsys):
 MALFORMED = {
     "bad-toml": ("[worksheet\nformat = 1\n", 1),
     "no-format": ('[worksheet]\ntitle = "x"\n[parts]\nR1 = { resistor = "1 ohm", nodes = ["a", "gnd"] }\n', None),
-    "unknown-kind": ('[worksheet]\nformat = 1\ntitle = "x"\n[parts]\nR1 = { resistr = "1 ohm", nodes = ["a", "gnd"] }\n', 5),
+    "unknown-kind": (
+        '[worksheet]\nformat = 1\ntitle = "x"\n[parts]\nR1 = { resistr = "1 ohm", nodes = ["a", "gnd"] }\n',
+        5,
+    ),
     "bad-claim": (
         '[worksheet]\nformat = 1\ntitle = "x"\n[parts]\nV1 = { voltage = "1 V", nodes = ["a", "gnd"] }\n'
         'R1 = { resistor = "1 ohm", nodes = ["a", "gnd"] }\n[[step]]\nname = "v"\nquantity = "voltage(a)"\nclaim = "1 V +"\n',

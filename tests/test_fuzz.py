@@ -103,20 +103,99 @@ ENV = {
 }
 
 DIGITS = st.sampled_from(
-    ["0", "1", "2", "2.5", ".5", "3.", "47", "0.22", "1e3", "2.2e-6", "4.7E+3", "1e400", "1e-400",
-     "1e401", "1e999999", "007", "0.0", "123456789012345678901234567890", "1.5j", "j2", "3j", "1e"]
+    [
+        "0",
+        "1",
+        "2",
+        "2.5",
+        ".5",
+        "3.",
+        "47",
+        "0.22",
+        "1e3",
+        "2.2e-6",
+        "4.7E+3",
+        "1e400",
+        "1e-400",
+        "1e401",
+        "1e999999",
+        "007",
+        "0.0",
+        "123456789012345678901234567890",
+        "1.5j",
+        "j2",
+        "3j",
+        "1e",
+    ]
 )
 UNITS = st.sampled_from(
-    ["", "", "", " ohm", "kohm", " Ω", "kΩ", " uF", " µF", " mH", " V", " mA", " A", " Hz", " kHz", " rad/s",
-     " deg", "°", " rad", " ms", " s", " W", " var", " VA", " S", " ohm^2", " F^-1", " V/A", " m", " kg",
-     " furlong", " xyz", " ohm^5", " V/A*s", " dB", " percent", " K", " mol"]
+    [
+        "",
+        "",
+        "",
+        " ohm",
+        "kohm",
+        " Ω",
+        "kΩ",
+        " uF",
+        " µF",
+        " mH",
+        " V",
+        " mA",
+        " A",
+        " Hz",
+        " kHz",
+        " rad/s",
+        " deg",
+        "°",
+        " rad",
+        " ms",
+        " s",
+        " W",
+        " var",
+        " VA",
+        " S",
+        " ohm^2",
+        " F^-1",
+        " V/A",
+        " m",
+        " kg",
+        " furlong",
+        " xyz",
+        " ohm^5",
+        " V/A*s",
+        " dB",
+        " percent",
+        " K",
+        " mol",
+    ]
 )
 NAMES = st.sampled_from(
     ["R1", "L1", "C1", "V1", "x", "f", "w", "ω", "pi", "j", "t", "y", "R2", "_", "__class__", "os", "Vs", "gnd"]
 )
 FUNCTIONS = st.sampled_from(
-    ["sqrt", "exp", "ln", "log10", "sin", "cos", "tan", "atan", "atan2", "abs", "arg", "re", "im", "conj",
-     "polar", "db", "sinh", "eval", "__import__", "max"]
+    [
+        "sqrt",
+        "exp",
+        "ln",
+        "log10",
+        "sin",
+        "cos",
+        "tan",
+        "atan",
+        "atan2",
+        "abs",
+        "arg",
+        "re",
+        "im",
+        "conj",
+        "polar",
+        "db",
+        "sinh",
+        "eval",
+        "__import__",
+        "max",
+    ]
 )
 OPERATORS = st.sampled_from(["+", "-", "*", "/", "^", "**", "||", "∠", "/_", " ", ",", "//", "%"])
 NOISE = st.sampled_from([*"()^*/+-|,.∠_eEjJ0123456789 \t\n`$;'\"[]{}=#@!\\?:&<>~", "\x00", "é", "Ω", "µ", "\u200b"])
@@ -192,9 +271,16 @@ CLAIM_UNITS = {
 
 CLAIMS = st.one_of(
     st.tuples(DIGITS, UNITS).map("".join),
-    st.tuples(DIGITS, st.sampled_from([" + ", " - ", "+", "-"]), DIGITS, st.sampled_from(["j", "", "j "]), UNITS).map("".join),
-    st.tuples(DIGITS, UNITS, st.sampled_from([" ∠ ", " /_ ", "∠", "/_", " ∠ -"]), DIGITS, st.sampled_from(["", " deg", "°", " rad", " V"]))
-    .map("".join),
+    st.tuples(DIGITS, st.sampled_from([" + ", " - ", "+", "-"]), DIGITS, st.sampled_from(["j", "", "j "]), UNITS).map(
+        "".join
+    ),
+    st.tuples(
+        DIGITS,
+        UNITS,
+        st.sampled_from([" ∠ ", " /_ ", "∠", "/_", " ∠ -"]),
+        DIGITS,
+        st.sampled_from(["", " deg", "°", " rad", " V"]),
+    ).map("".join),
     st.tuples(SHORT_FORMULAS, UNITS).map("".join),
 )
 
@@ -239,11 +325,34 @@ TEMPLATES = [
     },
 ]
 QUANTITIES = st.sampled_from(
-    ["voltage(out)", "voltage(in, out)", "current(R1)", "impedance(R1)", "impedance(in, gnd)", "admittance(R1)",
-     "reactance(C1)", "resistance(R1)", "power(R1)", "reactive_power(V1)", "apparent_power(V1)",
-     "power_factor(V1)", "transfer(voltage(out), voltage(in))", "voltage(a)", "current(L1)", "voltage(s)",
-     "initial(voltage(out))", "final(voltage(out))", 'at(voltage(out), "1 ms")', "time_constant",
-     "voltage(nowhere)", "current(Q9)", "voltage(", "power()", "volts(a)", "impedance(a, a)"]
+    [
+        "voltage(out)",
+        "voltage(in, out)",
+        "current(R1)",
+        "impedance(R1)",
+        "impedance(in, gnd)",
+        "admittance(R1)",
+        "reactance(C1)",
+        "resistance(R1)",
+        "power(R1)",
+        "reactive_power(V1)",
+        "apparent_power(V1)",
+        "power_factor(V1)",
+        "transfer(voltage(out), voltage(in))",
+        "voltage(a)",
+        "current(L1)",
+        "voltage(s)",
+        "initial(voltage(out))",
+        "final(voltage(out))",
+        'at(voltage(out), "1 ms")',
+        "time_constant",
+        "voltage(nowhere)",
+        "current(Q9)",
+        "voltage(",
+        "power()",
+        "volts(a)",
+        "impedance(a, a)",
+    ]
 )
 STEP_NAMES = st.sampled_from(["x", "y", "z", "Vout", "R1", "pi", "2x", "x y", "", "__class__"])
 JUNK = st.one_of(
@@ -258,9 +367,35 @@ JUNK = st.one_of(
 )
 TITLES = st.sampled_from(["Valve coil snubber", "", "  ", "日本語", "a\nb", "__import__('os')"]) | st.text(max_size=8)
 PART_KEYS = st.sampled_from(
-    ["resistor", "inductor", "capacitor", "voltage", "current", "vcvs", "vccs", "cccs", "ccvs", "opamp",
-     "coupling", "transformer", "switch", "nodes", "frequency", "phase", "initial", "control", "inductors",
-     "resistr", "node", "value", "shape", "delay", "points", "period", "width"]
+    [
+        "resistor",
+        "inductor",
+        "capacitor",
+        "voltage",
+        "current",
+        "vcvs",
+        "vccs",
+        "cccs",
+        "ccvs",
+        "opamp",
+        "coupling",
+        "transformer",
+        "switch",
+        "nodes",
+        "frequency",
+        "phase",
+        "initial",
+        "control",
+        "inductors",
+        "resistr",
+        "node",
+        "value",
+        "shape",
+        "delay",
+        "points",
+        "period",
+        "width",
+    ]
 )
 
 
@@ -320,9 +455,13 @@ def worksheets(draw) -> str:
             else:
                 body[key] = draw(JUNK)
         elif where == "head":
-            head[draw(st.sampled_from(["format", "title", "reference", "frequency", "tolerance", "phasors", "titel"]))] = draw(JUNK)
+            head[
+                draw(st.sampled_from(["format", "title", "reference", "frequency", "tolerance", "phasors", "titel"]))
+            ] = draw(JUNK)
         elif steps:
-            steps[0][draw(st.sampled_from(["name", "claim", "quantity", "formula", "tolerance", "claimed"]))] = draw(JUNK)
+            steps[0][draw(st.sampled_from(["name", "claim", "quantity", "formula", "tolerance", "claimed"]))] = draw(
+                JUNK
+            )
     return render(head, parts, steps)
 
 
@@ -476,7 +615,9 @@ def _written_claim_reads_exactly(real, imag, unit, form, angle):
         claim = read_claim(f"{_decimal(magnitude)} {unit} ∠ {angle} deg")
         expected = sympy.Rational(magnitude * factor) * sympy.exp(sympy.I * sympy.pi * angle / 180)
         assert claim.form == "polar"
-        assert complex(sympy.N(claim.value.expr, 20)) == pytest.approx(complex(sympy.N(expected, 20)), rel=1e-15, abs=1e-300)
+        assert complex(sympy.N(claim.value.expr, 20)) == pytest.approx(
+            complex(sympy.N(expected, 20)), rel=1e-15, abs=1e-300
+        )
     assert claim.dim == dim_of(si_unit)
 
 
@@ -495,8 +636,10 @@ def test_whole_worksheets_check_or_refuse(texts):
     for text in texts:
         result = only_handcheck_errors(handcheck.check_text, text, "<fuzz>")
         if isinstance(result, handcheck.Report):
-            assert all(step.verdict in ("agrees", "arithmetic", "formula", "carried", "differs", "unit", "unchecked")
-                       for step in result.steps)
+            assert all(
+                step.verdict in ("agrees", "arithmetic", "formula", "carried", "differs", "unit", "unchecked")
+                for step in result.steps
+            )
 
 
 @st.composite
@@ -566,7 +709,9 @@ def test_limits_are_errors_not_hangs(text, as_claim):
     assert time.perf_counter() - started < 5
 
 
-@pytest.mark.parametrize(("formula", "claim"), [("exp(exp(exp(10)))", "1"), ("1e300*1e300*R1", "1 ohm"), ("exp(1e400)", "5")])
+@pytest.mark.parametrize(
+    ("formula", "claim"), [("exp(exp(exp(10)))", "1"), ("1e300*1e300*R1", "1 ohm"), ("exp(1e400)", "5")]
+)
 def test_a_value_beyond_floating_point_agrees_with_no_claim(formula, claim):
     # Found by fuzzing: a true value that overflows to infinity once agreed with any claim.
     # Such a value is now refused outright, naming the step.

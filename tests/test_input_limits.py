@@ -83,7 +83,9 @@ def test_a_foreign_digit_inside_a_number_is_not_read_as_part_of_it():
 def test_a_foreign_digit_in_an_audit_tolerance_is_refused(tmp_path):
     # Python's Fraction("٥") is 5: the percentage reader must not rely on it.
     text = sheet() + '\n[audit]\n\n[[formula]]\nname = "Z"\nexpression = "R1"\n'
-    text = text.replace('nodes = ["a", "gnd"] }\n\n[[step]]', 'nodes = ["a", "gnd"], tolerance = "\u0665%" }\n\n[[step]]')
+    text = text.replace(
+        'nodes = ["a", "gnd"] }\n\n[[step]]', 'nodes = ["a", "gnd"], tolerance = "\u0665%" }\n\n[[step]]'
+    )
     with pytest.raises(WorksheetError) as info:
         loads(text, "ws.toml")
     assert "ARABIC-INDIC DIGIT FIVE" in str(info.value)
@@ -151,7 +153,7 @@ def test_deep_toml_nesting_is_refused_with_its_line(tmp_path, capsys):
 
 def test_brackets_in_strings_and_comments_do_not_count_as_nesting():
     brackets = "[" * (MAX_NESTING + 5)
-    text = sheet().replace('title = "limits"', f'title = "{brackets}" # {brackets}\nreference = \'{brackets}\'')
+    text = sheet().replace('title = "limits"', f"title = \"{brackets}\" # {brackets}\nreference = '{brackets}'")
     assert loads(text, "ws.toml").title == brackets
 
 

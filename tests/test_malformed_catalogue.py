@@ -185,10 +185,14 @@ def test_the_same_claim_in_volts_agrees(tmp_path, monkeypatch, capsys):
 
 SOUND = {
     "a voltage source alone on its node": (
-        '[parts]\nV1 = { voltage = "5 V", nodes = ["a", "gnd"] }\n', "voltage(a)", "5 V"
+        '[parts]\nV1 = { voltage = "5 V", nodes = ["a", "gnd"] }\n',
+        "voltage(a)",
+        "5 V",
     ),
     "a vcvs output alone on its node": (
-        DIVIDER + 'buf = { vcvs = "3", control = ["out", "gnd"], nodes = ["e", "gnd"] }\n', "voltage(e)", "12 V"
+        DIVIDER + 'buf = { vcvs = "3", control = ["out", "gnd"], nodes = ["e", "gnd"] }\n',
+        "voltage(e)",
+        "12 V",
     ),
     "a transformer secondary left open": (
         '[parts]\nV1 = { voltage = "10 V", frequency = "50 Hz", nodes = ["p", "gnd"] }\n'
@@ -243,9 +247,7 @@ def fixed_parts(template: str) -> list[str]:
 def test_every_catalogue_message_is_documented():
     templates = documented()
     assert len(templates) > 150
-    patterns = [
-        (re.compile(_LOCATION + ".*?".join(map(re.escape, fixed_parts(t))) + _QUOTED), t) for t in templates
-    ]
+    patterns = [(re.compile(_LOCATION + ".*?".join(map(re.escape, fixed_parts(t))) + _QUOTED), t) for t in templates]
     for path in FILES:
         message = expected(path)
         matches = [t for pattern, t in patterns if pattern.fullmatch(message)]

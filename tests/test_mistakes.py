@@ -141,7 +141,9 @@ def test_reactance_sign_in_the_formula():
     xc = 1 / (W * C)  # capacitor reactance taken positive
     z = complex(R, XL + xc)
     i = V / z
-    text = series_rlc(xc=sig(xc), xc_formula="1/(2*pi*f*C1)", z=rect(z, "ohm"), i=polar(i, "A"), p=sig(0.5 * (V * i.conjugate()).real))
+    text = series_rlc(
+        xc=sig(xc), xc_formula="1/(2*pi*f*C1)", z=rect(z, "ohm"), i=polar(i, "A"), p=sig(0.5 * (V * i.conjugate()).real)
+    )
     report = handcheck.check_text(text)
     assert verdicts(report)["XC"] == "formula"
     assert report.first_divergence == "XC"
@@ -212,7 +214,9 @@ HEAD = '[worksheet]\nformat = 1\ntitle = "t"\n'
 
 def test_degrees_as_radians_in_a_formula():
     # cos(30) evaluated in radian mode where 30 degrees was meant: 10*cos(30 rad).
-    text = HEAD + f"""
+    text = (
+        HEAD
+        + f"""
 [parts]
 V1 = {{ voltage = "10 V", frequency = "50 Hz", phase = "30 deg", nodes = ["a", "gnd"] }}
 R1 = {{ resistor = "1 ohm", nodes = ["a", "gnd"] }}
@@ -222,13 +226,16 @@ quantity = "resistance(R1)"
 formula = "1 ohm*cos(30 deg)"
 claim = "{sig(math.cos(30))} ohm"
 """
+    )
     report = handcheck.check_text(text)
     assert report.first_divergence == "Vre"
     assert "degrees-as-radians" in codes(report, "Vre")
 
 
 def test_radians_as_degrees_in_a_formula():
-    text = HEAD + f"""
+    text = (
+        HEAD
+        + f"""
 [parts]
 R1 = {{ resistor = "1 ohm", nodes = ["a", "gnd"] }}
 I1 = {{ current = "1 A", nodes = ["gnd", "a"] }}
@@ -237,11 +244,14 @@ name = "k"
 formula = "sin(0.5)"
 claim = "{sig(math.sin(math.radians(0.5)))}"
 """
+    )
     report = handcheck.check_text(text)
     assert "radians-as-degrees" in codes(report, "k")
 
 
-PARALLEL = HEAD + """
+PARALLEL = (
+    HEAD
+    + """
 [parts]
 Vs = {{ voltage = "5 V", frequency = "1 kHz", nodes = ["in", "gnd"] }}
 Rs = {{ resistor = "50 ohm", nodes = ["in", "p"] }}
@@ -258,6 +268,7 @@ quantity = "transfer(voltage(p), current(Rs))"
 formula = "{formula}"
 claim = "{zp}"
 """
+)
 
 
 def test_series_as_parallel_in_the_formula():
@@ -269,7 +280,9 @@ def test_series_as_parallel_in_the_formula():
 
 
 def test_impedance_as_admittance():
-    text = HEAD + f"""
+    text = (
+        HEAD
+        + f"""
 [parts]
 Vs = {{ voltage = "5 V", frequency = "1 kHz", nodes = ["in", "gnd"] }}
 C2 = {{ capacitor = "1 uF", nodes = ["in", "gnd"] }}
@@ -278,15 +291,29 @@ name = "Y"
 quantity = "admittance(C2)"
 claim = "{sig(1 / (2 * math.pi * 1000 * 1e-6))} S"
 """
+    )
     report = handcheck.check_text(text)
     assert verdicts(report) == {"Y": "differs"}
     assert codes(report, "Y") == ["impedance-as-admittance"]
 
 
 def test_every_code_has_a_test_above():
-    tested = {"hertz-as-angular", "angular-as-hertz", "degrees-as-radians", "radians-as-degrees", "peak-as-rms",
-              "rms-as-peak", "power-half", "reactance-sign", "sine-reference", "phase-sign", "series-as-parallel",
-              "parallel-as-series", "impedance-as-admittance", "prefix"}
+    tested = {
+        "hertz-as-angular",
+        "angular-as-hertz",
+        "degrees-as-radians",
+        "radians-as-degrees",
+        "peak-as-rms",
+        "rms-as-peak",
+        "power-half",
+        "reactance-sign",
+        "sine-reference",
+        "phase-sign",
+        "series-as-parallel",
+        "parallel-as-series",
+        "impedance-as-admittance",
+        "prefix",
+    }
     # the second edition's codes are tested in tests/test_mistakes_second.py
     second = {"magnitude-as-phasor", "other-frequency", "sign-convention", "reversed-nodes"}
     assert tested == set(CODES) - second
@@ -298,7 +325,9 @@ def test_textbook_power_triangle():
     # impedance triangle is a staple of introductory texts (e.g. Nilsson & Riedel,
     # Electric Circuits, ch. 10); these numbers are from memory and follow by hand.
     L = 3 / (2 * math.pi * 60)
-    text = HEAD + f"""
+    text = (
+        HEAD
+        + f"""
 phasors = "rms"
 [parts]
 Vs = {{ voltage = "120 V rms", frequency = "60 Hz", nodes = ["a", "gnd"] }}
@@ -332,6 +361,7 @@ quantity = "power_factor(Vs)"
 formula = "P/S"
 claim = "0.8000"
 """
+    )
     report = handcheck.check_text(text.replace('title = "t"\n\nphasors', 'title = "t"\nphasors'))
     assert verdicts(report) == dict.fromkeys(["Z", "I", "P", "Q", "S", "pf"], "agrees")
     # The same worksheet with the classic slip: P = |V| |I| (the power factor forgotten).
@@ -407,11 +437,25 @@ def test_one_random_mistake_is_found_at_its_step(parts, where):
 def test_codes_are_those_of_the_output_contract(code):
     # Check output format 1 (DESIGN.md) lists these 14 codes and its second edition 4 more.
     assert code in {
-        "hertz-as-angular", "angular-as-hertz", "degrees-as-radians", "radians-as-degrees", "peak-as-rms",
-        "rms-as-peak", "power-half", "reactance-sign", "sine-reference", "phase-sign", "series-as-parallel",
-        "parallel-as-series", "impedance-as-admittance", "prefix",
+        "hertz-as-angular",
+        "angular-as-hertz",
+        "degrees-as-radians",
+        "radians-as-degrees",
+        "peak-as-rms",
+        "rms-as-peak",
+        "power-half",
+        "reactance-sign",
+        "sine-reference",
+        "phase-sign",
+        "series-as-parallel",
+        "parallel-as-series",
+        "impedance-as-admittance",
+        "prefix",
         # second edition
-        "magnitude-as-phasor", "other-frequency", "sign-convention", "reversed-nodes",
+        "magnitude-as-phasor",
+        "other-frequency",
+        "sign-convention",
+        "reversed-nodes",
     }
 
 

@@ -60,7 +60,9 @@ VR = I_SERIES * 30
 def rc(vc: str, vr: str, vr_formula: str | None = "Vs - VC", z: str = "50.00 ohm", z_formula: str | None = None) -> str:
     vr_line = f'formula = "{vr_formula}"\n' if vr_formula else ""
     z_line = f'formula = "{z_formula}"\n' if z_formula else ""
-    return HEAD + f"""
+    return (
+        HEAD
+        + f"""
 [parts]
 Vs = {{ voltage = "50 V", frequency = "50 Hz", nodes = ["in", "gnd"] }}
 R1 = {{ resistor = "30 ohm", nodes = ["in", "a"] }}
@@ -81,6 +83,7 @@ name = "VR"
 quantity = "voltage(in, a)"
 {vr_line}claim = "{vr}"
 """
+    )
 
 
 def test_kvl_with_magnitudes_after_a_plain_magnitude_is_a_wrong_formula():
@@ -120,7 +123,9 @@ def test_impedance_size_as_r_plus_x():
 
 
 def test_right_claims_and_unrelated_slips_get_no_magnitude_as_phasor():
-    right = handcheck.check_text(rc(vc=polar(VC, "V"), vr=polar(VR, "V"), z="50.00 ohm", z_formula="abs(R1 + 1/(j*w*C1))"))
+    right = handcheck.check_text(
+        rc(vc=polar(VC, "V"), vr=polar(VR, "V"), z="50.00 ohm", z_formula="abs(R1 + 1/(j*w*C1))")
+    )
     assert all(s.verdict == "agrees" and not s.diagnosis for s in right.steps)
     # An unrelated slip: |Z| claimed as 30*40/70 (a parallel combination of the sizes).
     wrong = handcheck.check_text(rc(vc=polar(VC, "V"), vr=polar(VR, "V"), z=sig(30 * 40 / 70) + " ohm"))
@@ -142,7 +147,9 @@ I_LOAD = 120 / complex(4, 3)
 
 
 def supply(p: str, q: str, i: str) -> str:
-    return HEAD + f"""
+    return (
+        HEAD
+        + f"""
 phasors = "rms"
 
 [parts]
@@ -165,10 +172,13 @@ name = "I"
 quantity = "current(Vs)"
 claim = "{i}"
 """
+    )
 
 
 def capacitor(q: str, quantity: str = "reactive_power(C1)") -> str:
-    return HEAD + f"""
+    return (
+        HEAD
+        + f"""
 phasors = "rms"
 
 [parts]
@@ -180,6 +190,7 @@ name = "Qc"
 quantity = "{quantity}"
 claim = "{q}"
 """
+    )
 
 
 QC = 230**2 * 2 * math.pi * 50 * 100e-6  # the rating, var supplied
@@ -226,7 +237,9 @@ def test_right_signs_and_unrelated_slips_get_no_sign_convention():
 
 
 def millman(claim: str, i1_nodes: str = '["gnd", "m"]', quantity: str = "voltage(m)") -> str:
-    return HEAD + f"""
+    return (
+        HEAD
+        + f"""
 [parts]
 V1 = {{ voltage = "10 V", nodes = ["a", "gnd"] }}
 R1 = {{ resistor = "1 kohm", nodes = ["a", "m"] }}
@@ -238,10 +251,13 @@ name = "Vm"
 quantity = "{quantity}"
 claim = "{claim}"
 """
+    )
 
 
 def two_supplies(claim: str) -> str:
-    return HEAD + f"""
+    return (
+        HEAD
+        + f"""
 [parts]
 V1 = {{ voltage = "10 V", frequency = "50 Hz", nodes = ["a", "gnd"] }}
 V2 = {{ voltage = "5 V", frequency = "50 Hz", nodes = ["b", "gnd"] }}
@@ -254,6 +270,7 @@ name = "Vm"
 quantity = "voltage(m)"
 claim = "{claim}"
 """
+    )
 
 
 def test_current_source_the_other_way_round():
@@ -288,7 +305,9 @@ def test_right_claims_and_unrelated_slips_get_no_reversed_nodes():
 
 def harmonic(claim: str, formula: str | None = None, quantity: str = "reactance(L1)") -> str:
     formula_line = f'formula = "{formula}"\n' if formula else ""
-    return HEAD + f"""
+    return (
+        HEAD
+        + f"""
 frequency = "250 Hz"
 
 [parts]
@@ -302,6 +321,7 @@ name = "X"
 quantity = "{quantity}"
 {formula_line}claim = "{claim}"
 """
+    )
 
 
 def test_reactance_at_the_fundamental_in_a_harmonic_analysis():
@@ -363,7 +383,9 @@ def test_a_claim_of_zero_names_no_mistake():
     # The resistance of a 3 ohm resistor is 3 ohm (Re Z of a resistor, by definition); a
     # claim of 0 ohm is wrong, but the prefix slip (3 mohm) and the reciprocal (0.33)
     # both round to "0": no catalogued mistake is named.
-    text = HEAD + """
+    text = (
+        HEAD
+        + """
 [parts]
 Vs = { voltage = "5 V", frequency = "1 kHz", nodes = ["in", "gnd"] }
 R1 = { resistor = "3 ohm", nodes = ["in", "a"] }
@@ -374,6 +396,7 @@ name = "R"
 quantity = "resistance(R1)"
 claim = "0 ohm"
 """
+    )
     report = handcheck.check_text(text)
     assert finding(report, "R").verdict == "differs"
     assert codes(report, "R") == []
@@ -382,7 +405,9 @@ claim = "0 ohm"
 def test_reactance_at_a_frequency_another_step_names():
     # One 50 Hz source; a later step asks for the 3rd harmonic (150 Hz) response, and
     # the author's XL step took 2*pi*150 Hz*L = 9.4248 ohm (XL = w*L, from memory).
-    text = HEAD + """
+    text = (
+        HEAD
+        + """
 [parts]
 V1 = { voltage = "10 V", frequency = "50 Hz", nodes = ["a", "gnd"] }
 L1 = { inductor = "10 mH", nodes = ["a", "b"] }
@@ -398,6 +423,7 @@ name = "X3"
 quantity = 'at_frequency(reactance(L1), "150 Hz")'
 claim = "9.4248 ohm"
 """
+    )
     report = handcheck.check_text(text)
     assert finding(report, "X3").verdict == "agrees"
     assert codes(report, "XL") == ["other-frequency"]
@@ -412,7 +438,9 @@ def test_parallel_as_series_with_a_node_named_inside_the_quantity_word():
     xc = complex(0, -40)
     par = lambda a, b: a * b / (a + b)  # noqa: E731
     wrong = par(10, par(30, xc))
-    text = HEAD + f"""
+    text = (
+        HEAD
+        + f"""
 [parts]
 Vs = {{ voltage = "5 V", frequency = "50 Hz", nodes = ["in", "gnd"] }}
 Rs = {{ resistor = "10 ohm", nodes = ["in", "a"] }}
@@ -424,6 +452,7 @@ name = "Z"
 quantity = "impedance(a, gnd)"
 claim = "{polar(wrong, "ohm")}"
 """
+    )
     report = handcheck.check_text(text)
     assert finding(report, "Z").verdict == "differs"
     assert "parallel-as-series" in codes(report, "Z")

@@ -131,8 +131,7 @@ def test_bridged_network_against_hand_written_current_balances():
     # two node equations (Kirchhoff's current law, textbook) written by hand,
     # without the nodal-matrix builder, solved by sympy.solve.
     R, Cv, Rs = Fr(1), Fr(1, 2), Fr(1, 3)
-    G, C, b = mna(3, [("V", 1, 0, 1), ("R", 1, 3, R), ("R", 3, 2, R),
-                      ("C", 1, 2, Cv), ("R", 3, 0, Rs), ("R", 2, 0, 5)])
+    G, C, b = mna(3, [("V", 1, 0, 1), ("R", 1, 3, R), ("R", 3, 2, R), ("C", 1, 2, Cv), ("R", 3, 0, Rs), ("R", 2, 0, 5)])
     v2, v3 = sympy.symbols("v2 v3")
     Rq, Cq, Rsq = sympy.Integer(1), sympy.Rational(1, 2), sympy.Rational(1, 3)
     kcl = [
@@ -227,7 +226,9 @@ def test_ladder_against_numpy_at_imaginary_frequency():
     np = pytest.importorskip("numpy")
     G, C, b, out = ladder(8)
     sv = sympy.Rational(7, 10) * sympy.I
-    A = np.array([[float(g) + 0.7j * float(c) for g, c in zip(rg, rc, strict=True)] for rg, rc in zip(G, C, strict=True)])
+    A = np.array(
+        [[float(g) + 0.7j * float(c) for g, c in zip(rg, rc, strict=True)] for rg, rc in zip(G, C, strict=True)]
+    )
     x = np.linalg.solve(A, np.array([float(v) for v in b], dtype=complex))
     got = solve_rational(G, C, b, unknowns=[out, 1])
     for k, rf in zip([out, 1], got, strict=True):
@@ -254,8 +255,7 @@ def systems(draw):
 
 
 @pytest.mark.slow
-@settings(derandomize=True, max_examples=40, deadline=None,
-          suppress_health_check=[HealthCheck.too_slow])
+@settings(derandomize=True, max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(systems())
 def test_random_systems_match_sympy_exact_solve(system):
     # reference library: sympy det (Berkowitz) and exact Matrix.LUsolve at fixed s
@@ -270,8 +270,15 @@ def test_random_systems_match_sympy_exact_solve(system):
     general, _ = _solve(G, C, b, None, None, False)
     assert fast == general
     checked = 0
-    for sv in (sympy.Integer(0), sympy.Integer(1), sympy.Rational(-1, 2), sympy.Integer(3),
-               sympy.Rational(5, 7), sympy.Integer(-2), sympy.Integer(7)):
+    for sv in (
+        sympy.Integer(0),
+        sympy.Integer(1),
+        sympy.Rational(-1, 2),
+        sympy.Integer(3),
+        sympy.Rational(5, 7),
+        sympy.Integer(-2),
+        sympy.Integer(7),
+    ):
         if det.subs(s, sv) == 0:
             continue
         ref = (Gs + sv * Cs).LUsolve(bs)

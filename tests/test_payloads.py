@@ -121,7 +121,7 @@ def payloads(sentinel: Path) -> list[str]:
     target = str(sentinel)
     return [
         f"__import__('os').system('touch {target}')",
-        f"__import__(\"os\").system(\"touch {target}\")",
+        f'__import__("os").system("touch {target}")',
         "().__class__.__bases__[0].__subclasses__()",
         "R1.__class__.__mro__",
         f"lambda: open('{target}', 'w')",
@@ -160,10 +160,29 @@ def test_every_string_field_is_covered():
     covered = {path[:1] + path[2:] if path[0] == "parts" else path for path in FIELDS}
     for where in [("worksheet", k) for k in ("title", "reference", "phasors", "frequency", "tolerance")]:
         assert where in covered
-    for key in ("voltage", "current", "resistor", "capacitor", "inductor", "coupling", "vcvs", "cccs", "vccs", "ccvs",
-                "transformer", "opamp", "frequency", "phase", "initial", "control", "<id>"):
+    for key in (
+        "voltage",
+        "current",
+        "resistor",
+        "capacitor",
+        "inductor",
+        "coupling",
+        "vcvs",
+        "cccs",
+        "vccs",
+        "ccvs",
+        "transformer",
+        "opamp",
+        "frequency",
+        "phase",
+        "initial",
+        "control",
+        "<id>",
+    ):
         assert ("parts", key) in covered, key
-    assert ("parts", "nodes", 0) in covered and ("parts", "inductors", 1) in covered and ("parts", "control", 0) in covered
+    assert (
+        ("parts", "nodes", 0) in covered and ("parts", "inductors", 1) in covered and ("parts", "control", 0) in covered
+    )
     for key in ("name", "quantity", "formula", "claim", "tolerance"):
         assert ("step", 0, key) in covered
     assert ("transient", "start") in covered and ("transient", "span") in covered

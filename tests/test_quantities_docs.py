@@ -21,4 +21,6 @@ def test_the_cookbook_has_examples() -> None:
 def test_cookbook_example_agrees(text: str) -> None:
     report = handcheck.check_text(text, "docs/quantities.md")
     assert report.steps
-    assert [s.verdict for s in report.steps] == ["agrees"] * len(report.steps), [(s.name, s.verdict, s.expected) for s in report.steps]
+    assert [s.verdict for s in report.steps] == ["agrees"] * len(report.steps), [
+        (s.name, s.verdict, s.expected) for s in report.steps
+    ]

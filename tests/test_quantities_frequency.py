@@ -54,28 +54,41 @@ def test_butterworth_third_order_prototype() -> None:
     # cutoff 1 rad/s, poles on the unit circle (scipy.signal.buttap).
     from scipy.signal import buttap
 
-    found = run(ladder(("1", "2", "1")), [
-        ("Hs", H, "0.5/(s^3 + 2*s^2 + 2*s + 1)"),
-        ("fc", f"cutoff_frequency({H})", "0.1592 Hz"),
-        ("pl", f"poles({H})", "-1, -0.5 + 0.866j, -0.5 - 0.866j rad/s"),
-        ("g0", f"dc_gain({H})", "0.5"),
-        ("ghf", f"hf_gain({H})", "0"),
-        *[(f"m{k}", f'magnitude(at_frequency(transfer(voltage(out), voltage(in)), "{w} rad/s"))', f"{0.5 / math.sqrt(1 + w**6):.6f}")
-          for k, w in enumerate((0.25, 0.5, 1.0, 2.0, 4.0))],
-    ])
+    found = run(
+        ladder(("1", "2", "1")),
+        [
+            ("Hs", H, "0.5/(s^3 + 2*s^2 + 2*s + 1)"),
+            ("fc", f"cutoff_frequency({H})", "0.1592 Hz"),
+            ("pl", f"poles({H})", "-1, -0.5 + 0.866j, -0.5 - 0.866j rad/s"),
+            ("g0", f"dc_gain({H})", "0.5"),
+            ("ghf", f"hf_gain({H})", "0"),
+            *[
+                (
+                    f"m{k}",
+                    f'magnitude(at_frequency(transfer(voltage(out), voltage(in)), "{w} rad/s"))',
+                    f"{0.5 / math.sqrt(1 + w**6):.6f}",
+                )
+                for k, w in enumerate((0.25, 0.5, 1.0, 2.0, 4.0))
+            ],
+        ],
+    )
     assert all(step.verdict == "agrees" for step in found.values()), {k: v.verdict for k, v in found.items()}
     assert found["Hs"].message == "the same rational function of s, exactly"
     assert sympy.simplify(found["fc"].exact - 1 / (2 * sympy.pi)) == 0
     _, poles, _ = buttap(3)
     got = [complex(sympy.N(p, 20)) for p in found["pl"].exact]
-    assert_allclose(sorted(poles, key=lambda p: (p.real, p.imag)), sorted(got, key=lambda p: (p.real, p.imag)), atol=1e-12)
+    assert_allclose(
+        sorted(poles, key=lambda p: (p.real, p.imag)), sorted(got, key=lambda p: (p.real, p.imag)), atol=1e-12
+    )
     for k, w in enumerate((0.25, 0.5, 1.0, 2.0, 4.0)):
         assert_allclose(si(found[f"m{k}"]).real, 0.5 / math.sqrt(1 + w**6), rtol=1e-12)
 
 
 def test_a_network_function_that_differs_is_found_on_the_grid() -> None:
-    found = run(ladder(("1", "2", "1")), [("wrong", H, "0.5/(s^3 + 2*s^2 + 3*s + 1)"),
-                                          ("pct", H, "0.5/(s^3 + 2*s^2 + 2*s + 1.001)")])
+    found = run(
+        ladder(("1", "2", "1")),
+        [("wrong", H, "0.5/(s^3 + 2*s^2 + 3*s + 1)"), ("pct", H, "0.5/(s^3 + 2*s^2 + 2*s + 1.001)")],
+    )
     assert found["wrong"].verdict == "differs"
     assert found["pct"].verdict == "differs"
 
@@ -88,11 +101,14 @@ def test_chebyshev_half_db_ripple_third_order() -> None:
     # "Electronic Filter Design Handbook", 4th ed., ch. 2, from memory).
     eps = math.sqrt(10**0.05 - 1)
     w3 = math.cosh(math.acosh(1 / eps) / 3)
-    found = run(ladder(("1.5963", "1.0967", "1.5963")), [
-        ("edge", 'magnitude(at_frequency(transfer(voltage(out), voltage(in)), "1 rad/s"))', "-6.52 dB"),
-        ("fc", f"cutoff_frequency({H})", f"{w3 / (2 * math.pi):.4f} Hz"),
-        ("g0", f"dc_gain({H})", "0.5"),
-    ])
+    found = run(
+        ladder(("1.5963", "1.0967", "1.5963")),
+        [
+            ("edge", 'magnitude(at_frequency(transfer(voltage(out), voltage(in)), "1 rad/s"))', "-6.52 dB"),
+            ("fc", f"cutoff_frequency({H})", f"{w3 / (2 * math.pi):.4f} Hz"),
+            ("g0", f"dc_gain({H})", "0.5"),
+        ],
+    )
     assert_allclose(si(found["edge"]).real, 0.5 * 10 ** (-0.5 / 20), rtol=2e-4)  # table to 4 digits
     assert_allclose(si(found["fc"]).real, w3 / (2 * math.pi), rtol=2e-4)
     assert found["edge"].verdict == found["fc"].verdict == found["g0"].verdict == "agrees"
@@ -112,13 +128,16 @@ def test_series_rlc_band_pass_bandwidth_and_q() -> None:
     ind, c, r = sympy.Rational(1, 100), sympy.Rational(22, 10**7), sympy.Integer(15)
     f0 = 1 / (2 * sympy.pi * sympy.sqrt(ind * c))
     bw = r / (2 * sympy.pi * ind)
-    found = run(SERIES_RLC, [
-        ("f0", "peak_frequency(transfer(voltage(out), voltage(in)))", f"{float(f0):.5g} Hz"),
-        ("fr", "resonant_frequency(without(impedance(in, gnd), Vs))", f"{float(f0):.5g} Hz"),
-        ("BW", "bandwidth(transfer(voltage(out), voltage(in)))", f"{float(bw):.5g} Hz"),
-        ("edges", "band_edges(transfer(voltage(out), voltage(in)))", "1 kHz, 2 kHz"),
-        ("g0", "dc_gain(transfer(voltage(out), voltage(in)))", "0"),
-    ])
+    found = run(
+        SERIES_RLC,
+        [
+            ("f0", "peak_frequency(transfer(voltage(out), voltage(in)))", f"{float(f0):.5g} Hz"),
+            ("fr", "resonant_frequency(without(impedance(in, gnd), Vs))", f"{float(f0):.5g} Hz"),
+            ("BW", "bandwidth(transfer(voltage(out), voltage(in)))", f"{float(bw):.5g} Hz"),
+            ("edges", "band_edges(transfer(voltage(out), voltage(in)))", "1 kHz, 2 kHz"),
+            ("g0", "dc_gain(transfer(voltage(out), voltage(in)))", "0"),
+        ],
+    )
     assert sympy.simplify(found["f0"].exact - f0) == 0
     assert sympy.simplify(found["fr"].exact - f0) == 0
     assert sympy.simplify(found["BW"].exact - bw) == 0
@@ -154,14 +173,21 @@ def test_sallen_key_against_scipy_signal() -> None:
     x = np.roots([a * a, b * b - 2 * a, 1 - 2])
     wc = math.sqrt(max(r.real for r in x if abs(r.imag) < 1e-9 and r.real > 0))
     _, at_wc = freqs([1.0], den, worN=[wc])
-    found = run(SALLEN_KEY, [
-        ("pl", f"poles({H})", ", ".join(f"{p.real:.6g} {'+' if p.imag >= 0 else '-'} {abs(p.imag):.6g}j" for p in poles) + " rad/s"),
-        ("fc", f"cutoff_frequency({H})", f"{wc / (2 * math.pi):.6g} Hz"),
-        ("w0", "natural_frequency", f"{1 / math.sqrt(a):.6g} rad/s"),
-        # the same H with its coefficients rounded to 5 digits: agrees within those digits
-        ("Hr", H, "4.5455e7/(s^2 + 9090.9*s + 4.5455e7)"),
-        ("Hw", H, "4.5455e7/(s^2 + 9990.9*s + 4.5455e7)"),
-    ])
+    found = run(
+        SALLEN_KEY,
+        [
+            (
+                "pl",
+                f"poles({H})",
+                ", ".join(f"{p.real:.6g} {'+' if p.imag >= 0 else '-'} {abs(p.imag):.6g}j" for p in poles) + " rad/s",
+            ),
+            ("fc", f"cutoff_frequency({H})", f"{wc / (2 * math.pi):.6g} Hz"),
+            ("w0", "natural_frequency", f"{1 / math.sqrt(a):.6g} rad/s"),
+            # the same H with its coefficients rounded to 5 digits: agrees within those digits
+            ("Hr", H, "4.5455e7/(s^2 + 9090.9*s + 4.5455e7)"),
+            ("Hw", H, "4.5455e7/(s^2 + 9990.9*s + 4.5455e7)"),
+        ],
+    )
     assert found["Hr"].verdict == "agrees", found["Hr"].message
     assert found["Hw"].verdict == "differs"
     got = sorted((complex(sympy.N(p, 20)) for p in found["pl"].exact), key=lambda p: p.imag)

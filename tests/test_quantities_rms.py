@@ -33,8 +33,15 @@ Vb = { voltage = "2.5 + 1.2*cos(1000*t) V", nodes = ["in", "gnd"] }
 Rb = { resistor = "1 kohm", nodes = ["in", "out"] }
 Cb = { capacitor = "1 uF", nodes = ["out", "gnd"] }
 """
-    found = run(parts, [("rin", "rms(voltage(in))", "2.640 V"), ("avg", "average(voltage(out))", "2.5 V"),
-                        ("rout", "rms(voltage(out))", "2.571 V"), ("E", "energy(Cb)", "3.305 uJ")])
+    found = run(
+        parts,
+        [
+            ("rin", "rms(voltage(in))", "2.640 V"),
+            ("avg", "average(voltage(out))", "2.5 V"),
+            ("rout", "rms(voltage(out))", "2.571 V"),
+            ("E", "energy(Cb)", "3.305 uJ"),
+        ],
+    )
     v0, v1 = sympy.Rational(5, 2), sympy.Rational(6, 5)
     assert sympy.simplify(found["rin"].exact - sympy.sqrt(v0**2 + v1**2 / 2)) == 0
     assert found["avg"].exact == v0
@@ -55,8 +62,11 @@ Vh = { voltage = "cos(1000*t) + 0.3*cos(3000*t) V", nodes = ["in", "gnd"] }
 Rh = { resistor = "1 kohm", nodes = ["in", "out"] }
 Ch = { capacitor = "1 uF", nodes = ["out", "gnd"] }
 """
-    found = run(parts, [("r", "rms(voltage(out))", "0.5045 V"), ("a", "average(voltage(out))", "0 V")],
-                header='frequency = "1000 rad/s"')
+    found = run(
+        parts,
+        [("r", "rms(voltage(out))", "0.5045 V"), ("a", "average(voltage(out))", "0 V")],
+        header='frequency = "1000 rad/s"',
+    )
     expected = sympy.sqrt(sympy.Rational(1, 2) / 2 + sympy.Rational(9, 100) / 2 / 10)
     assert sympy.simplify(found["r"].exact - expected) == 0
     assert found["r"].verdict == found["a"].verdict == "agrees"

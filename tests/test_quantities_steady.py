@@ -63,9 +63,14 @@ def test_magnitude_phase_and_db_of_rc_lowpass_match_scipy_freqs() -> None:
         assert_allclose(si(found[f"p{k}"]).real, np.angle(response[k]), rtol=1e-12)  # radians
         assert_allclose(si(found[f"d{k}"]).real, abs(response[k]), rtol=1e-12)  # the ratio, not dB
     # The exact corner: |H| = 1/sqrt(2), phase -pi/4 (any text on first-order circuits).
-    corner = run(RC, [("m", "magnitude(transfer(voltage(out), voltage(in)))", "0.7071"),
-                      ("p", "phase(voltage(out))", "-0.7854 rad"),
-                      ("bad", "phase(voltage(out))", "-40 deg")])
+    corner = run(
+        RC,
+        [
+            ("m", "magnitude(transfer(voltage(out), voltage(in)))", "0.7071"),
+            ("p", "phase(voltage(out))", "-0.7854 rad"),
+            ("bad", "phase(voltage(out))", "-40 deg"),
+        ],
+    )
     assert sympy.simplify(corner["m"].exact - 1 / sympy.sqrt(2)) == 0
     assert sympy.simplify(corner["p"].exact + sympy.pi / 4) == 0
     assert corner["p"].verdict == "agrees"
@@ -74,9 +79,14 @@ def test_magnitude_phase_and_db_of_rc_lowpass_match_scipy_freqs() -> None:
 
 def test_db_claim_resolution_and_dbm_power() -> None:
     # 20*log10(1/sqrt(2)) = -3.0103 dB (definition of the decibel, IEC 60027-3).
-    found = run(RC, [("a", "transfer(voltage(out), voltage(in))", "-3.01 dB"),
-                     ("b", "transfer(voltage(out), voltage(in))", "-3.1 dB"),
-                     ("c", "transfer(voltage(out), voltage(in))", "-3.00 dB")])
+    found = run(
+        RC,
+        [
+            ("a", "transfer(voltage(out), voltage(in))", "-3.01 dB"),
+            ("b", "transfer(voltage(out), voltage(in))", "-3.1 dB"),
+            ("c", "transfer(voltage(out), voltage(in))", "-3.00 dB"),
+        ],
+    )
     assert found["a"].verdict == "agrees"
     assert found["b"].verdict == "differs"
     assert found["c"].verdict == "differs"
@@ -86,8 +96,9 @@ def test_db_claim_resolution_and_dbm_power() -> None:
 Vs = { voltage = "10 V", nodes = ["a", "gnd"] }
 Rload = { resistor = "100 ohm", nodes = ["a", "gnd"] }
 """
-    found = run(dc, [("p", "power(Rload)", "30.00 dBm"), ("d", "delivered_power(Vs)", "1 W"),
-                     ("off", "power(Rload)", "27 dBm")])
+    found = run(
+        dc, [("p", "power(Rload)", "30.00 dBm"), ("d", "delivered_power(Vs)", "1 W"), ("off", "power(Rload)", "27 dBm")]
+    )
     assert found["p"].verdict == "agrees"
     assert si(found["p"]) == 1.0  # W, the power itself
     assert found["d"].verdict == "agrees"
@@ -118,10 +129,18 @@ Lw = { inductor = "31.831 mH", nodes = ["m", "gnd"] }
     r, ind, v, w = 10.0, 31.831e-3, 230.0, 2 * math.pi * 50
     z = complex(r, w * ind)
     s = v**2 / z.conjugate()
-    found = run(parts, [("P", "power(Rw, Lw)", f"{s.real:.6g} W"), ("Q", "reactive_power(Rw, Lw)", f"{s.imag:.6g} var"),
-                        ("S", "apparent_power(Rw, Lw)", f"{abs(s):.6g} VA"), ("pf", "power_factor(Rw, Lw)", f"{r / abs(z):.6g}"),
-                        ("Pd", "delivered_power(Vs)", f"{s.real:.6g} W"), ("Qd", "delivered_reactive_power(Vs)", f"{s.imag:.6g} var")],
-                header='phasors = "rms"')
+    found = run(
+        parts,
+        [
+            ("P", "power(Rw, Lw)", f"{s.real:.6g} W"),
+            ("Q", "reactive_power(Rw, Lw)", f"{s.imag:.6g} var"),
+            ("S", "apparent_power(Rw, Lw)", f"{abs(s):.6g} VA"),
+            ("pf", "power_factor(Rw, Lw)", f"{r / abs(z):.6g}"),
+            ("Pd", "delivered_power(Vs)", f"{s.real:.6g} W"),
+            ("Qd", "delivered_reactive_power(Vs)", f"{s.imag:.6g} var"),
+        ],
+        header='phasors = "rms"',
+    )
     for name in ("P", "Q", "S", "pf", "Pd", "Qd"):
         assert found[name].verdict == "agrees", name
     assert_allclose(si(found["Pd"]).real, s.real, rtol=1e-12)
@@ -171,11 +190,16 @@ def test_bridge_thevenin_and_norton() -> None:
     # Rth = Ra||Rb + Rc||Rd, Norton current Vth/Rth.
     vth = sympy.Integer(10) * (sympy.Rational(3, 5) - sympy.Rational(4, 10))
     rth = sympy.Rational(2000 * 3000, 5000) + sympy.Rational(6000 * 4000, 10000)
-    found = run(BRIDGE, [("Vth", "without(voltage(a, b), Rload)", "2 V"),
-                         ("Rth", "without(impedance(a, b), Rload)", "3.6 kohm"),
-                         ("In", "without(short_current(a, b), Rload)", "0.5556 mA"),
-                         ("Il", "current(Rload)", "0.43478 mA"),
-                         ("In_with_load", "short_current(a, b)", "0.5556 mA")])
+    found = run(
+        BRIDGE,
+        [
+            ("Vth", "without(voltage(a, b), Rload)", "2 V"),
+            ("Rth", "without(impedance(a, b), Rload)", "3.6 kohm"),
+            ("In", "without(short_current(a, b), Rload)", "0.5556 mA"),
+            ("Il", "current(Rload)", "0.43478 mA"),
+            ("In_with_load", "short_current(a, b)", "0.5556 mA"),
+        ],
+    )
     assert found["Vth"].exact == vth
     assert sympy.simplify(found["Rth"].exact - rth) == 0
     assert sympy.simplify(found["In"].exact - vth / rth) == 0
@@ -211,9 +235,14 @@ V3 = { voltage = "0.2 V", frequency = "3000 rad/s", nodes = ["m", "gnd"] }
 R1 = { resistor = "1 kohm", nodes = ["in", "out"] }
 C1 = { capacitor = "1 uF", nodes = ["out", "gnd"] }
 """
-    found = run(parts, [("out1", "magnitude(voltage(out))", "0.7071 V"),
-                        ("out3", "magnitude(at_frequency(voltage(out), \"3000 rad/s\"))", "0.06325 V")],
-                header='frequency = "1000 rad/s"')
+    found = run(
+        parts,
+        [
+            ("out1", "magnitude(voltage(out))", "0.7071 V"),
+            ("out3", 'magnitude(at_frequency(voltage(out), "3000 rad/s"))', "0.06325 V"),
+        ],
+        header='frequency = "1000 rad/s"',
+    )
     assert sympy.simplify(found["out3"].exact - sympy.Rational(2, 10) / sympy.sqrt(10)) == 0
     assert found["out1"].verdict == found["out3"].verdict == "agrees"
 

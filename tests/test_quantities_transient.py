@@ -349,7 +349,13 @@ C1 = { capacitor = "0.2 uF", nodes = ["out", "gnd"] }
         return 5 * (rise - fall)
 
     sol = solve_ivp(
-        lambda t, v: [(clock(t) - v[0]) / 2e-4], (0, 3.2e-3), [0.0], rtol=1e-11, atol=1e-14, max_step=2e-6, method="DOP853"
+        lambda t, v: [(clock(t) - v[0]) / 2e-4],
+        (0, 3.2e-3),
+        [0.0],
+        rtol=1e-11,
+        atol=1e-14,
+        max_step=2e-6,
+        method="DOP853",
     )
     steps = run(parts, [("wx", 'at(energy(C1), "3.2 ms")', "1 uJ")])
     assert_allclose(value(steps["wx"]), 0.2e-6 / 2 * sol.y[0][-1] ** 2, rtol=1e-6)

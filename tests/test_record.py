@@ -88,8 +88,10 @@ def test_json_record_validates_against_the_shipped_schema(bundled: dict, sheet: 
 def test_html_record_holds_every_step_in_order(bundled: dict, sheet: str) -> None:
     html = bundled[sheet][".html"].read_text(encoding="utf-8")
     record = json.loads(bundled[sheet][".json"].read_text(encoding="utf-8"))
-    order = [html.index(f'id="{anchor}"') for anchor in ("title", "summary", "circuit", "steps", "evidence",
-                                                          "plots", "cautions", "worksheet", "versions")]
+    order = [
+        html.index(f'id="{anchor}"')
+        for anchor in ("title", "summary", "circuit", "steps", "evidence", "plots", "cautions", "worksheet", "versions")
+    ]
     assert order == sorted(order)
     for step in record["steps"]:
         assert f'id="step-{step["name"]}" data-verdict="{step["verdict"]}"' in html
@@ -195,7 +197,9 @@ def _edit_one_digit(text: str, anchor: str) -> str:
 
 
 @pytest.mark.parametrize("suffix", [".html", ".md", ".json"])
-def test_reverify_refuses_an_edited_digit(bundled: dict, tmp_path: Path, suffix: str, capsys: pytest.CaptureFixture) -> None:
+def test_reverify_refuses_an_edited_digit(
+    bundled: dict, tmp_path: Path, suffix: str, capsys: pytest.CaptureFixture
+) -> None:
     text = bundled["lc-input-filter.toml"][suffix].read_text(encoding="utf-8")
     edited = tmp_path / f"edited{suffix}"
     edited.write_text(_edit_one_digit(text, "xact"), encoding="utf-8")
@@ -228,11 +232,16 @@ def test_reverify_of_a_fresh_record_finds_every_result_the_same(bundled: dict) -
     assert outcome.same, outcome.changes
 
 
-def test_record_command_writes_by_suffix_and_reverifies(tmp_path: Path, monkeypatch: pytest.MonkeyPatch, make_worksheet) -> None:
+def test_record_command_writes_by_suffix_and_reverifies(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch, make_worksheet
+) -> None:
     monkeypatch.setenv("SOURCE_DATE_EPOCH", EPOCH)
     text = make_worksheet(
-        {"Vs": {"voltage": "10 V", "nodes": ["a", "gnd"]}, "Rtop": {"resistor": "1 kohm", "nodes": ["a", "b"]},
-         "Rbot": {"resistor": "1 kohm", "nodes": ["b", "gnd"]}},
+        {
+            "Vs": {"voltage": "10 V", "nodes": ["a", "gnd"]},
+            "Rtop": {"resistor": "1 kohm", "nodes": ["a", "b"]},
+            "Rbot": {"resistor": "1 kohm", "nodes": ["b", "gnd"]},
+        },
         [{"name": "Vb", "quantity": "voltage(b)", "formula": "Vs*Rbot/(Rtop + Rbot)", "claim": "5 V"}],
     ).replace('title = "test"', 'title = "divider"\nauthor = "A. Author"\nchecker = "C. Checker"')
     sheet = tmp_path / "divider.toml"
@@ -273,7 +282,9 @@ def payload_worksheet(make_worksheet) -> str:
     )
     # a line of the worksheet that looks like a digest line must not count as one
     reference = f'"""\n<!-- handcheck-record-digest sha256:{"0" * 64} -->\n{PAYLOAD}"""'
-    return f"# {PAYLOAD}\n" + text.replace("format = 1", f"format = 1\nreference = {reference}\nauthor = {json.dumps(PAYLOAD)}")
+    return f"# {PAYLOAD}\n" + text.replace(
+        "format = 1", f"format = 1\nreference = {reference}\nauthor = {json.dumps(PAYLOAD)}"
+    )
 
 
 def test_payloads_are_escaped_in_html_and_markdown(tmp_path: Path, make_worksheet) -> None:
@@ -304,7 +315,9 @@ def test_a_payload_in_a_formula_is_refused_and_nothing_written(tmp_path: Path, m
 # --- In a real browser: headless Chromium (Debian's chromium package; .ci/run installs it) ---
 
 CHROMIUM = next((p for p in (shutil.which("chromium"), shutil.which("chromium-browser")) if p), None)
-needs_chromium = pytest.mark.skipif(CHROMIUM is None, reason="headless Chromium is not installed (apt-get install chromium)")
+needs_chromium = pytest.mark.skipif(
+    CHROMIUM is None, reason="headless Chromium is not installed (apt-get install chromium)"
+)
 MEASURE = (
     "<script>document.body.setAttribute('data-math', JSON.stringify(Array.from(document.querySelectorAll('math'))"
     ".map(function (m) { var r = m.getBoundingClientRect(); return [r.width, r.height]; })));</script>"
@@ -312,8 +325,18 @@ MEASURE = (
 
 
 def _chromium(tmp_path: Path, url: str, *flags: str) -> subprocess.CompletedProcess:
-    command = [CHROMIUM, "--headless", "--no-sandbox", "--disable-gpu", "--no-first-run", "--enable-logging=stderr",
-               "--v=0", f"--user-data-dir={tmp_path / 'profile'}", *flags, url]
+    command = [
+        CHROMIUM,
+        "--headless",
+        "--no-sandbox",
+        "--disable-gpu",
+        "--no-first-run",
+        "--enable-logging=stderr",
+        "--v=0",
+        f"--user-data-dir={tmp_path / 'profile'}",
+        *flags,
+        url,
+    ]
     return subprocess.run(command, capture_output=True, text=True, timeout=120, check=False)
 
 

@@ -113,9 +113,17 @@ def test_quoted_drives(row):
 @pytest.mark.parametrize("row", _table("first version"), ids=lambda r: r[0][:40])
 def test_old_keys_are_refused_with_the_new_form(row):
     old, new = row
-    text = HEADER + "[parts]\n" + f'Vs = {{ {old}, nodes = ["a", "gnd"] }}\nRl = {{ resistor = "1 kohm", nodes = ["a", "gnd"] }}\n'
+    text = (
+        HEADER
+        + "[parts]\n"
+        + f'Vs = {{ {old}, nodes = ["a", "gnd"] }}\nRl = {{ resistor = "1 kohm", nodes = ["a", "gnd"] }}\n'
+    )
     with pytest.raises(handcheck.WorksheetError) as caught:
         handcheck.loads(text)
     assert new in str(caught.value)
-    fixed = HEADER + "[parts]\n" + f'Vs = {{ {new}, nodes = ["a", "gnd"] }}\nRl = {{ resistor = "1 kohm", nodes = ["a", "gnd"] }}\n'
+    fixed = (
+        HEADER
+        + "[parts]\n"
+        + f'Vs = {{ {new}, nodes = ["a", "gnd"] }}\nRl = {{ resistor = "1 kohm", nodes = ["a", "gnd"] }}\n'
+    )
     build(handcheck.loads(fixed))

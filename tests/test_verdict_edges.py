@@ -16,7 +16,9 @@ def step(report: handcheck.Report, name: str) -> handcheck.StepFinding:
 def test_a_coarse_input_that_agrees_still_carries_a_large_error():
     # R = 1.4 kohm claimed as "1 kohm" agrees within its one digit (+-0.5 kohm), but
     # P = V^2/R from it is 100 mW against 71.43 mW (Ohm's and Joule's laws): carried.
-    text = HEAD + """
+    text = (
+        HEAD
+        + """
 [parts]
 V1 = { voltage = "10 V", nodes = ["in", "gnd"] }
 R1 = { resistor = "1.4 kohm", nodes = ["in", "gnd"] }
@@ -31,6 +33,7 @@ formula = "V1^2/R"
 claim = "100 mW"
 tolerance = "1%"
 """
+    )
     report = handcheck.check_text(text)
     assert step(report, "R").verdict == "agrees"
     assert step(report, "P").verdict == "carried"
@@ -41,7 +44,9 @@ tolerance = "1%"
 def test_a_negative_real_claim_reads_as_a_reversed_phasor():
     # The source's current enters its + terminal: about -10 mA (a 1 kohm load, the
     # capacitor's 1.6 ohm reactance at 1 kHz hardly matters): common practice to write -10 mA.
-    text = HEAD + """
+    text = (
+        HEAD
+        + """
 [parts]
 V1 = { voltage = "10 V", frequency = "1 kHz", nodes = ["in", "gnd"] }
 R1 = { resistor = "1 kohm", nodes = ["in", "out"] }
@@ -51,11 +56,14 @@ name = "I"
 quantity = "current(V1)"
 claim = "-10.00 mA"
 """
+    )
     assert step(handcheck.check_text(text), "I").verdict == "agrees"
 
 
 def test_a_right_claim_from_a_wrong_formula_is_remarked():
-    text = HEAD + """
+    text = (
+        HEAD
+        + """
 frequency = "1 kHz"
 [parts]
 V1 = { voltage = "1 V", frequency = "1 kHz", nodes = ["a", "gnd"] }
@@ -66,13 +74,16 @@ quantity = "reactance(L1)"
 formula = "2*pi*f*L1*1000"
 claim = "62.83 ohm"
 """
+    )
     finding = step(handcheck.check_text(text), "XL")
     assert finding.verdict == "agrees"
     assert finding.message == "the claim is right, but the formula as written gives 62832 ohm"
 
 
 def test_a_time_function_step_cannot_feed_a_formula():
-    text = HEAD + """
+    text = (
+        HEAD
+        + """
 [parts]
 V1 = { voltage = "10 V", nodes = ["in", "gnd"] }
 R1 = { resistor = "1 kohm", nodes = ["in", "out"] }
@@ -86,6 +97,7 @@ name = "v2"
 formula = "v/2"
 claim = "5 V"
 """
+    )
     with pytest.raises(handcheck.WorksheetError) as info:
         handcheck.check_text(text, "w.toml")
     assert str(info.value) == (

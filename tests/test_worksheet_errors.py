@@ -10,8 +10,7 @@ from handcheck.cli import main
 
 HEAD = '[worksheet]\nformat = 1\ntitle = "t"\n'
 DIVIDER = (
-    '[parts]\nV1 = { voltage = "1 V", nodes = ["a", "gnd"] }\n'
-    'R1 = { resistor = "1 kohm", nodes = ["a", "gnd"] }\n'
+    '[parts]\nV1 = { voltage = "1 V", nodes = ["a", "gnd"] }\nR1 = { resistor = "1 kohm", nodes = ["a", "gnd"] }\n'
 )
 
 # (id, worksheet text after HEAD, the whole message expected on stderr after "handcheck: ")
@@ -116,7 +115,10 @@ def test_wrong_format(tmp_path, monkeypatch, capsys):
     monkeypatch.chdir(tmp_path)
     _write(tmp_path, DIVIDER, head='[worksheet]\nformat = 2\ntitle = "t"\n')
     assert main(["check", "W.toml"]) == 2
-    assert capsys.readouterr().err == "handcheck: W.toml:2: format = 2 is not a format this version reads; write format = 1\n"
+    assert (
+        capsys.readouterr().err
+        == "handcheck: W.toml:2: format = 2 is not a format this version reads; write format = 1\n"
+    )
 
 
 def test_missing_title(tmp_path, monkeypatch, capsys):

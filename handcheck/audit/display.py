@@ -89,7 +89,10 @@ def _square_root(square: sympy.Expr) -> sympy.Expr:
     """sqrt of a square of a rational function: abs(N/D) when numerator and denominator
     are perfect squares (sqrt((a + b)**2/c**2) reads as abs((a + b)/c)); sqrt else."""
     numerator, denominator = sympy.fraction(sympy.together(square))
-    if numerator.free_symbols | denominator.free_symbols and len(sympy.Add.make_args(sympy.expand(numerator))) <= MAX_FACTOR_TERMS:
+    if (
+        numerator.free_symbols | denominator.free_symbols
+        and len(sympy.Add.make_args(sympy.expand(numerator))) <= MAX_FACTOR_TERMS
+    ):
         top, bottom = _exact_root(numerator), _exact_root(denominator)
         if top is not None and bottom is not None:
             return sympy.Abs(top / bottom)

@@ -45,7 +45,7 @@ def _analysis_omega(worksheet: Worksheet, parts: tuple[Part, ...]) -> sympy.Expr
                     omegas.append(omega)
     if len(omegas) > 1:
         raise WorksheetError(
-            "the sources run at more than one frequency; set frequency = \"...\" in [worksheet] to choose the analysis frequency",
+            'the sources run at more than one frequency; set frequency = "..." in [worksheet] to choose the analysis frequency',
             file=worksheet.path,
             line=dict(worksheet.lines).get("title"),
         )

@@ -169,7 +169,11 @@ def _check_references(circuit: Circuit) -> None:
                         **where,
                     )
             if first == second:
-                raise CircuitError(f"coupling {part.id} names {first} twice; a coupling joins two different inductors", (part.id,), **where)
+                raise CircuitError(
+                    f"coupling {part.id} names {first} twice; a coupling joins two different inductors",
+                    (part.id,),
+                    **where,
+                )
         if part.kind == "opamp" and part.nodes[1] == part.nodes[2]:
             # (the output may share a node with an input: a voltage follower)
             raise CircuitError(
@@ -184,7 +188,12 @@ def _check_references(circuit: Circuit) -> None:
         if part.kind == "coupling":
             key = frozenset(part.inductors)
             if key in pairs:
-                raise CircuitError(f"{pairs[key]} and {part.id} both couple {_names(key)}; keep one", (pairs[key], part.id), file=circuit.path, line=part.line)
+                raise CircuitError(
+                    f"{pairs[key]} and {part.id} both couple {_names(key)}; keep one",
+                    (pairs[key], part.id),
+                    file=circuit.path,
+                    line=part.line,
+                )
             pairs[key] = part.id
 
 

@@ -123,7 +123,11 @@ def embedded_data(data: bytes, path: str) -> dict[str, Any]:
     if not isinstance(found, dict) or found.get("record_format") != 1:
         raise RecordError("this is no calculation record of format 1 (record_format is not 1)", file=path)
     sheet = found.get("worksheet")
-    if not isinstance(sheet, dict) or not isinstance(sheet.get("text"), str) or not isinstance(found.get("results"), dict):
+    if (
+        not isinstance(sheet, dict)
+        or not isinstance(sheet.get("text"), str)
+        or not isinstance(found.get("results"), dict)
+    ):
         raise RecordError("this is no calculation record: the embedded worksheet or results are missing", file=path)
     return found
 

@@ -206,7 +206,9 @@ def _multiplication(expr: sympy.Expr) -> str | None:
     return "dot" if any(len(name) > 1 for name in names) else None
 
 
-def typeset_formula(text: str, names: frozenset[str], values: Mapping[str, sympy.Expr] | None = None) -> sympy.Expr | None:
+def typeset_formula(
+    text: str, names: frozenset[str], values: Mapping[str, sympy.Expr] | None = None
+) -> sympy.Expr | None:
     """The formula ``text`` as a display expression, or None where it cannot be read."""
     try:
         tree = parse(text, names)

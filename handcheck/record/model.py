@@ -28,7 +28,17 @@ __all__ = ["RECORD_FORMAT", "build_record", "record_date", "results_of", "versio
 RECORD_FORMAT = 1
 #: Libraries whose versions a record names: every one that computed a result or wrote the record.
 LIBRARIES = ("sympy", "python-flint", "mpmath", "numpy", "scipy", "pint", "matplotlib", "jinja2")
-_PREFIXES = ((1e12, "T"), (1e9, "G"), (1e6, "M"), (1e3, "k"), (1, ""), (1e-3, "m"), (1e-6, "µ"), (1e-9, "n"), (1e-12, "p"))
+_PREFIXES = (
+    (1e12, "T"),
+    (1e9, "G"),
+    (1e6, "M"),
+    (1e3, "k"),
+    (1, ""),
+    (1e-3, "m"),
+    (1e-6, "µ"),
+    (1e-9, "n"),
+    (1e-12, "p"),
+)
 _UNITS = {"resistor": "Ω", "inductor": "H", "capacitor": "F", "voltage": "V", "current": "A", "vccs": "S", "ccvs": "Ω"}
 
 
@@ -154,7 +164,9 @@ def _circuit(inputs: Inputs) -> dict[str, Any]:
                     "frequency": raw.get("frequency") if isinstance(raw.get("frequency"), str) else None,
                     "phase": raw.get("phase") if isinstance(raw.get("phase"), str) else None,
                     "phasor": sympy.sstr(phasor) if phasor is not None else None,
-                    "phasor_typeset": _typeset(phasor.xreplace({sympy.I: sympy.Symbol("j")}) if phasor is not None else None),
+                    "phasor_typeset": _typeset(
+                        phasor.xreplace({sympy.I: sympy.Symbol("j")}) if phasor is not None else None
+                    ),
                 }
             )
     return {

@@ -78,7 +78,9 @@ def plot_evidence(report: Report, evidence: Evidence, path: str | Path) -> Path:
         if fit is not None:
             steady = _steady(fit, q, np.asarray(sim.times), omega)
             if steady is not None:
-                transient.plot(times_ms, values - steady, lw=1.0, color=line.get_color(), label=f"{q.text} - steady state")
+                transient.plot(
+                    times_ms, values - steady, lw=1.0, color=line.get_color(), label=f"{q.text} - steady state"
+                )
     for name, unit, claimed, _ in phasor_rows:
         if omega <= 0:
             break
@@ -147,8 +149,15 @@ def _phasor_diagram(axes: Any, rows: list[tuple[str, complex, complex]], unit: s
     largest = max([abs(v) for _, c, e in rows for v in (c, e)] + [1e-300])
     for index, (name, claimed, exact) in enumerate(rows):
         color = f"C{index % 10}"
-        axes.annotate("", xy=(exact.real, exact.imag), xytext=(0, 0), arrowprops={"arrowstyle": "->", "color": color, "lw": 2})
-        axes.annotate("", xy=(claimed.real, claimed.imag), xytext=(0, 0), arrowprops={"arrowstyle": "->", "color": color, "lw": 1.2, "ls": "--"})
+        axes.annotate(
+            "", xy=(exact.real, exact.imag), xytext=(0, 0), arrowprops={"arrowstyle": "->", "color": color, "lw": 2}
+        )
+        axes.annotate(
+            "",
+            xy=(claimed.real, claimed.imag),
+            xytext=(0, 0),
+            arrowprops={"arrowstyle": "->", "color": color, "lw": 1.2, "ls": "--"},
+        )
         axes.text(exact.real, exact.imag, f" {name}", color=color, fontsize=8)
     axes.set_xlim(-1.15 * largest, 1.15 * largest)
     axes.set_ylim(-1.15 * largest, 1.15 * largest)

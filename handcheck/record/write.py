@@ -18,7 +18,16 @@ from handcheck.errors import HandcheckError
 from handcheck.record.document import RecordError, embedded_data, seal, verify_digest, write_atomic
 from handcheck.record.inputs import Inputs
 
-__all__ = ["FORMATS", "Reverified", "check_suffix", "compare", "make_record", "read_record", "recorded_worksheet", "write_record"]
+__all__ = [
+    "FORMATS",
+    "Reverified",
+    "check_suffix",
+    "compare",
+    "make_record",
+    "read_record",
+    "recorded_worksheet",
+    "write_record",
+]
 
 FORMATS = (".html", ".md", ".json")
 #: Relative difference below which two recomputed numbers count as the same result.
@@ -117,7 +126,9 @@ def check_suffix(target: str | Path) -> None:
     """
     target = Path(target)
     if target.suffix.lower() not in FORMATS:
-        raise HandcheckError(f'a record is written as .html, .md or .json, not "{target.name}"; name the file by its format')
+        raise HandcheckError(
+            f'a record is written as .html, .md or .json, not "{target.name}"; name the file by its format'
+        )
 
 
 @dataclass(frozen=True)

@@ -185,7 +185,9 @@ def _chain(block: Block) -> np.ndarray:
 
 
 def _float_term(term: SourceTerm, block: int) -> _Term:
-    return _Term(complex(term.phasor), term.power, complex(-float(term.decay), float(term.omega)), float(term.start), block)
+    return _Term(
+        complex(term.phasor), term.power, complex(-float(term.decay), float(term.omega)), float(term.start), block
+    )
 
 
 def _plan(part: Part, offset: int) -> SourcePlan:

@@ -174,5 +174,7 @@ def _moment_numeric(k: int, q: Any, span: Any) -> Any:
                 return total
             m += 1
             term *= q / m
-    inner = sum(((-1) ** (k - j) * span**j / (math.factorial(j) * q ** (k - j + 1)) for j in range(k + 1)), mpmath.mpc(0))
+    inner = sum(
+        ((-1) ** (k - j) * span**j / (math.factorial(j) * q ** (k - j + 1)) for j in range(k + 1)), mpmath.mpc(0)
+    )
     return math.factorial(k) * (mpmath.exp(q * span) * inner - (-1) ** k / q ** (k + 1))

@@ -76,7 +76,7 @@ def _ball(expr: sympy.Expr, memo: dict[sympy.Expr, Any]) -> Any:
         b = _ball(base, memo)
         if exp.is_Integer:
             n = int(exp)
-            out = b ** n if n >= 0 else 1 / (b ** (-n))
+            out = b**n if n >= 0 else 1 / (b ** (-n))
         elif exp == sympy.S.Half:
             out = b.sqrt()
         else:

@@ -23,8 +23,6 @@ if TYPE_CHECKING:  # pragma: no cover - typing only
 __all__ = ["Column", "combine", "energy_vector", "laplace_s", "node_form", "shape_of", "solve_column", "to_time"]
 
 
-
-
 def energy_vector(system: MnaSystem, circuit: Circuit, part: Part) -> list[Any]:
     """``C x(0-)`` for a unit initial voltage (capacitor) or current (inductor) of one part."""
     import sympy
@@ -80,7 +78,6 @@ def timeout_error() -> LimitError:
         "the transient solution took longer than its time limit; simplify the circuit (fewer capacitors and "
         "inductors) or raise the limit"
     )
-
 
 
 def laplace_s() -> Any:
@@ -153,5 +150,3 @@ def to_time(value: Any) -> Any:
     if isinstance(value, float):
         return sympy.Rational(repr(value))  # the decimal as written, exactly
     raise TypeError(f"a time must be a number, not {type(value).__name__}")
-
-

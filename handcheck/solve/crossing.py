@@ -108,7 +108,9 @@ def _first_in_piece(seg: Any, g: Any, g0: Any, length: Any, scale: float, seen: 
 
     a, ga = mpmath.mpf(0), g0
     # lazily: the critical points are refined only up to the first crossing
-    points = itertools.chain((refine_critical(seg, bracket) for bracket, _ in critical_brackets(seg, length, scale)), [length])
+    points = itertools.chain(
+        (refine_critical(seg, bracket) for bracket, _ in critical_brackets(seg, length, scale)), [length]
+    )
     touch = mpmath.mpf(10) ** (-(WORK_DPS - 15)) * scale  # a crest that meets the level (g is quadratic there)
     for b in points:
         if b <= a:

@@ -158,7 +158,9 @@ def group_power(solution: Solution, name: str, idents: tuple[object, ...], text:
     if name == "apparent_power":
         return Value(apparent, dim_of("W"))
     if apparent == 0:
-        raise _fail(f"{', '.join(map(str, idents))} carry no power at the analysis frequency, so there is no power factor", text)
+        raise _fail(
+            f"{', '.join(map(str, idents))} carry no power at the analysis frequency, so there is no power factor", text
+        )
     return Value(sympy.Abs(sympy.re(complex_power)) / apparent, DIMENSIONLESS)
 
 
@@ -307,7 +309,9 @@ def evaluate_derived(solution: Solution, q: object, evaluate: Evaluate) -> Value
         return _rms_average(solution, q, inner, evaluate)
     if name == "without":
         if len(args) < 2 or any(hasattr(a, "name") for a in args[1:]):
-            raise _fail("without() takes a quantity and the part ids to remove, like without(voltage(out), Rload)", text)
+            raise _fail(
+                "without() takes a quantity and the part ids to remove, like without(voltage(out), Rload)", text
+            )
         return evaluate(solve(removed(circuit, tuple(str(a) for a in args[1:]), text)), inner)
     raise _fail(f'unknown quantity "{name}"', text)  # pragma: no cover - the parser rejects it first
 

@@ -50,7 +50,6 @@ def tail_bound(seg: Segment, u: float) -> float:
     return total
 
 
-
 def tail_length(f: TimeFunction, seg: Segment, level: float) -> float:
     """Local time in the last piece after which the decaying part stays below ``level``."""
     decaying = [g for g in seg.groups if g.real_sign < 0]
@@ -63,7 +62,6 @@ def tail_length(f: TimeFunction, seg: Segment, level: float) -> float:
         if u > 1e300:
             raise LimitError(f"{f.name}: the transient does not fade within the floating-point range")
     return u
-
 
 
 def critical_brackets(seg: Segment, length: Any, scale: float) -> list[tuple[Any, Any]]:
@@ -90,7 +88,6 @@ def critical_brackets(seg: Segment, length: Any, scale: float) -> list[tuple[Any
     return out
 
 
-
 def refine_critical(seg: Segment, bracket: tuple[Any, Any]) -> Any:
     """The zero of the derivative inside ``bracket`` (local times), in mpmath."""
     dgroups = derivative_groups(seg.groups, 1)
@@ -107,7 +104,6 @@ def refine_critical(seg: Segment, bracket: tuple[Any, Any]) -> Any:
     if (fa > 0) == (fb > 0):  # the float sign change was rounding noise
         return a if abs(group_value(seg.groups, a)) > abs(group_value(seg.groups, b)) else b
     return illinois_root(fp, a, b, fa, fb)
-
 
 
 def peak(f: TimeFunction, t_end: Any = None) -> tuple[Any, Any]:
@@ -169,9 +165,7 @@ def peak(f: TimeFunction, t_end: Any = None) -> tuple[Any, Any]:
             end = last.start + mpmath.mpf(tail_length(f, last, _TAIL * scale))
             waves = f.persistent_frequencies()
             if waves:  # at least one period of the slowest persistent sinusoid beyond the transient
-                end = max(
-                    end, last.start + mpmath.mpf(tail_length(f, last, 1e-3 * scale)) + 2 * mpmath.pi / min(waves)
-                )
+                end = max(end, last.start + mpmath.mpf(tail_length(f, last, 1e-3 * scale)) + 2 * mpmath.pi / min(waves))
         candidates: list[tuple[float, Any, Any, Segment | None]] = []  # (|f| float, time, value-or-None, seg)
         for seg in segments:
             if seg.start > end:
@@ -213,7 +207,6 @@ def peak(f: TimeFunction, t_end: Any = None) -> tuple[Any, Any]:
         return best_value, best_time
 
 
-
 def steady_crest(f: TimeFunction) -> Any:
     """Largest absolute value of the persistent part (constant and sinusoids)."""
     import mpmath
@@ -242,7 +235,6 @@ def steady_crest(f: TimeFunction) -> Any:
         if abs(v) > best:
             best, sign = abs(v), (1 if v > 0 else -1)
     return best * sign
-
 
 
 def settling_time(f: TimeFunction, band: Any, reference: Any = None) -> mpmath.mpf:
@@ -312,7 +304,6 @@ def settling_time(f: TimeFunction, band: Any, reference: Any = None) -> mpmath.m
         return mpmath.mpf(0)
 
 
-
 def last_excursion(f: TimeFunction, seg: Segment, length: Any, threshold: Any, scale: float) -> Any:
     """Local time in ``[0, length]`` after which ``|f| <= threshold`` on this piece, or None.
 
@@ -353,7 +344,6 @@ def last_excursion(f: TimeFunction, seg: Segment, length: Any, threshold: Any, s
 
         return illinois_root(g, a, b, g(a), g(b))
     return None
-
 
 
 def _deviation_of(f: TimeFunction) -> TimeFunction:

@@ -261,7 +261,9 @@ def evaluate_frequency(solution: Solution, q: object, evaluate: Evaluate) -> Val
         h = network_function(solution, q, evaluate)
         return Value(h.expr, h.dim)
     if len(args) != 1 or not hasattr(args[0], "name"):
-        raise _fail(f"{name}() takes one network function, like {name}(network_function(voltage(out), voltage(in)))", text)
+        raise _fail(
+            f"{name}() takes one network function, like {name}(network_function(voltage(out), voltage(in)))", text
+        )
     h = network_function(solution, args[0], evaluate)
     hz = dim_of("Hz")
     if name in ("poles", "zeros"):
@@ -335,4 +337,3 @@ def _number(value: object) -> sympy.Expr:
 
     c = mpmath.mpc(value)
     return sympy.Float(c.real, 30) + sympy.I * sympy.Float(c.imag, 30)
-

@@ -20,8 +20,6 @@ from handcheck.worksheet.sourcefunction import SourceFunction, SourceTerm
 __all__ = ["rest_state", "steady_state"]
 
 
-
-
 def rest_state(circuit: Circuit) -> dict[str, Any]:
     """Each capacitor's and inductor's ``initial`` value (0 if none), by part id.
 
@@ -116,5 +114,3 @@ def steady_state(circuit: Circuit) -> dict[str, Any]:
     for w in omegas:
         collect(solve(driven(w), w, f"at {sympy.N(w / (2 * sympy.pi), 6)} Hz"), True)
     return {k: compact(v) for k, v in state.items()}
-
-

@@ -37,6 +37,7 @@ def polynomial_tail(f: TimeFunction) -> list[Any] | None:
     coeffs = list(reversed(poly.all_coeffs())) if not poly.is_zero else [sympy.Integer(0)]
     return [real_part(c) for c in coeffs]
 
+
 def final_value(f: TimeFunction) -> Any:
     """The limit as ``t`` grows without bound.
 
@@ -73,6 +74,7 @@ def final_value(f: TimeFunction) -> Any:
             if term.real_sign == 0 and term.imag_sign == 0 and term.power == 0:
                 total += term.numeric[0]
         return +total.real
+
 
 def steady_phasor(f: TimeFunction, omega: Any) -> Any:
     """The phasor (peak convention) of the persistent sinusoid at ``omega`` rad/s.

@@ -297,8 +297,12 @@ def _reduce_pencil(
             c_full = {nonpiv[a]: y2c[a, 0].element for a in range(m)}
             Wsel = DomainMatrix.zeros((len(sel), 0), K)
             return _StateSpace(
-                DomainMatrix.zeros((0, 0), K), DomainMatrix.zeros((0, 1), K),
-                Wsel, tuple(c_full[k] for k in sel), None, "schur",
+                DomainMatrix.zeros((0, 0), K),
+                DomainMatrix.zeros((0, 1), K),
+                Wsel,
+                tuple(c_full[k] for k in sel),
+                None,
+                "schur",
             )
         Y1 = Y[:, :r]
         y2c = Y[:, r:]
@@ -340,9 +344,7 @@ def _reduce_pencil(
             _check_deadline(deadline, "search for a regular point")
             continue
     if Z is None:
-        raise ValueError(
-            "det(G + sC) is identically zero (the system is singular for every s)"
-        )
+        raise ValueError("det(G + sC) is identically zero (the system is singular for every s)")
     _check_deadline(deadline, "reversal solve")
     Zu = Z[:, :r]
     zb = Z[:, r:]
@@ -370,9 +372,7 @@ def _det_shifted(Km: DomainMatrix, use_flint: bool) -> list:
         if dom.dtype is flint.fmpq:
             fm = flint.fmpq_mat(ent)
         else:
-            fm = flint.fmpq_mat(
-                [[flint.fmpq(int(dom.numer(x)), int(dom.denom(x))) for x in row] for row in ent]
-            )
+            fm = flint.fmpq_mat([[flint.fmpq(int(dom.numer(x)), int(dom.denom(x))) for x in row] for row in ent])
         cf = fm.charpoly().coeffs()
         if dom.dtype is flint.fmpq:
             return list(cf)

@@ -51,11 +51,24 @@ def _singular(system: MnaSystem, circuit: Circuit, matrix: list[list[sympy.Expr]
     names = {system.labels[k][2:-1].split(".")[0] for k in involved}
     for part in circuit.parts:
         if (part.id in names or any(n in names for n in part.nodes if n != GROUND)) and part.kind in (
-            "inductor", "capacitor", "voltage", "vcvs", "ccvs", "cccs", "vccs", "opamp", "transformer", "current"
+            "inductor",
+            "capacitor",
+            "voltage",
+            "vcvs",
+            "ccvs",
+            "cccs",
+            "vccs",
+            "opamp",
+            "transformer",
+            "current",
         ):
             parts.add(part.id)
     ordered = sorted(parts)
-    listed = (", ".join(ordered[:-1]) + " and " + ordered[-1]) if len(ordered) > 1 else (ordered[0] if ordered else "the circuit")
+    listed = (
+        (", ".join(ordered[:-1]) + " and " + ordered[-1])
+        if len(ordered) > 1
+        else (ordered[0] if ordered else "the circuit")
+    )
     lines = [p.line for p in circuit.parts if p.id in parts and p.line]
     return CircuitError(
         f"the circuit's equations are singular at {_format_frequency(circuit.omega)}: {listed} leave a voltage or "
@@ -105,7 +118,9 @@ class Unknowns(Sequence[sympy.Expr]):
         return f"Unknowns({self._size}, formed {sorted(self._values)})"
 
 
-def solve_columns(system: MnaSystem, circuit: Circuit, columns: Sequence[Sequence[sympy.Expr]]) -> list[Sequence[sympy.Expr]]:
+def solve_columns(
+    system: MnaSystem, circuit: Circuit, columns: Sequence[Sequence[sympy.Expr]]
+) -> list[Sequence[sympy.Expr]]:
     """Solve ``(G + jw C) x = b`` exactly for each right-hand side ``b`` in ``columns``.
 
     Returns one sequence of unknowns per column (formed on first use when w is
@@ -126,7 +141,9 @@ def solve_columns(system: MnaSystem, circuit: Circuit, columns: Sequence[Sequenc
     return [_weighted(system, [(sympy.Integer(1), f)], circuit.omega) for f in functions]
 
 
-def _solve_direct(system: MnaSystem, circuit: Circuit, s: sympy.Expr, columns: Sequence[Sequence[sympy.Expr]]) -> list[Sequence[sympy.Expr]]:
+def _solve_direct(
+    system: MnaSystem, circuit: Circuit, s: sympy.Expr, columns: Sequence[Sequence[sympy.Expr]]
+) -> list[Sequence[sympy.Expr]]:
     from sympy.polys.matrices import DomainMatrix
     from sympy.polys.matrices.exceptions import DMNonInvertibleMatrixError
 
@@ -154,7 +171,9 @@ def _solve_direct(system: MnaSystem, circuit: Circuit, s: sympy.Expr, columns: S
     return [[values[r, k] for r in range(n)] for k in range(len(columns))]
 
 
-def _network_functions(system: MnaSystem, circuit: Circuit, columns: Sequence[Sequence[sympy.Expr]]) -> list[NetworkFunctions | None]:
+def _network_functions(
+    system: MnaSystem, circuit: Circuit, columns: Sequence[Sequence[sympy.Expr]]
+) -> list[NetworkFunctions | None]:
     """Each column's reduced pencil (None for a zero column); no unknown is formed yet."""
     from handcheck.solve.network import prepare_rational
 
@@ -175,7 +194,9 @@ def _network_functions(system: MnaSystem, circuit: Circuit, columns: Sequence[Se
     return prepared
 
 
-def _weighted(system: MnaSystem, terms: list[tuple[sympy.Expr, NetworkFunctions | None]], omega: sympy.Expr) -> Unknowns:
+def _weighted(
+    system: MnaSystem, terms: list[tuple[sympy.Expr, NetworkFunctions | None]], omega: sympy.Expr
+) -> Unknowns:
     """Unknowns ``sum(weight * x_k(jw))`` over the columns, each formed on first use.
 
     Horner-free: ``x_k(jw) = sum c_i (jw)^i / sum d_i (jw)^i`` is assembled from the
@@ -239,7 +260,11 @@ def solve(circuit: Circuit, system: MnaSystem | None = None) -> Solution:
         check_dc(circuit)
     system = system or stamp(circuit)
     u = {
-        ident: (circuit.part(ident).source.phasor(circuit.phasors, circuit.omega) if circuit.active(circuit.part(ident)) else sympy.Integer(0))  # type: ignore[union-attr]
+        ident: (
+            circuit.part(ident).source.phasor(circuit.phasors, circuit.omega)
+            if circuit.active(circuit.part(ident))
+            else sympy.Integer(0)
+        )  # type: ignore[union-attr]
         for ident in system.sources
     }
     active = [k for k, ident in enumerate(system.sources) if u[ident] != 0]
@@ -289,4 +314,6 @@ def part_current(solution: Solution, part: Part) -> sympy.Expr:
         return x[system.labels.index(f"i({part.id}.primary)")]
     if kind == "switch":  # an open switch carries nothing
         return sympy.Integer(0)
-    raise CircuitError(f"{part.id} is a {kind}; it has no current of its own", (part.id,), file=solution.circuit.path, line=part.line)
+    raise CircuitError(
+        f"{part.id} is a {kind}; it has no current of its own", (part.id,), file=solution.circuit.path, line=part.line
+    )

@@ -40,8 +40,6 @@ _MAX_SAMPLES = 4_000_000  # grid points per analysis, in total
 _NEGLIGIBLE = 1e-22  # a term below this fraction of the waveform's size no longer sets the grid
 
 
-
-
 @dataclass(frozen=True)
 class Group:
     """``exp(p u) * sum_j coeffs[j] u**j`` in the local time ``u = t - start``."""

@@ -117,7 +117,12 @@ class _QuantityParser:
             raise self.error('a quantity starts with its name, like "voltage(out)" or "current(R1)"', start)
         self.take()
         name = start.text
-        if name not in QUANTITIES and name not in TIME_DOMAIN and name not in DERIVED and name not in FREQUENCY_QUANTITIES:
+        if (
+            name not in QUANTITIES
+            and name not in TIME_DOMAIN
+            and name not in DERIVED
+            and name not in FREQUENCY_QUANTITIES
+        ):
             known = ", ".join([*QUANTITIES, *DERIVED, *FREQUENCY_QUANTITIES, *sorted(TIME_DOMAIN)])
             raise self.error(f'unknown quantity "{name}"; known quantities: {known}', start)
         if name in CIRCUIT_WIDE and self.tok.text != "(":
@@ -244,7 +249,9 @@ class _Evaluator:
                 pick = {"impedance": lambda v: v, "reactance": sympy.im, "resistance": sympy.re}[name]
                 return Value(pick(z), dim_of("ohm"))
             if z == 0:
-                raise self.fail(f"the impedance of {q.text[q.text.index('(') + 1:-1]} is exactly 0, so it has no admittance")
+                raise self.fail(
+                    f"the impedance of {q.text[q.text.index('(') + 1 : -1]} is exactly 0, so it has no admittance"
+                )
             y = 1 / z
             pick = {"admittance": lambda v: v, "susceptance": sympy.im, "conductance": sympy.re}[name]
             return Value(pick(y), dim_of("S"))
@@ -259,7 +266,11 @@ class _Evaluator:
         if name in ("power", "reactive_power", "apparent_power", "power_factor"):
             (ident,) = self.names(q, 1, 1)
             part = self.part(ident)
-            complex_power = self.power_scale * part_voltage(self.solution, part) * sympy.conjugate(part_current(self.solution, part))
+            complex_power = (
+                self.power_scale
+                * part_voltage(self.solution, part)
+                * sympy.conjugate(part_current(self.solution, part))
+            )
             if name == "power":
                 return Value(sympy.re(complex_power), dim_of("W"))
             if name == "reactive_power":

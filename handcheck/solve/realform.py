@@ -72,7 +72,12 @@ def solve_real_form(
         return None
     split = []
     for column in columns:
-        parts = [(sympy.Rational(v), sympy.Integer(0)) if isinstance(v, (int, sympy.Rational)) else as_sympy(v).as_real_imag() for v in column]
+        parts = [
+            (sympy.Rational(v), sympy.Integer(0))
+            if isinstance(v, (int, sympy.Rational))
+            else as_sympy(v).as_real_imag()
+            for v in column
+        ]
         if not all(isinstance(p, sympy.Rational) for pair in parts for p in pair):
             return None
         split.append(parts)
@@ -100,7 +105,9 @@ def solve_real_form(
                 rhs[r, 2 * k], rhs[r, 2 * k + 1] = _fmpq(re), _fmpq(im)
     x = a.solve(rhs)
     if width == 1:
-        return [[_to_sympy(x[r, 2 * k]) + sympy.I * _to_sympy(x[r, 2 * k + 1]) for r in range(n)] for k in range(len(split))]
+        return [
+            [_to_sympy(x[r, 2 * k]) + sympy.I * _to_sympy(x[r, 2 * k + 1]) for r in range(n)] for k in range(len(split))
+        ]
     return [[_to_sympy(x[r, k]) + sympy.I * _to_sympy(x[n + r, k]) for r in range(n)] for k in range(len(split))]
 
 

@@ -19,8 +19,6 @@ from handcheck.worksheet.sourcefunction import SourceTerm
 __all__ = ["Basis", "Wave", "basis_one", "source_waves", "term_waves"]
 
 
-
-
 @dataclass(frozen=True)
 class Basis:
     """An elementary transform ``num/den`` (polynomials over QQ), times ``1/(s - q)**m`` when
@@ -92,10 +90,14 @@ def term_waves(term: SourceTerm) -> list[Wave]:
     if w == 0:
         return [(x * fact, Basis(one, one, (pole, n + 1)), term.start)]
     half = fact / 2
-    return [
-        (compact(x * half), Basis(one, one, (pole, n + 1)), term.start),
-        (compact(sympy.conjugate(x) * half), Basis(one, one, (sympy.conjugate(pole), n + 1)), term.start),
-    ] if x != zero else []
+    return (
+        [
+            (compact(x * half), Basis(one, one, (pole, n + 1)), term.start),
+            (compact(sympy.conjugate(x) * half), Basis(one, one, (sympy.conjugate(pole), n + 1)), term.start),
+        ]
+        if x != zero
+        else []
+    )
 
 
 def source_waves(source: Source, horizon: Any) -> list[Wave]:
@@ -125,5 +127,3 @@ def source_waves(source: Source, horizon: Any) -> list[Wave]:
         if weight != 0:
             out.append((weight, basis, at))
     return out
-
-

@@ -373,7 +373,6 @@ class TimeFunction:
                     best = max(best, sum((abs(c) for c in g.coeffs), mpmath.mpf(0)))
             return best if best > 0 else mpmath.mpf(1)
 
-
     # ----- extremes (solve/extremes.py) ---------------------------------------------
 
     def peak(self, t_end: Any = None) -> tuple[Any, Any]:
@@ -502,4 +501,3 @@ def _merge(a: TimeFunction, b: TimeFunction, name: str) -> TimeFunction:
     horizons = [h for h in (a.horizon, b.horizon) if h is not None]
     horizon = min(horizons) if horizons else None
     return TimeFunction(tuple(terms), kept, initial, horizon, name)
-

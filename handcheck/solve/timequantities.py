@@ -62,7 +62,9 @@ def _energy_base(transient: Any, ident: str, quantity: Quantity) -> tuple[Any, s
         raise ParseError(f'"{ident}" is not a part of the circuit', quantity.text, None)
     part = circuit.part(ident)
     if part.kind == "inductor" and any(p.kind == "coupling" and ident in p.inductors for p in circuit.parts):
-        raise CircuitError(f"{ident} is magnetically coupled; the energy of one coupled inductor alone is not defined", (ident,))
+        raise CircuitError(
+            f"{ident} is magnetically coupled; the energy of one coupled inductor alone is not defined", (ident,)
+        )
     if part.kind == "capacitor":
         wave = transient.part_voltage(ident)
     elif part.kind == "inductor":
@@ -104,7 +106,9 @@ def _energy_value(transient: Any, quantity: Quantity, phasor: Callable[[Quantity
     if name == "peak":
         return Value(half * _exact(value) ** 2, joule)
     if when == float("inf"):
-        raise CircuitError(f"{inner} has no peak time: its largest value is only approached as t grows without bound", ())
+        raise CircuitError(
+            f"{inner} has no peak time: its largest value is only approached as t grows without bound", ()
+        )
     return Value(_exact(when), dim_of("s"))
 
 
@@ -123,7 +127,9 @@ def _level(text: str, dim: Dim, quantity: Quantity) -> sympy.Expr:
     word = _UNIT_WORDS.get(dim, "")
     if value.dim != dim or not value.expr.is_real:
         raise ParseError(
-            f'the level "{text}" must be a real value in the unit of the quantity, like "1.2 {word}"', quantity.text, None
+            f'the level "{text}" must be a real value in the unit of the quantity, like "1.2 {word}"',
+            quantity.text,
+            None,
         )
     return value.expr
 
@@ -132,7 +138,9 @@ def _absorbed_energy(transient: Any, quantity: Quantity) -> Value:
     """``integral_0^T v i dt`` of a part, absorbed (passive sign convention)."""
     args = quantity.args
     if len(args) != 2 or isinstance(args[0], Quantity) or isinstance(args[1], Quantity):
-        raise ParseError('absorbed_energy() takes a part and a time, like absorbed_energy(R1, "10 ms")', quantity.text, None)
+        raise ParseError(
+            'absorbed_energy() takes a part and a time, like absorbed_energy(R1, "10 ms")', quantity.text, None
+        )
     ident = str(args[0])
     if not transient.circuit.has_part(ident):
         raise ParseError(f'"{ident}" is not a part of the circuit', quantity.text, None)
@@ -195,12 +203,16 @@ def evaluate_time_quantity(transient: Any, quantity: Quantity, phasor: Callable[
     if name == "crossing_time":
         if len(args) != 2 or isinstance(args[1], Quantity):
             raise ParseError(
-                'crossing_time() takes a quantity and a level, like crossing_time(voltage(out), "1.2 V")', quantity.text, None
+                'crossing_time() takes a quantity and a level, like crossing_time(voltage(out), "1.2 V")',
+                quantity.text,
+                None,
             )
         level = _level(str(args[1]), dim, quantity)
         return Value(_exact(crossing_time(wave, level, _UNIT_WORDS.get(dim, ""))), dim_of("s"))
     if len(args) > (2 if name == "settling_time" else 1):
-        raise ParseError(f"{name}() takes {'two arguments' if name == 'settling_time' else 'one argument'}", quantity.text, None)
+        raise ParseError(
+            f"{name}() takes {'two arguments' if name == 'settling_time' else 'one argument'}", quantity.text, None
+        )
     if name == "initial":
         return Value(_exact(wave.initial()), dim)
     if name == "final":
@@ -218,6 +230,10 @@ def evaluate_time_quantity(transient: Any, quantity: Quantity, phasor: Callable[
         return Value(_exact(when), dim_of("s"))
     if name == "settling_time":
         if len(args) != 2 or isinstance(args[1], Quantity):
-            raise ParseError('settling_time() takes a quantity and a band, like settling_time(voltage(out), "2%")', quantity.text, None)
+            raise ParseError(
+                'settling_time() takes a quantity and a band, like settling_time(voltage(out), "2%")',
+                quantity.text,
+                None,
+            )
         return Value(_exact(wave.settling_time(_band(str(args[1]), quantity))), dim_of("s"))
     raise ParseError(f'unknown time-domain quantity "{name}"', quantity.text, None)  # pragma: no cover

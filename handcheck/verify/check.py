@@ -127,7 +127,11 @@ class _Checker:
         """
         wave, dim = waveform_of(self.transient, quantity)
         if claim.dim != dim:
-            return StepFinding(**base, verdict="unit", message=f"the claim is in {claim.dim or 'no unit'}, but the quantity is in {dim}")
+            return StepFinding(
+                **base,
+                verdict="unit",
+                message=f"the claim is in {claim.dim or 'no unit'}, but the quantity is in {dim}",
+            )
         span = self.span()
         times = [span * k / 400 for k in range(401)]
         truth = [complex(wave.value(t)) for t in times]
@@ -140,7 +144,9 @@ class _Checker:
             f"{error:.3g} of the waveform's largest value (allowed {limit:.3g})"
         )
         verdict: Verdict = "agrees" if error <= limit else "differs"
-        return StepFinding(**base, error=error, expected=describe_function(wave, claim), message=message, verdict=verdict)
+        return StepFinding(
+            **base, error=error, expected=describe_function(wave, claim), message=message, verdict=verdict
+        )
 
     def check_response(self, base: StepBase, claim: Claim, quantity: Quantity, tolerance: Tolerance) -> StepFinding:
         """A claimed network function (in s) or a claimed list (poles, zeros, band edges)."""
@@ -150,7 +156,11 @@ class _Checker:
         if claim.form == "list":
             return StepFinding(**base, verdict="differs", message=f"a list is claimed, but {quantity} is one value")
         if claim.form != "laplace":
-            return StepFinding(**base, verdict="unit", message='a network function is claimed as an expression in s (rad/s), like "1000/(s + 1000)"')
+            return StepFinding(
+                **base,
+                verdict="unit",
+                message='a network function is claimed as an expression in s (rad/s), like "1000/(s + 1000)"',
+            )
         if quantity.name in ("impedance", "admittance"):
             from handcheck.solve.frequency import network_function
 
@@ -159,7 +169,9 @@ class _Checker:
         elif quantity.name in ("network_function", "transfer"):
             truth = evaluate_quantity(self.solution, Quantity("network_function", quantity.args, quantity.text))
         else:
-            return StepFinding(**base, verdict="unit", message=f"a function of s is claimed, but {quantity} is no network function")
+            return StepFinding(
+                **base, verdict="unit", message=f"a function of s is claimed, but {quantity} is no network function"
+            )
         return check_function_of_s(base, claim, truth, tolerance)
 
     def span(self) -> float:
@@ -268,7 +280,13 @@ class _Checker:
         if claim.form != "function":
             self.claimed_env[step.name] = claim.value
         tree = self.parse_formula(step) if step.formula else None
-        base: StepBase = {"name": step.name, "claimed": step.claim, "quantity": step.quantity, "formula": step.formula, "line": step.line}
+        base: StepBase = {
+            "name": step.name,
+            "claimed": step.claim,
+            "quantity": step.quantity,
+            "formula": step.formula,
+            "line": step.line,
+        }
 
         truth: Value | None = None
         quantity = None
@@ -278,7 +296,11 @@ class _Checker:
                 if claim.form == "function":
                     self.function_steps.add(step.name)
                     return self.check_function(base, claim, quantity, tolerance)
-                if claim.form in ("laplace", "list") or quantity.name in LIST_QUANTITIES or quantity.name == "network_function":
+                if (
+                    claim.form in ("laplace", "list")
+                    or quantity.name in LIST_QUANTITIES
+                    or quantity.name == "network_function"
+                ):
                     self.function_steps.add(step.name)
                     self.true_env[step.name] = claim.value
                     return self.check_response(base, claim, quantity, tolerance)
@@ -308,14 +330,18 @@ class _Checker:
                 formula_true = evaluate(tree, self.true_env, step.formula or "")
             except UnitError as exc:
                 self.true_env[step.name] = truth or claim.value
-                return StepFinding(**base, verdict="unit", message=f"the formula is not consistent in its units: {exc.message}")
+                return StepFinding(
+                    **base, verdict="unit", message=f"the formula is not consistent in its units: {exc.message}"
+                )
             except HandcheckError as exc:
                 raise self.located(exc, step, "formula") from None
         if truth is None:
             truth = formula_true
         if truth is None:
             self.true_env[step.name] = claim.value
-            return StepFinding(**base, verdict="unchecked", message="no quantity and no formula: nothing to check the claim against")
+            return StepFinding(
+                **base, verdict="unchecked", message="no quantity and no formula: nothing to check the claim against"
+            )
         self.true_env[step.name] = truth
 
         try:
@@ -363,7 +389,9 @@ class _Checker:
         error = relative_error(claim, reference)
         shown["error"] = error
         if agrees(claim, reference, tolerance):
-            return StepFinding(**base, **shown, verdict="agrees", message=self.formula_remark(tree, step, claim, tolerance))
+            return StepFinding(
+                **base, **shown, verdict="agrees", message=self.formula_remark(tree, step, claim, tolerance)
+            )
 
         if tree is None:
             return self.diagnosed(StepFinding(**base, **shown, verdict="differs"), context)
@@ -544,4 +572,3 @@ def check(worksheet: Worksheet, circuit: Circuit | None = None, *, exact: ExactS
     if exact is None:
         exact = ExactSolutions(circuit)
     return _Checker(worksheet, circuit, exact).run()
-

@@ -126,8 +126,8 @@ def _numbers_only(text: str, tree: object) -> None:
     for node in walk(tree):  # type: ignore[arg-type]
         if not isinstance(node, (Number, Binary, Unary)) or (isinstance(node, Binary) and node.op not in "+-"):
             raise ParseError(
-                "a claim is a number with its unit, a rectangular value like \"12.3 - 4.5j ohm\", "
-                "or a polar value like \"0.63 A ∠ -22.1 deg\"",
+                'a claim is a number with its unit, a rectangular value like "12.3 - 4.5j ohm", '
+                'or a polar value like "0.63 A ∠ -22.1 deg"',
                 text,
                 getattr(node, "start", 0) + 1,
             )
@@ -240,7 +240,9 @@ def _read_list(text: str) -> Claim:
     cuts = [-1, *_top_level_commas(text), len(text)]
     pieces = [text[a + 1 : b].strip() for a, b in pairwise(cuts)]
     if any(not piece for piece in pieces):
-        raise ParseError('a list claim holds values between commas, like "-500 + 866j, -500 - 866j, -1000 rad/s"', text, None)
+        raise ParseError(
+            'a list claim holds values between commas, like "-500 + 866j, -500 - 866j, -1000 rad/s"', text, None
+        )
     _, unit = _split_unit(pieces[-1])
     items = []
     for piece in pieces:
@@ -267,7 +269,11 @@ def _read_laplace(text: str, body: str, unit: str, tree: object) -> Claim:
     factor, dim = unit_of(_unit_words(unit)) if unit else (sympy.Integer(1), DIMENSIONLESS)
     relative = 0.0
     for node in walk(tree):  # type: ignore[arg-type]
-        if isinstance(node, Number) and node.value != 0 and len(node.digits.lower().partition("e")[0].replace(".", "").strip("0")) >= 3:
+        if (
+            isinstance(node, Number)
+            and node.value != 0
+            and len(node.digits.lower().partition("e")[0].replace(".", "").strip("0")) >= 3
+        ):
             relative += float(_resolution(node.digits) / abs(node.value))
     return Claim(text, Value(value.expr * factor, dim), "laplace", (relative, 0.0), unit, factor)
 
@@ -341,7 +347,7 @@ def _read_polar(text: str) -> Claim:
     mark = "∠" if "∠" in text else "/_"
     magnitude_text, _, angle_text = text.partition(mark)
     if not magnitude_text.strip() or not angle_text.strip():
-        raise ParseError("a polar claim needs a magnitude and an angle, like \"0.63 A ∠ -22.1 deg\"", text, None)
+        raise ParseError('a polar claim needs a magnitude and an angle, like "0.63 A ∠ -22.1 deg"', text, None)
     magnitude = _read_claim(magnitude_text.strip())
     if magnitude.form != "real" or not magnitude.value.expr.is_nonnegative:
         raise ParseError("the magnitude of a polar claim must be a number that is not negative", text, None)

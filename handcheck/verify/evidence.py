@@ -225,6 +225,7 @@ def gather_evidence(
     transient = None
     try:
         from handcheck.solve.timequantities import waveform_of
+
         transient = exact.transient
         for q in _signals(steps):
             try:
@@ -272,7 +273,9 @@ def describe(evidence: Evidence) -> list[str]:
     lines.extend(f"  {line}" for line in evidence.rules.splitlines() if line.strip())
     lines.append(f"  {evidence.settling}")
     if evidence.phasor_agreement is not None:
-        lines.append(f"  fitted phasors against exact ones: largest difference {evidence.phasor_agreement:.2g} of the drive")
+        lines.append(
+            f"  fitted phasors against exact ones: largest difference {evidence.phasor_agreement:.2g} of the drive"
+        )
         for name, fitted, want in evidence.phasors:
             lines.append(
                 f"    {name:<14} fitted {abs(fitted):.6g} ∠ {math.degrees(math.atan2(fitted.imag, fitted.real)):.4f} deg"
@@ -284,4 +287,3 @@ def describe(evidence: Evidence) -> list[str]:
     lines.extend(f"  note: {n}" for n in evidence.notes)
     lines.extend(f"  PROBLEM: {p}" for p in evidence.problems)
     return lines
-

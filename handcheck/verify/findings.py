@@ -7,7 +7,18 @@ from typing import Literal, TypedDict
 
 import sympy
 
-__all__ = ["BASES", "VERDICTS", "Basis", "Diagnosis", "Expected", "Report", "Shown", "StepBase", "StepFinding", "Verdict"]
+__all__ = [
+    "BASES",
+    "VERDICTS",
+    "Basis",
+    "Diagnosis",
+    "Expected",
+    "Report",
+    "Shown",
+    "StepBase",
+    "StepFinding",
+    "Verdict",
+]
 
 Verdict = Literal["agrees", "arithmetic", "formula", "carried", "differs", "unit", "unchecked"]
 VERDICTS: tuple[Verdict, ...] = ("agrees", "arithmetic", "formula", "carried", "differs", "unit", "unchecked")

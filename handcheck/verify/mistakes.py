@@ -100,7 +100,7 @@ def _series_parallel(ctx: Context, series_for_parallel: bool) -> str | None:
         if by_author(ctx, tree):
             return (
                 f'the number is what "{text(node.left)} {wrong} {text(node.right)}" gives: '
-                f'{text(node.left)} and {text(node.right)} were combined {how}, but the formula has them {should}'
+                f"{text(node.left)} and {text(node.right)} were combined {how}, but the formula has them {should}"
             )
     # ...or the formula itself combines two parts the wrong way.
     if ctx.truth is None or not by_author(ctx):
@@ -161,7 +161,11 @@ def _rewired(ctx: Context, series_for_parallel: bool) -> str | None:
                 if len(shared) != 1:
                     continue
                 (middle,) = shared
-                touching = [p for p in circuit.parts if middle in p.nodes or (isinstance(p.control, tuple) and middle in p.control)]
+                touching = [
+                    p
+                    for p in circuit.parts
+                    if middle in p.nodes or (isinstance(p.control, tuple) and middle in p.control)
+                ]
                 if middle == "gnd" or len(touching) != 2 or middle in _names_in(ctx.quantity):
                     continue
                 ends = [n for n in (*first.nodes, *second.nodes) if n != middle]
@@ -265,7 +269,9 @@ def _power_half(ctx: Context) -> str | None:
     if ctx.circuit.phasors == "peak" and scaled(ctx, sympy.Integer(2)):
         return "with peak phasors the average power is Re(V I*)/2; the number is twice that, so the 1/2 is missing"
     if ctx.circuit.phasors == "rms" and scaled(ctx, sympy.Rational(1, 2)):
-        return "with rms phasors the average power is Re(V I*); the number is half that, a 1/2 that only peak phasors need"
+        return (
+            "with rms phasors the average power is Re(V I*); the number is half that, a 1/2 that only peak phasors need"
+        )
     return None
 
 
@@ -281,7 +287,9 @@ def _peak_rms(ctx: Context, peak_as_rms: bool) -> str | None:
         if scaled(ctx, factor if peak_as_rms else 1 / factor):
             if peak_as_rms:
                 return f"the number is {sympy.sstr(factor)} times the value: a peak amplitude used where an rms value belongs"
-            return f"the number is 1/{sympy.sstr(factor)} of the value: an rms value used where a peak amplitude belongs"
+            return (
+                f"the number is 1/{sympy.sstr(factor)} of the value: an rms value used where a peak amplitude belongs"
+            )
     return None
 
 
@@ -337,7 +345,9 @@ def _magnitude_as_phasor(ctx: Context) -> str | None:
             )
             tree = replaced(ctx.tree, node, sized)
             for env in (ctx.true_env, ctx.claimed_env, ctx.full_env):
-                if not (is_phasor(formula_value(ctx, env, node.left)) or is_phasor(formula_value(ctx, env, node.right))):
+                if not (
+                    is_phasor(formula_value(ctx, env, node.left)) or is_phasor(formula_value(ctx, env, node.right))
+                ):
                     continue  # two numbers on the real axis: their sizes add as they are
                 value = formula_value(ctx, env, tree)
                 plain = formula_value(ctx, env)
@@ -345,7 +355,7 @@ def _magnitude_as_phasor(ctx: Context) -> str | None:
                     continue
                 verb = "added" if node.op == "+" else "subtracted"
                 return (
-                    f'the number is |{text(node.left)}| {node.op} |{text(node.right)}|: the sizes were {verb} as plain '
+                    f"the number is |{text(node.left)}| {node.op} |{text(node.right)}|: the sizes were {verb} as plain "
                     f"numbers, but {text(node.left)} and {text(node.right)} are complex values at different angles; "
                     f"{'add' if node.op == '+' else 'subtract'} them as complex numbers (write each as a polar or "
                     f"rectangular value), which gives {shown(ctx, ctx.truth.expr)}"
@@ -364,7 +374,11 @@ def _magnitude_as_phasor(ctx: Context) -> str | None:
                 f" and the value {shown(ctx, ctx.truth.expr)}"
             )
     q = ctx.quantity
-    if q.name == "voltage" and len(q.args) == 2 and all(isinstance(a, str) and a in (*ctx.circuit.nodes, "gnd") for a in q.args):
+    if (
+        q.name == "voltage"
+        and len(q.args) == 2
+        and all(isinstance(a, str) and a in (*ctx.circuit.nodes, "gnd") for a in q.args)
+    ):
         ends = node_voltages(ctx.circuit, (str(q.args[0]), str(q.args[1])))
         if ends is None or not (is_phasor(ends[0]) or is_phasor(ends[1])):
             return None
@@ -442,12 +456,16 @@ def _reversed_nodes(ctx: Context) -> str | None:
     within the check's time budget."""
     if ctx.quantity is None or ctx.truth is None:
         return None
-    sources = [p for p in ctx.circuit.parts if p.kind in ("voltage", "current") and p.source is not None and len(p.nodes) == 2]
+    sources = [
+        p for p in ctx.circuit.parts if p.kind in ("voltage", "current") and p.source is not None and len(p.nodes) == 2
+    ]
     for part in sources[:_MOST_SOURCES]:
         if ctx.budget is not None:
             ctx.budget.check(f"the mistake catalogue (reversed-nodes, {part.id})")
         first, second = part.nodes
-        reversed_parts = tuple(dataclasses.replace(p, nodes=(second, first)) if p is part else p for p in ctx.circuit.parts)
+        reversed_parts = tuple(
+            dataclasses.replace(p, nodes=(second, first)) if p is part else p for p in ctx.circuit.parts
+        )
         value = requantify(ctx, dataclasses.replace(ctx.circuit, parts=reversed_parts))
         if value is None or same(value, ctx.truth.expr) or not matches(ctx, value):
             continue
@@ -456,7 +474,11 @@ def _reversed_nodes(ctx: Context) -> str | None:
         return (
             f"the number is what the circuit gives with {kind} {part.id} the other way round ({written}); "
             f'it is connected as nodes = ["{first}", "{second}"]'
-            + (" (plus terminal first)" if part.kind == "voltage" else " (it drives current from the first node to the second)")
+            + (
+                " (plus terminal first)"
+                if part.kind == "voltage"
+                else " (it drives current from the first node to the second)"
+            )
             + f": with it as connected the value is {shown(ctx, ctx.truth.expr)}"
         )
     return None

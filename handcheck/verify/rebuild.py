@@ -88,7 +88,9 @@ def node_voltages(circuit: Circuit, nodes: tuple[str, ...]) -> tuple[sympy.Expr,
     try:
         solution = solve(circuit)
         return tuple(
-            sympy.Integer(0) if n == GROUND else evaluate_quantity(solution, Quantity("voltage", (n,), f"voltage({n})")).expr
+            sympy.Integer(0)
+            if n == GROUND
+            else evaluate_quantity(solution, Quantity("voltage", (n,), f"voltage({n})")).expr
             for n in nodes
         )
     except TimeLimitError:
@@ -143,7 +145,9 @@ def flipped(circuit: Circuit, kind: str) -> Iterator[tuple[str, Circuit]]:
 # -- the formula with a mistake built in -----------------------------------------------
 
 
-def formula_value(ctx: Context, env: Mapping[str, Value], tree: Node | None = None, angle_scale: sympy.Expr | None = None) -> sympy.Expr | None:
+def formula_value(
+    ctx: Context, env: Mapping[str, Value], tree: Node | None = None, angle_scale: sympy.Expr | None = None
+) -> sympy.Expr | None:
     tree = tree or ctx.tree
     if tree is None or ctx.formula is None:
         return None

@@ -56,11 +56,22 @@ def _at(expr: sympy.Expr, w: float) -> complex:
 
 def check_function_of_s(base: StepBase, claim: Claim, truth: Value, tolerance: Tolerance) -> StepFinding:
     """The verdict on a claimed network function against the exact one."""
-    shown: Expected = {"expected": f"{sympy.sstr(sympy.N(truth.expr, 6))} {claim.unit_text}".strip(), "exact": truth.expr, "expected_si": None}
+    shown: Expected = {
+        "expected": f"{sympy.sstr(sympy.N(truth.expr, 6))} {claim.unit_text}".strip(),
+        "exact": truth.expr,
+        "expected_si": None,
+    }
     if claim.dim != truth.dim:
-        return StepFinding(**base, **shown, verdict="unit", message=f"the claim is in {claim.dim or 'no unit'}, but the quantity is in {truth.dim or 'no unit'}")
+        return StepFinding(
+            **base,
+            **shown,
+            verdict="unit",
+            message=f"the claim is in {claim.dim or 'no unit'}, but the quantity is in {truth.dim or 'no unit'}",
+        )
     if sympy.cancel(sympy.together(claim.value.expr - truth.expr)) == 0:
-        return StepFinding(**base, **shown, verdict="agrees", error=0.0, message="the same rational function of s, exactly")
+        return StepFinding(
+            **base, **shown, verdict="agrees", error=0.0, message="the same rational function of s, exactly"
+        )
     f_true = sympy.lambdify(LAPLACE, truth.expr, "mpmath")
     f_claim = sympy.lambdify(LAPLACE, claim.value.expr, "mpmath")
     grid = _grid(truth.expr, claim.value.expr)
@@ -94,9 +105,16 @@ def check_list(base: StepBase, claim: Claim, truths: tuple[Value, ...], toleranc
         "exact": sympy.Tuple(*(t.expr for t in truths)),
     }
     if any(item.dim != t.dim for item in items for t in truths[:1]):
-        return StepFinding(**base, **shown, verdict="unit", message=f"the claim is in {items[0].dim or 'no unit'}, but the quantity is in {truths[0].dim or 'no unit'}")
+        return StepFinding(
+            **base,
+            **shown,
+            verdict="unit",
+            message=f"the claim is in {items[0].dim or 'no unit'}, but the quantity is in {truths[0].dim or 'no unit'}",
+        )
     if len(items) != len(truths):
-        return StepFinding(**base, **shown, verdict="differs", message=f"{len(items)} values claimed, the quantity has {len(truths)}")
+        return StepFinding(
+            **base, **shown, verdict="differs", message=f"{len(items)} values claimed, the quantity has {len(truths)}"
+        )
     remaining = [to_complex(t.expr) for t in truths]
     worst = 0.0
     ok = True

@@ -89,8 +89,14 @@ def _float_solve(solution: Solution) -> tuple[object, float] | None:
             g, cap = system.G[r][c], system.C[r][c]
             if g is not zero or cap is not zero:
                 a[r, c] = complex(float(g), w * float(cap))
-    u = np.array([to_complex(solution.u[ident]) if solution.u[ident] != 0 else 0j for ident in system.sources], dtype=complex)
-    b = np.array([[float(e) for e in row] for row in system.B], dtype=float).reshape(n, len(u)) @ u if len(u) else np.zeros(n, complex)
+    u = np.array(
+        [to_complex(solution.u[ident]) if solution.u[ident] != 0 else 0j for ident in system.sources], dtype=complex
+    )
+    b = (
+        np.array([[float(e) for e in row] for row in system.B], dtype=float).reshape(n, len(u)) @ u
+        if len(u)
+        else np.zeros(n, complex)
+    )
     try:
         inverse = np.linalg.inv(a)
     except np.linalg.LinAlgError:

@@ -65,9 +65,7 @@ def _rational(value: Fraction) -> sympy.Rational:
 
 def _dimensionless(name: str, value: Value, text: str, node: Node) -> None:
     if not value.dim.dimensionless:
-        raise UnitError(
-            f'{name} needs a dimensionless argument, but "{text[node.start:node.end]}" is in {value.dim}'
-        )
+        raise UnitError(f'{name} needs a dimensionless argument, but "{text[node.start : node.end]}" is in {value.dim}')
 
 
 def _parallel(a: sympy.Expr, b: sympy.Expr) -> sympy.Expr:
@@ -217,7 +215,9 @@ class _Evaluator:
             return Value(left.expr * right.expr, left.dim * right.dim)
         if op == "/":
             if right.expr == 0:
-                raise ParseError(f'division by zero: "{self.quote(node.right)}" is exactly 0', self.text, node.right.start + 1)
+                raise ParseError(
+                    f'division by zero: "{self.quote(node.right)}" is exactly 0', self.text, node.right.start + 1
+                )
             return Value(left.expr / right.expr, left.dim / right.dim)
         if op == "^":
             return self.power(node, left, right)
@@ -249,7 +249,9 @@ class _Evaluator:
         else:
             raise UnitError(f'"{self.quote(node.left)}" has a unit, so its exponent must be a plain number')
         if base.expr == 0 and exponent.expr.is_negative:
-            raise ParseError(f'division by zero: "{self.quote(node)}" raises 0 to a negative power', self.text, node.start + 1)
+            raise ParseError(
+                f'division by zero: "{self.quote(node)}" raises 0 to a negative power', self.text, node.start + 1
+            )
         return Value(base.expr**exponent.expr, dim)
 
     def call(self, node: Call) -> Value:
@@ -260,7 +262,7 @@ class _Evaluator:
         if len(node.args) != fn.arity:
             plural = "s" if fn.arity > 1 else ""
             raise ParseError(
-                f'{node.function}() takes {fn.arity} argument{plural}, not {len(node.args)}', self.text, node.start + 1
+                f"{node.function}() takes {fn.arity} argument{plural}, not {len(node.args)}", self.text, node.start + 1
             )
         args = [self.run(arg) for arg in node.args]
         name = f"{node.function}()"
@@ -274,7 +276,7 @@ class _Evaluator:
             dim = args[0].dim ** Fraction(1, 2)
         elif fn.dims == "same2":
             if args[0].dim != args[1].dim:
-                raise UnitError(f'{name} needs two arguments of one unit, not {args[0].dim} and {args[1].dim}')
+                raise UnitError(f"{name} needs two arguments of one unit, not {args[0].dim} and {args[1].dim}")
         elif fn.dims == "repeat":  # repeat(period, g): a time (in seconds), and g's unit
             if not args[0].dim.dimensionless:
                 raise UnitError(f'the period of {name} must be a time, like 1 ms, not "{self.quote(node.args[0])}"')
@@ -283,7 +285,7 @@ class _Evaluator:
             _dimensionless(name + " angle", args[1], self.text, node.args[1])
             dim = args[0].dim
         if node.function in ("ln", "log10") and args[0].expr == 0:
-            raise ParseError(f'{name} of exactly 0 is not defined', self.text, node.start + 1)
+            raise ParseError(f"{name} of exactly 0 is not defined", self.text, node.start + 1)
         exprs = [a.expr for a in args]
         if self.angle_scale is not None and node.function in _TRIG:
             exprs[-1] = exprs[-1] * self.angle_scale

@@ -368,7 +368,9 @@ class _Parser:
         return True
 
     def _exponent(self) -> int:
-        if self.at_op("^", "**") and (self.peek().kind == "num" or (self.peek().text == "-" and self.peek(2).kind == "num")):
+        if self.at_op("^", "**") and (
+            self.peek().kind == "num" or (self.peek().text == "-" and self.peek(2).kind == "num")
+        ):
             self.advance()
             sign = -1 if self.at_op("-") else 1
             if sign < 0:
@@ -387,7 +389,9 @@ class _Parser:
             return (), end
         if not self._unit_word(tok):
             if tok.glued and tok.text not in self.names and tok.text not in RESERVED:
-                raise self.error(f'"{tok.text}" is not a unit handcheck knows (for example ohm, kohm, uF, mH, V, mA, Hz, rad/s, deg)')
+                raise self.error(
+                    f'"{tok.text}" is not a unit handcheck knows (for example ohm, kohm, uF, mH, V, mA, Hz, rad/s, deg)'
+                )
             return (), end
         words: list[tuple[str, int]] = []
         self.advance()
@@ -399,7 +403,6 @@ class _Parser:
             words.append((word.text, sign * self._exponent()))
             end = self.tokens[self.index - 1].start + len(self.tokens[self.index - 1].text)
         return tuple(words), end
-
 
     def reciprocal_unit(self) -> tuple[tuple[tuple[str, int], ...], int]:
         """A unit written ``1/s`` or ``1/ms`` after a number (``100 1/s``)."""

@@ -19,10 +19,11 @@ from handcheck.errors import HandcheckError, LimitError, WorksheetError
 from handcheck.worksheet.audit import read_audit
 from handcheck.worksheet.expr import RESERVED, printable
 from handcheck.worksheet.model import PartSpec, StepSpec, Worksheet
+from handcheck.worksheet.nesting import MAX_NESTING, check_nesting
 from handcheck.worksheet.oldkeys import OLD_KEYS, rewrite
 from handcheck.worksheet.partvalues import read_part_values
 
-__all__ = ["MAX_BYTES", "load", "loads"]
+__all__ = ["MAX_BYTES", "MAX_NESTING", "load", "loads"]
 
 #: Largest worksheet file read, in bytes.
 MAX_BYTES = 1_000_000
@@ -107,9 +108,7 @@ def load(path: str | Path) -> Worksheet:
     try:
         size = Path(path).stat().st_size
         if size > MAX_BYTES:
-            raise LimitError(
-                f"the file is {size:,} bytes; a worksheet may be at most {MAX_BYTES:,} bytes", file=name
-            )
+            raise LimitError(f"the file is {size:,} bytes; a worksheet may be at most {MAX_BYTES:,} bytes", file=name)
         # The reported size is 0 for a pipe or a device (/dev/zero): read one byte past the
         # limit whatever it claims, never more.
         with open(path, "rb") as stream:
@@ -159,7 +158,7 @@ def loads(text: str, path: str = "<worksheet>", *, sha256: str | None = None) ->
         # A byte-order mark some editors write at the start of a UTF-8 file (the Unicode
         # standard, section 23.8 "Specials": U+FEFF as a signature); not part of the text.
         text = text[1:]
-    _check_nesting(text, path)
+    check_nesting(text, path)
     if not text.strip():
         raise WorksheetError("the file is empty; a worksheet starts with a [worksheet] table", file=path)
     try:
@@ -174,52 +173,10 @@ def loads(text: str, path: str = "<worksheet>", *, sha256: str | None = None) ->
     return reader.worksheet()
 
 
-#: Deepest nesting of TOML arrays and inline tables read (a worksheet needs 3: a part's
-#: inline table holding a nodes array). TOML 1.0 sets no limit; the parser recurses.
-MAX_NESTING = 20
 #: Most items in one array of values (arrays of [[step]] and [[formula]] tables have
 #: their own limits), and the longest string, in characters, before any stripping.
 MAX_ITEMS = 1000
 MAX_TEXT = 10_000
-_TOKENS = re.compile(r"""\\.|'''|\"\"\"|["'#\[\]{}\n]""")
-
-
-def _check_nesting(text: str, path: str) -> None:
-    """Refuse arrays and inline tables nested deeper than :data:`MAX_NESTING`, with the line.
-
-    A scan of the TOML 1.0 lexical structure (toml.io/en/v1.0.0): brackets inside basic,
-    literal and multi-line strings and in comments do not count; table headers [a] and
-    [[a]] open and close on their own line.
-    """
-    depth, line, quote, comment = 0, 1, "", False
-    for match in _TOKENS.finditer(text):
-        token = match.group()
-        if token == "\n":
-            line += 1
-            comment = False
-            if len(quote) == 1:
-                quote = ""  # a one-line string cannot go on; tomllib reports that error
-            continue
-        if comment:
-            continue
-        if quote:
-            if token == quote or (quote == "'" and token == "\\'"):
-                quote = ""  # in a literal string a backslash is only a backslash
-            continue
-        if token in ('"', "'", '"""', "'''"):
-            quote = token
-        elif token == "#":
-            comment = True
-        elif token in ("[", "{"):
-            depth += 1
-            if depth > MAX_NESTING:
-                raise LimitError(
-                    f"arrays and tables are nested more than {MAX_NESTING} levels deep; a worksheet needs three at most",
-                    file=path,
-                    line=line,
-                )
-        elif token in ("]", "}"):
-            depth = max(depth - 1, 0)
 
 
 class _Reader:
@@ -271,13 +228,13 @@ class _Reader:
         for key in self.data:
             if key not in tables:
                 raise self.fail(
-                    f'unknown table [{key}]{_suggest(key, tables)}; '
+                    f"unknown table [{key}]{_suggest(key, tables)}; "
                     "a worksheet has [worksheet], [parts], [[step]], [transient], [audit] and [[formula]]",
                     self.where.tables.get(key) or self.where.key("", key),
                 )
         head = self.data.get("worksheet")
         if not isinstance(head, dict):
-            raise self.fail('the [worksheet] table is missing; start the file with [worksheet] and format = 1')
+            raise self.fail("the [worksheet] table is missing; start the file with [worksheet] and format = 1")
         for key in head:
             if key not in _WORKSHEET_KEYS:
                 raise self.fail(
@@ -299,9 +256,7 @@ class _Reader:
         title = self.string(head, "title", "worksheet", required=True)
         phasors = self.string(head, "phasors", "worksheet") or "peak"
         if phasors not in ("peak", "rms"):
-            raise self.fail(
-                f'phasors = "{phasors}" must be "peak" or "rms"', self.where.key("worksheet", "phasors")
-            )
+            raise self.fail(f'phasors = "{phasors}" must be "peak" or "rms"', self.where.key("worksheet", "phasors"))
         lines = tuple((key, line) for (table, key), line in self.where.keys.items() if table == "worksheet")
         transient = self.data.get("transient", {})
         if not isinstance(transient, dict):
@@ -313,7 +268,7 @@ class _Reader:
                     self.where.key("transient", key),
                 )
             if not isinstance(value, str):
-                raise self.fail(f'{key} in [transient] must be text in quotes', self.where.key("transient", key))
+                raise self.fail(f"{key} in [transient] must be text in quotes", self.where.key("transient", key))
         if transient.get("start", "rest") not in ("rest", "steady"):
             raise self.fail(
                 f'start = "{transient["start"]}" in [transient] must be "rest" or "steady"',
@@ -361,7 +316,9 @@ class _Reader:
             written, "the analysis frequency", file=self.path, line=self.where.key("worksheet", "frequency")
         )
 
-    def string(self, table: dict[str, Any], key: str, where: str, *, required: bool = False, line: int | None = None) -> str | None:
+    def string(
+        self, table: dict[str, Any], key: str, where: str, *, required: bool = False, line: int | None = None
+    ) -> str | None:
         if key not in table:
             if required:
                 raise self.fail(f'{self.describe(where)} needs a "{key}"', line or self.where.tables.get(where))
@@ -406,7 +363,9 @@ class _Reader:
         for ident, body in table.items():
             line = self.where.part(ident)
             if not _IDENT.match(ident):
-                raise self.fail(f'the part name "{ident}" must start with a letter and hold only letters, digits and _', line)
+                raise self.fail(
+                    f'the part name "{ident}" must start with a letter and hold only letters, digits and _', line
+                )
             if ident in RESERVED or re.fullmatch(r"j\d+", ident):
                 raise self.fail(
                     f'"{ident}" would read as a reserved word or an imaginary number in formulas '
@@ -415,22 +374,24 @@ class _Reader:
                 )
             folded = ident.lower()
             if folded in seen:
-                raise self.fail(f'parts "{seen[folded]}" and "{ident}" differ only in case; give them distinct names', line)
+                raise self.fail(
+                    f'parts "{seen[folded]}" and "{ident}" differ only in case; give them distinct names', line
+                )
             seen[folded] = ident
             specs.append(self.part(ident, body, line))
         return tuple(specs)
 
     def part(self, ident: str, body: Any, line: int | None) -> PartSpec:
         if not isinstance(body, dict):
-            raise self.fail(f'part "{ident}" must be a table, like {ident} = {{ resistor = "1 kohm", nodes = ["a", "b"] }}', line)
+            raise self.fail(
+                f'part "{ident}" must be a table, like {ident} = {{ resistor = "1 kohm", nodes = ["a", "b"] }}', line
+            )
         kinds = [key for key in body if key in KINDS]
         if not kinds:
             common = ("nodes", "frequency", "phase", "initial", "control", "inductors", *OLD_KEYS)
             others = [key for key in body if key not in common]
             hint = _suggest(others[0], tuple(KINDS)) if others else ""
-            raise self.fail(
-                f'part "{ident}" has no kind{hint}; give one of: {", ".join(KINDS)}', line
-            )
+            raise self.fail(f'part "{ident}" has no kind{hint}; give one of: {", ".join(KINDS)}', line)
         if len(kinds) > 1:
             raise self.fail(f'part "{ident}" has two kinds, {kinds[0]} and {kinds[1]}; give it one', line)
         kind = kinds[0]
@@ -442,7 +403,7 @@ class _Reader:
             if key != kind and key not in allowed and key not in _VARIATION_KEYS:
                 raise self.fail(
                     f'part "{ident}" ({kind}) has an unknown key "{key}"{_suggest(key, allowed)}; '
-                    f'a {kind} takes: {", ".join((kind, *allowed))}',
+                    f"a {kind} takes: {', '.join((kind, *allowed))}",
                     line,
                 )
         where = f"parts.{ident}"
@@ -469,7 +430,9 @@ class _Reader:
         elif kind in ("cccs", "ccvs"):
             control = self.string(body, "control", where, line=line)
             if not control:
-                raise self.fail(f'part "{ident}" ({kind}) needs control = "<part id>", the part whose current controls it', line)
+                raise self.fail(
+                    f'part "{ident}" ({kind}) needs control = "<part id>", the part whose current controls it', line
+                )
         keys = {key: self.string(body, key, where, line=line) for key in ("frequency", "phase", "initial")}
         values = read_part_values(ident, kind, raw, keys, file=self.path, line=line)
         return PartSpec(
@@ -508,16 +471,12 @@ class _Reader:
         unit = "V" if kind == "voltage" else "A"
         example = f'{kind} = [["0 ms", "0 {unit}"], ["1 ms", "5 {unit}"]]'
         if not isinstance(value, list) or not value:
-            raise self.fail(f"the {kind} of part \"{ident}\" must be a list of [time, value] pairs, like {example}", line)
+            raise self.fail(f'the {kind} of part "{ident}" must be a list of [time, value] pairs, like {example}', line)
         pairs = []
         for item in value:
-            if (
-                not isinstance(item, list)
-                or len(item) != 2
-                or not all(isinstance(v, str) for v in item)
-            ):
+            if not isinstance(item, list) or len(item) != 2 or not all(isinstance(v, str) for v in item):
                 raise self.fail(
-                    f"each entry of the {kind} of part \"{ident}\" must be a [time, value] pair in quotes, like {example}",
+                    f'each entry of the {kind} of part "{ident}" must be a [time, value] pair in quotes, like {example}',
                     line,
                 )
             pairs.append((item[0].strip(), item[1].strip()))
@@ -544,7 +503,9 @@ class _Reader:
         if not isinstance(raw, list):
             raise self.fail("steps are written as [[step]] tables (double brackets)", self.where.tables.get("step"))
         if len(raw) > MAX_STEPS:
-            raise LimitError(f"the worksheet has {len(raw):,} steps; handcheck checks at most {MAX_STEPS:,}", file=self.path)
+            raise LimitError(
+                f"the worksheet has {len(raw):,} steps; handcheck checks at most {MAX_STEPS:,}", file=self.path
+            )
         specs: list[StepSpec] = []
         seen: dict[str, int] = {}
         parts = {p.lower() for p in self.data.get("parts", {})}
@@ -557,7 +518,7 @@ class _Reader:
                 if key not in _STEP_KEYS:
                     raise self.fail(
                         f'step {index + 1} has an unknown key "{key}"{_suggest(key, _STEP_KEYS)}; '
-                        f'a step takes: {", ".join(_STEP_KEYS)}',
+                        f"a step takes: {', '.join(_STEP_KEYS)}",
                         self.where.key(where, key),
                     )
             name = self.string(body, "name", where, required=True, line=line) or ""
@@ -573,7 +534,9 @@ class _Reader:
                     self.where.key(where, "name"),
                 )
             if name.lower() in parts:
-                raise self.fail(f'step name "{name}" is also a part name; give the step another name', self.where.key(where, "name"))
+                raise self.fail(
+                    f'step name "{name}" is also a part name; give the step another name', self.where.key(where, "name")
+                )
             if name.lower() in seen:
                 raise self.fail(
                     f'step name "{name}" is used twice (steps {seen[name.lower()] + 1} and {index + 1}); names must be unique',

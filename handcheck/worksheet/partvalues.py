@@ -116,9 +116,7 @@ def read_part_values(
     if kind == "coupling":
         number = read_value(text, "", f"the coupling coefficient of {ident}", **where)
         if not -1 <= number <= 1:
-            raise WorksheetError(
-                f"the coupling coefficient of {ident} is {text}; it must lie in [-1, 1]", **where
-            )
+            raise WorksheetError(f"the coupling coefficient of {ident} is {text}; it must lie in [-1, 1]", **where)
         return PartValues(number)
     number = read_value(text, KINDS[kind].unit, f"the {kind} value of {ident}", **where)
     if kind in ("resistor", "inductor", "capacitor") and number <= 0:

@@ -274,9 +274,7 @@ class SourceFunction:
                 )
             for k in range(count):
                 shift = k * rep.period
-                terms += [
-                    SourceTerm(t.phasor, t.power, t.decay, t.omega, t.start + shift) for t in rep.terms
-                ]
+                terms += [SourceTerm(t.phasor, t.power, t.decay, t.omega, t.start + shift) for t in rep.terms]
             end = count * rep.period
             valid = end if valid is None else min(valid, end)
         return tuple(terms), valid

@@ -138,9 +138,7 @@ _ANGLES = {
 }
 
 #: Units pint does not define under the name engineers write.
-_EXTRA = (
-    "volt_ampere_reactive = volt * ampere = var",
-)
+_EXTRA = ("volt_ampere_reactive = volt * ampere = var",)
 
 
 def _cache_folder() -> Path | None:
