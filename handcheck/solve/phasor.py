@@ -261,10 +261,10 @@ def solve(circuit: Circuit, system: MnaSystem | None = None) -> Solution:
     system = system or stamp(circuit)
     u = {
         ident: (
-            circuit.part(ident).source.phasor(circuit.phasors, circuit.omega)
+            circuit.part(ident).source.phasor(circuit.phasors, circuit.omega)  # type: ignore[union-attr]
             if circuit.active(circuit.part(ident))
             else sympy.Integer(0)
-        )  # type: ignore[union-attr]
+        )
         for ident in system.sources
     }
     active = [k for k, ident in enumerate(system.sources) if u[ident] != 0]
