@@ -22,6 +22,7 @@ from pathlib import Path
 from typing import Any, Literal
 
 from handcheck.errors import HandcheckError, TimeLimitError, WorksheetError
+from handcheck.record.visible import visible
 
 __all__ = [
     "Options",
@@ -405,7 +406,7 @@ def summary_rows(outcomes: Sequence[Outcome]) -> list[tuple[str, str, str, str]]
     rows = []
     for outcome in outcomes:
         if outcome.error:
-            rows.append((outcome.path, "-", "refused", f"{outcome.seconds:.1f}"))
+            rows.append((visible(outcome.path), "-", "refused", f"{outcome.seconds:.1f}"))
             continue
         steps = outcome.data.get("steps") or []
         counts: dict[str, int] = {}
@@ -418,7 +419,7 @@ def summary_rows(outcomes: Sequence[Outcome]) -> list[tuple[str, str, str, str]]
             audited[verdict] = audited.get(verdict, 0) + 1
         if audited:
             shown += "; audit " + ", ".join(f"{n} {verdict}" for verdict, n in sorted(audited.items()))
-        rows.append((outcome.path, str(len(steps)), shown, f"{outcome.seconds:.1f}"))
+        rows.append((visible(outcome.path), str(len(steps)), shown, f"{outcome.seconds:.1f}"))
     return rows
 
 
@@ -445,8 +446,10 @@ def print_summary_table(outcomes: Sequence[Outcome]) -> None:
             table = Table(*SUMMARY_HEADER)
             for column in (1, 3):
                 table.columns[column].justify = "right"
+            from rich.markup import escape
+
             for row in summary_rows(outcomes):
-                table.add_row(*row)
+                table.add_row(*(escape(cell) for cell in row))
             Console().print(table)
             return
     print(summary_table(outcomes))
@@ -493,7 +496,9 @@ class _Progress:
         self._bar.__exit__(None, None, None)
 
     def _advance(self, outcome: Outcome) -> None:
-        self._bar.update(self._task, advance=1, description=f"{outcome.path}: {outcome.kind}")
+        from rich.markup import escape
+
+        self._bar.update(self._task, advance=1, description=escape(f"{visible(outcome.path)}: {outcome.kind}"))
 
 
 def progress(total: int) -> Any:

@@ -14,6 +14,7 @@ from collections.abc import Sequence
 from typing import Any
 
 from handcheck.errors import HandcheckError, TimeLimitError, WorksheetError
+from handcheck.record.visible import visible
 
 __all__ = ["main"]
 
@@ -23,8 +24,14 @@ EXIT_OK, EXIT_DISAGREES, EXIT_BAD_INPUT = 0, 1, 2
 class _Parser(argparse.ArgumentParser):
     def error(self, message: str) -> None:  # type: ignore[override]
         self.print_usage(sys.stderr)
-        sys.stderr.write(f"handcheck: {message}\n")
+        say(f"{message}")
         raise SystemExit(EXIT_BAD_INPUT)
+
+
+def say(message: str) -> None:
+    """One line on stderr, ``handcheck: message``, with worksheet text (file names, titles
+    quoted in errors) escaped so it cannot spoof the terminal."""
+    sys.stderr.write(f"handcheck: {visible(message)}\n")
 
 
 def _parser() -> argparse.ArgumentParser:
@@ -107,14 +114,14 @@ def _records(args: argparse.Namespace) -> int:
 
     paths = expand(args.paths)
     if not args.no_evidence:
-        sys.stderr.write("handcheck: solving the circuits numerically in time...\n")
+        say("solving the circuits numerically in time...")
     entries, index = record_all(
         paths, args.output, args.format or "html", evidence=not args.no_evidence, time_limit=args.time_limit
     )
     for entry in entries:
         if entry.error:
-            sys.stderr.write(f"handcheck: {entry.error}\n")
-    sys.stderr.write(f"handcheck: {sum(1 for e in entries if e.file)} records and the index written to {index}\n")
+            say(f"{entry.error}")
+    say(f"{sum(1 for e in entries if e.file)} records and the index written to {index}")
     return status_of(entries)
 
 
@@ -125,17 +132,17 @@ def _batch(args: argparse.Namespace) -> int:
         raise WorksheetError("--plot draws the evidence of one worksheet: give one FILE, not several or a folder")
     paths = expand(args.paths)
     if args.evidence:
-        sys.stderr.write("handcheck: solving the circuits numerically in time...\n")
+        say("solving the circuits numerically in time...")
     with progress(len(paths)) as done:
         options = Options(evidence=args.evidence, time_limit=args.time_limit)
         outcomes = check_all(paths, options, jobs=args.jobs, done=done)
     for outcome in outcomes:
         if outcome.error:
-            sys.stderr.write(f"handcheck: {outcome.error}\n")
+            say(f"{outcome.error}")
     if args.json:
         print(json.dumps([outcome.data for outcome in outcomes], ensure_ascii=False))
     else:
-        print("\n\n".join(f"== {outcome.path} ==\n{outcome.text}" for outcome in outcomes))
+        print("\n\n".join(f"== {visible(outcome.path)} ==\n{outcome.text}" for outcome in outcomes))
         print()
         print_summary_table(outcomes)
         print(f"\n{summary_line(outcomes)}")
@@ -148,7 +155,7 @@ def _junit(entries: list[tuple[dict[str, Any], float]], out: str) -> None:
     from handcheck.record.junit import write_junit
 
     path = write_junit(entries, out)
-    sys.stderr.write(f"handcheck: JUnit report written to {path}\n")
+    say(f"JUnit report written to {path}")
 
 
 def _junit_refused(args: argparse.Namespace, message: str) -> None:
@@ -158,7 +165,7 @@ def _junit_refused(args: argparse.Namespace, message: str) -> None:
     try:
         _junit([(refused_data(args.file, message), 0.0)], args.junit)
     except OSError as exc:
-        sys.stderr.write(f"handcheck: {exc.filename or args.junit}: {exc.strerror or exc}\n")
+        say(f"{exc.filename or args.junit}: {exc.strerror or exc}")
 
 
 def _run(args: argparse.Namespace) -> int:
@@ -183,7 +190,7 @@ def _run(args: argparse.Namespace) -> int:
         simulating = args.command == "simulate"
         wants_evidence = simulating or args.evidence or bool(plot)
         if wants_evidence:
-            sys.stderr.write("handcheck: solving the circuit numerically in time...\n")
+            say("solving the circuit numerically in time...")
         result = run(args.file, check=not simulating or bool(plot), evidence=wants_evidence, budget=budget)
         if plot:
             _plot(result, plot)
@@ -196,7 +203,11 @@ def _run(args: argparse.Namespace) -> int:
     if simulating:
         from handcheck.verify.evidence import describe
 
-        print(json.dumps(evidence_dict(evidence), ensure_ascii=False) if args.json else "\n".join(describe(evidence)))
+        print(
+            json.dumps(evidence_dict(evidence), ensure_ascii=False)
+            if args.json
+            else "\n".join(visible(line) for line in describe(evidence))
+        )
         return EXIT_OK if evidence.ok else EXIT_DISAGREES
     report = result.report
     assert report is not None
@@ -217,7 +228,7 @@ def _plot_audit(findings: tuple[Any, ...], out: str) -> None:
 
     path = plot_audit(findings, out)
     if path is not None:
-        sys.stderr.write(f"handcheck: audit histogram written to {path}\n")
+        say(f"audit histogram written to {path}")
 
 
 def _record(args: argparse.Namespace, budget: Any) -> int:
@@ -229,10 +240,10 @@ def _record(args: argparse.Namespace, budget: Any) -> int:
         check_suffix(args.output)
         worksheet = load(args.file)
         if not args.no_evidence:
-            sys.stderr.write("handcheck: solving the circuit numerically in time...\n")
+            say("solving the circuit numerically in time...")
         inputs = record_inputs(worksheet, evidence=not args.no_evidence, budget=budget)
         path = write_record(inputs, args.output)
-        sys.stderr.write(f"handcheck: record written to {path}\n")
+        say(f"record written to {path}")
         ok = inputs.report.ok and all(f.ok for f in inputs.audit) and (inputs.evidence is None or inputs.evidence.ok)
         return EXIT_OK if ok else EXIT_DISAGREES
     stored = read_record(args.file)
@@ -241,10 +252,10 @@ def _record(args: argparse.Namespace, budget: Any) -> int:
     )
     outcome = compare(args.file, stored, inputs)
     if outcome.same:
-        print(f"{args.file}: every result is the same")
+        print(f"{visible(args.file)}: every result is the same")
         return EXIT_OK
     for change in outcome.changes:
-        print(f"{args.file}: changed: {change}")
+        print(visible(f"{args.file}: changed: {change}"))
     return EXIT_DISAGREES
 
 
@@ -252,14 +263,14 @@ def _plot(result: Any, out: str) -> None:
     from handcheck.record.plots import plot_evidence
 
     path = plot_evidence(result.report, result.evidence, out)
-    sys.stderr.write(f"handcheck: plots written to {path}\n")
+    say(f"plots written to {path}")
 
 
 def _refuse(args: argparse.Namespace, message: str) -> int:
     """Exit status 2: the one-line message on stderr. With --json, stdout of one worksheet
     stays empty, as the first edition's callers rely on (a batch's array holds an error
     object instead)."""
-    sys.stderr.write(f"handcheck: {message}\n")
+    say(f"{message}")
     return EXIT_BAD_INPUT
 
 
@@ -309,7 +320,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     except RecursionError:
         return _refuse(args, f"{args.file}: an expression is nested too deeply to read")
     except KeyboardInterrupt:
-        sys.stderr.write("handcheck: interrupted\n")
+        say("interrupted")
         return 130
 
 

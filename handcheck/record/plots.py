@@ -13,6 +13,7 @@ from pathlib import Path
 from typing import Any
 
 from handcheck.errors import HandcheckError, ParseError
+from handcheck.record.visible import visible
 from handcheck.solve.quantities import parse_quantity
 from handcheck.verify.claims import read_claim, to_complex
 from handcheck.verify.evidence import Evidence, _numeric, _signals
@@ -98,7 +99,7 @@ def plot_evidence(report: Report, evidence: Evidence, path: str | Path) -> Path:
             transient.plot(times_ms, envelope, ":", color="black", lw=1, label="envelope of the slowest mode")
             transient.plot(times_ms, -envelope, ":", color="black", lw=1)
     waves.set_ylabel("value")
-    waves.set_title(report.title, fontsize=10)
+    waves.set_title(visible(" ".join(report.title.split())), fontsize=10)
     waves.legend(fontsize=7, loc="upper right")
     waves.grid(alpha=0.3)
     transient.set_xlabel("t [ms]")

@@ -14,6 +14,7 @@ import re
 from typing import Any
 
 from handcheck.record.document import data_line, digest_line
+from handcheck.record.visible import visible
 
 __all__ = ["environment", "render_html", "render_json", "render_markdown"]
 
@@ -33,6 +34,7 @@ def environment(autoescape: bool) -> Any:
         keep_trailing_newline=True,
     )
     env.filters["md"] = _markdown_text
+    env.filters["visible"] = lambda value: visible(" ".join(str(value).split()))
     env.filters["fence"] = _fence
     env.filters["number"] = _number
     return env
@@ -40,9 +42,9 @@ def environment(autoescape: bool) -> Any:
 
 def _markdown_text(value: Any) -> str:
     """Worksheet text safe inside Markdown (and its tables): specials escaped, one line."""
-    text = "" if value is None else str(value)
+    text = visible(" ".join(("" if value is None else str(value)).split()))
     text = text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
-    return _MD_SPECIAL.sub(r"\\\1", " ".join(text.split()))
+    return _MD_SPECIAL.sub(r"\\\1", text)
 
 
 def _fence(text: str) -> str:

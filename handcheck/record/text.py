@@ -12,6 +12,7 @@ import textwrap
 from collections import Counter
 from typing import Any
 
+from handcheck.record.visible import visible
 from handcheck.verify.findings import Report, StepFinding
 
 __all__ = ["render"]
@@ -63,6 +64,11 @@ def _wrap_to(text: str, indent: int, width: int = 100) -> list[str]:
     return textwrap.wrap(text, width=width, initial_indent=" " * indent, subsequent_indent=" " * (indent + 2))
 
 
+def _one_line(text: str) -> str:
+    """Free text of several lines (a TOML multi-line title or reference) on one line."""
+    return " ".join(text.split())
+
+
 def terminal_width() -> int:
     """The width notes are wrapped to: the terminal's (60 to 160 columns) when standard
     output is one, else 100, so piped and logged output does not depend on a window."""
@@ -83,9 +89,12 @@ def render(
     def _wrap(text: str, indent: int) -> list[str]:
         return _wrap_to(text, indent, columns)
 
-    lines = [f"handcheck {version}: {report.title}", f"worksheet {report.path} (sha256 {report.sha256[:16]})"]
+    lines = [
+        f"handcheck {version}: {_one_line(report.title)}",
+        f"worksheet {report.path} (sha256 {report.sha256[:16]})",
+    ]
     if report.reference:
-        lines.append(f"reference {report.reference}")
+        lines.append(f"reference {_one_line(report.reference)}")
     if report.analysis:
         lines.append(f"analysis  {report.analysis}")
     lines.append("")
@@ -135,4 +144,5 @@ def render(
         differ = sum(not finding.ok for finding in audit)
         count += f", {len(audit)} audited formula{'s' if len(audit) != 1 else ''} ({differ} not equivalent)"
     lines.append(f"{status}: {count}{tail}")
-    return "\n".join(lines)
+    # worksheet text (title, reference, file name) is untrusted: escape what could spoof the terminal
+    return "\n".join(visible(line) for line in lines)
