@@ -13,9 +13,12 @@ def step(report: handcheck.Report, name: str) -> handcheck.StepFinding:
     return next(s for s in report.steps if s.name == name)
 
 
-def test_a_coarse_input_that_agrees_still_carries_a_large_error():
-    # R = 1.4 kohm claimed as "1 kohm" agrees within its one digit (+-0.5 kohm), but
-    # P = V^2/R from it is 100 mW against 71.43 mW (Ohm's and Joule's laws): carried.
+def test_a_coarse_input_that_agrees_carries_its_interval_forward():
+    # R = 1.4 kohm claimed as "1 kohm" agrees within its one digit (+-0.5 kohm); P =
+    # V^2/R from it is 100 mW against 71.43 mW (Ohm's and Joule's laws, from memory).
+    # The written "1 kohm" stands for 0.5 to 1.5 kohm, so V^2/R for 10 V spans 66.67 mW
+    # to 200 mW: the true value lies inside, rounding explains it, and the note says so
+    # (never "carried" from a step that agrees).
     text = (
         HEAD
         + """
@@ -36,9 +39,11 @@ tolerance = "1%"
     )
     report = handcheck.check_text(text)
     assert step(report, "R").verdict == "agrees"
-    assert step(report, "P").verdict == "carried"
-    assert step(report, "P").caused_by == "R"
-    assert not report.ok
+    p = step(report, "P")
+    assert (p.verdict, p.caused_by) == ("agrees", None)
+    assert p.message is not None and p.message.startswith("follows from the rounded values of earlier steps")
+    assert "66.67 mW to 200 mW" in p.message and "71.43 mW lies inside" in p.message
+    assert report.ok
 
 
 def test_a_negative_real_claim_reads_as_a_reversed_phasor():

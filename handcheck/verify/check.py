@@ -49,6 +49,7 @@ from handcheck.verify.findings import Diagnosis, Report, Shown, StepBase, StepFi
 from handcheck.verify.mistakes import Context, diagnose, worksheet_frequencies
 from handcheck.verify.present import describe_frequency, describe_function, format_number, format_value
 from handcheck.verify.responses import check_function_of_s, check_list
+from handcheck.verify.rounding import Written, by_size, describe, inside_claim, propagate, widened, within
 from handcheck.verify.safety import cautions
 from handcheck.worksheet.evaluate import Value, evaluate
 from handcheck.worksheet.expr import Node, names_in, parse
@@ -56,12 +57,7 @@ from handcheck.worksheet.model import StepSpec, Worksheet
 from handcheck.worksheet.units import DIMENSIONLESS, dim_of
 from handcheck.worksheet.values import read_span
 
-__all__ = ["ROUNDING_SLACK", "check", "part_environment"]
-
-#: A claim that follows from the author's rounded earlier numbers still agrees when
-#: it is within this relative error of the true value (rounding carried forward);
-#: beyond it, the step is carried from its coarsest input.
-ROUNDING_SLACK = 0.01
+__all__ = ["check", "part_environment"]
 
 
 def part_environment(circuit: Circuit) -> dict[str, Value]:
@@ -94,6 +90,8 @@ class _Checker:
         # value where a claim agrees, the author's formula on these where it follows.
         self.full_env: dict[str, Value] = dict(base)
         self.findings: dict[str, StepFinding] = {}
+        # each single-valued claim as written, carried forward as the interval it stands for
+        self.written: dict[str, Written] = {}
         self.default_tolerance = read_tolerance(
             worksheet.tolerance, file=worksheet.path, line=worksheet.line_of("tolerance")
         )
@@ -279,6 +277,8 @@ class _Checker:
             raise self.located(exc, step, "claim") from None
         if claim.form != "function":
             self.claimed_env[step.name] = claim.value
+        if claim.form not in ("function", "laplace", "list"):
+            self.written[step.name] = Written(claim, tolerance)
         tree = self.parse_formula(step) if step.formula else None
         base: StepBase = {
             "name": step.name,
@@ -413,16 +413,54 @@ class _Checker:
         if method.diagnosis:
             return method
         cause = self.root_cause(tree)
-        if cause is None:
-            if error is not None and error <= ROUNDING_SLACK:
-                return StepFinding(
-                    **base,
-                    **shown,
-                    verdict="agrees",
-                    message="follows from the rounded values of earlier steps",
-                )
-            cause = self.coarsest_input(tree)
-        return StepFinding(**base, **shown, verdict="carried", caused_by=cause)
+        if cause is not None:
+            return StepFinding(**base, **shown, verdict="carried", caused_by=cause)
+        return self.rounded(StepFinding(**base, **shown, verdict="agrees"), tree, Written(claim, tolerance), truth)
+
+    def rounded(self, finding: StepFinding, tree: Node, written: Written, truth: Value) -> StepFinding:
+        """A claim that follows from earlier numbers that all agree: ``agrees`` when
+        their written digits, carried through the formula as balls (module rounding),
+        reach the true value; else ``formula`` (a plain size used as a number)."""
+        inputs = {n: self.written[n] for n in names_in(tree) if n in self.written and n in self.findings}
+        ball = propagate(tree, self.true_env, inputs)
+        reference = to_complex(truth.expr)
+        outside = [n for n in inputs if not inside_claim(inputs[n], to_complex(self.true_env[n].expr))]
+        names = ", ".join(inputs)
+
+        def show(z: complex) -> str:
+            return format_value(
+                Value(sympy.Float(z.real, 17) + sympy.I * sympy.Float(z.imag, 17), truth.dim), written.claim
+            )
+
+        def size(x: float) -> str:
+            return f"{format_number(x / float(written.claim.unit_factor), 4)} {written.claim.unit_text}".strip()
+
+        if ball is None and not outside:
+            message = (
+                f"follows from the rounded values of earlier steps: the written digits of {names} leave this "
+                "value unbounded (the formula divides by a number that rounds to zero); write more digits there"
+            )
+            return dataclasses.replace(finding, message=message)
+        if ball is not None and within(written, ball, reference):
+            if not by_size(written.claim, reference):  # a plain size carries only its own digits
+                self.written[finding.name] = dataclasses.replace(written, carried=widened(written, ball))
+            message = (
+                f"follows from the rounded values of earlier steps: the written digits of {names} allow "
+                f"{describe(ball, show, size)} here, and the true value {show(reference)} lies inside"
+            )
+            return dataclasses.replace(finding, message=message)
+        outside = [n for n in outside if by_size(inputs[n].claim, to_complex(self.true_env[n].expr))]
+        if outside:
+            which = ", ".join(outside)
+            message = (
+                f"the claim follows from the numbers written for {names}, but {which} "
+                f"{'is' if len(outside) == 1 else 'are'} written as a plain number that does not stand for "
+                f"the value (the size of a complex value); used as a number in this formula it does not give "
+                f"the true value {show(reference)}: write {which} as a polar or rectangular value"
+            )
+        else:
+            message = "the claim follows from the numbers written in earlier steps, but not from their values"
+        return dataclasses.replace(finding, verdict="formula", message=message)
 
     def settled(self, step: StepSpec, solved: Solution | None) -> StepFinding:
         """The step's finding with its basis and notes; a formula-only step is told
@@ -466,19 +504,6 @@ class _Checker:
         if follows:
             return None
         return f"the claim is right, but the formula as written gives {format_value(recomputed, claim)}"
-
-    def coarsest_input(self, tree: Node) -> str | None:
-        """The earlier step used by the formula whose written value is furthest from
-        its true value (every one of them agreed within its own digits)."""
-        worst, name = -1.0, None
-        for ident in names_in(tree):
-            if ident not in self.findings or ident not in self.true_env:
-                continue
-            written, true = to_complex(self.claimed_env[ident].expr), to_complex(self.true_env[ident].expr)
-            deviation = abs(written - true) / max(abs(true), 1e-300)
-            if deviation > worst:
-                worst, name = deviation, ident
-        return name
 
     @staticmethod
     def expected_text(truth: Value, claim: Claim, quantity: Quantity | None) -> str:
