@@ -14,15 +14,22 @@ is reported and counted; it never stops the others.
 
 from __future__ import annotations
 
-import sys
 import time
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
+from functools import partial
 from pathlib import Path
 from typing import Any, Literal
 
 from handcheck.errors import HandcheckError, TimeLimitError, WorksheetError
-from handcheck.record.visible import visible
+from handcheck.record.summary import (
+    print_summary_table,
+    progress,
+    stderr_is_terminal,
+    summary_line,
+    summary_rows,
+    summary_table,
+)
 
 __all__ = [
     "Options",
@@ -30,9 +37,15 @@ __all__ = [
     "check_all",
     "check_one",
     "expand",
+    "expand_records",
+    "message_of",
     "print_summary_table",
+    "progress",
     "record_all",
+    "reverify_all",
+    "reverify_one",
     "status_of",
+    "stderr_is_terminal",
     "summary_line",
     "summary_rows",
     "summary_table",
@@ -108,6 +121,19 @@ def expand(paths: Sequence[str]) -> tuple[str, ...]:
     WorksheetError
         When a folder holds no worksheet.
     """
+    return _gather(
+        paths,
+        lambda path: path.suffix == ".toml",
+        lambda name: WorksheetError("this folder holds no worksheet (no *.toml file below it)", file=name),
+    )
+
+
+def _gather(
+    paths: Sequence[str], keep: Callable[[Path], bool], empty: Callable[[str], HandcheckError]
+) -> tuple[str, ...]:
+    """Files as given, folders as every file below them that ``keep`` takes (sorted,
+    hidden ones left out); each once, where it first came. ``empty`` is the error of a
+    folder with none."""
     found: dict[str, None] = {}
     for name in paths:
         place = Path(name)
@@ -116,11 +142,11 @@ def expand(paths: Sequence[str]) -> tuple[str, ...]:
             continue
         below = sorted(
             path
-            for path in place.rglob("*.toml")
-            if path.is_file() and not any(part.startswith(".") for part in path.relative_to(place).parts)
+            for path in place.rglob("*")
+            if keep(path) and path.is_file() and not any(part.startswith(".") for part in path.relative_to(place).parts)
         )
         if not below:
-            raise WorksheetError("this folder holds no worksheet (no *.toml file below it)", file=name)
+            raise empty(name)
         for path in below:
             found.setdefault(str(path), None)
     return tuple(found)
@@ -131,6 +157,19 @@ def refused_data(path: str, message: str) -> dict[str, Any]:
     from handcheck import __version__
 
     return {"handcheck": __version__, "worksheet": path, "ok": False, "error": message}
+
+
+#: What a worksheet (or a record) can cause; each is reported, never raised, in a batch.
+_REFUSALS = (HandcheckError, TimeLimitError, OSError, RecursionError)
+
+
+def message_of(path: str, exc: BaseException) -> str:
+    """The one-line message of an error that refuses a worksheet or record at ``path``."""
+    if isinstance(exc, RecursionError):
+        return f"{path}: an expression is nested too deeply to read"
+    if isinstance(exc, OSError):
+        return f"{exc.filename or path}: {exc.strerror or exc}"
+    return f"{'' if getattr(exc, 'file', None) else f'{path}: '}{exc}"
 
 
 def _refused(path: str, message: str, started: float) -> Outcome:
@@ -166,13 +205,8 @@ def check_one(path: str, options: Options = Options()) -> Outcome:
     timer = watchdog(budget, path)
     try:
         result = run(path, evidence=options.evidence, budget=budget)
-    except (HandcheckError, TimeLimitError) as exc:
-        where = "" if getattr(exc, "file", None) else f"{path}: "
-        return _refused(path, f"{where}{exc}", started)
-    except OSError as exc:
-        return _refused(path, f"{exc.filename or path}: {exc.strerror or exc}", started)
-    except RecursionError:
-        return _refused(path, f"{path}: an expression is nested too deeply to read", started)
+    except _REFUSALS as exc:
+        return _refused(path, message_of(path, exc), started)
     finally:
         if timer is not None:
             timer.cancel()
@@ -186,13 +220,19 @@ def check_one(path: str, options: Options = Options()) -> Outcome:
     return Outcome(path, status, data, text, time.monotonic() - started)
 
 
-def _record_one(path: str, folder: Path, name: str, evidence: bool, time_limit: float | None) -> Any:
+def _record_one(item: tuple[str, str], folder: Path, evidence: bool, time_limit: float | None) -> Any:
+    """Record one worksheet (``item``: its path and its record's file name) into ``folder``.
+
+    Safe to run in a worker process, as :func:`check_one` is: every error a worksheet
+    can cause comes back in the entry instead of being raised.
+    """
     from handcheck.budget import DEFAULT_TIME_LIMIT, Budget, watchdog
     from handcheck.pipeline import record_inputs
     from handcheck.record.index import Entry
     from handcheck.record.write import write_record
     from handcheck.worksheet.load import load
 
+    path, name = item
     started = time.monotonic()
 
     def refused(message: str) -> Entry:
@@ -203,15 +243,18 @@ def _record_one(path: str, folder: Path, name: str, evidence: bool, time_limit: 
     try:
         inputs = record_inputs(load(path), evidence=evidence, budget=budget)
         write_record(inputs, folder / name)
-    except (HandcheckError, TimeLimitError) as exc:
-        return refused(f"{'' if getattr(exc, 'file', None) else f'{path}: '}{exc}")
-    except OSError as exc:
-        return refused(f"{exc.filename or path}: {exc.strerror or exc}")
-    except RecursionError:
-        return refused(f"{path}: an expression is nested too deeply to read")
+    except _REFUSALS as exc:
+        return refused(message_of(path, exc))
     finally:
         if timer is not None:
             timer.cancel()
+    return _entry(path, name, inputs, time.monotonic() - started)
+
+
+def _entry(path: str, name: str, inputs: Any, seconds: float) -> Any:
+    """The index row of a written record."""
+    from handcheck.record.index import Entry
+
     report = inputs.report
     ok = report.ok and all(f.ok for f in inputs.audit) and (inputs.evidence is None or inputs.evidence.ok)
     verdicts: dict[str, int] = {}
@@ -228,8 +271,16 @@ def _record_one(path: str, folder: Path, name: str, evidence: bool, time_limit: 
         steps=len(report.steps),
         verdict_counts=dict(sorted(verdicts.items())),
         audit_counts=dict(sorted(audited.items())),
-        seconds=time.monotonic() - started,
+        seconds=seconds,
     )
+
+
+def _record_ended(item: tuple[str, str], started: float) -> Any:
+    from handcheck.record.index import Entry
+
+    path = item[0]
+    message = f"{path}: the worker process ended before this worksheet was recorded"
+    return Entry(path, EXIT_BAD_INPUT, error=message, seconds=time.monotonic() - started)
 
 
 def record_all(
@@ -239,6 +290,7 @@ def record_all(
     *,
     evidence: bool = True,
     time_limit: float | None = None,
+    jobs: int = 1,
     done: Callable[[Any], None] | None = None,
 ) -> tuple[tuple[Any, ...], Path]:
     """Write one record per worksheet into ``folder``, then the index page.
@@ -255,6 +307,9 @@ def record_all(
         Add the numerical time-domain solution to each record.
     time_limit
         Seconds allowed for each worksheet (``None``: the default limit).
+    jobs
+        Worker processes; 1 records in this process, one after the other. The records
+        and the index are the same bytes whatever the number.
     done
         Called with each entry as it is finished.
 
@@ -278,16 +333,86 @@ def record_all(
         raise HandcheckError(f'"{target}" is a file; records of several worksheets go into a folder: name one with -o')
     target.mkdir(parents=True, exist_ok=True)
     taken: set[str] = set()
-    entries = []
+    items = []
     for path in paths:
-        name = record_name(path, f".{fmt}", taken)
-        taken.add(name)
-        entries.append(_record_one(path, target, name, evidence, time_limit))
-        if done is not None:
-            done(entries[-1])
+        items.append((path, record_name(path, f".{fmt}", taken)))
+        taken.add(items[-1][1])
+    work = partial(_record_one, folder=target, evidence=evidence, time_limit=time_limit)
+    entries = _map(work, items, jobs=jobs, done=done, ended=_record_ended)
     index = target / index_name("md" if fmt == "md" else "html")
     write_atomic(index, render_index(entries, "md" if fmt == "md" else "html").encode("utf-8"))
     return tuple(entries), index
+
+
+def expand_records(paths: Sequence[str]) -> tuple[str, ...]:
+    """The records named by files and folders: a folder stands for every ``.html``,
+    ``.md`` and ``.json`` file below it (sorted, hidden ones left out), but its index
+    pages (``index.html``, ``index.md``, which :func:`record_all` writes and which
+    no record is ever named).
+
+    Raises
+    ------
+    RecordError
+        When a folder holds no record.
+    """
+    from handcheck.record.document import RecordError
+    from handcheck.record.write import FORMATS
+
+    return _gather(
+        paths,
+        lambda path: path.suffix.lower() in FORMATS and path.name.lower() not in ("index.html", "index.md"),
+        lambda name: RecordError("this folder holds no record (no .html, .md or .json file below it)", file=name),
+    )
+
+
+def reverify_one(path: str, time_limit: float | None = None) -> Any:
+    """Re-run the worksheet embedded in the record at ``path`` and compare every result.
+
+    Safe in a worker process: a file that is no record, or was altered, or whose
+    worksheet runs out of time, comes back as a :class:`~handcheck.record.write.Reverified`
+    with its ``error`` instead of being raised.
+    """
+    from handcheck.budget import DEFAULT_TIME_LIMIT, Budget, watchdog
+    from handcheck.pipeline import record_inputs
+    from handcheck.record.write import Reverified, compare, read_record, recorded_worksheet
+
+    budget = Budget(DEFAULT_TIME_LIMIT if time_limit is None else time_limit)
+    timer = watchdog(budget, path)
+    try:
+        stored = read_record(path)
+        worksheet = recorded_worksheet(stored, path)
+        inputs = record_inputs(worksheet, evidence="evidence" in stored["results"], budget=budget)
+    except _REFUSALS as exc:
+        return Reverified(path, (), error=message_of(path, exc))
+    finally:
+        if timer is not None:
+            timer.cancel()
+    return compare(path, stored, inputs)
+
+
+def _reverify_ended(path: str, started: float) -> Any:
+    from handcheck.record.write import Reverified
+
+    return Reverified(path, (), error=f"{path}: the worker process ended before this record was re-verified")
+
+
+def reverify_all(
+    paths: Sequence[str],
+    *,
+    time_limit: float | None = None,
+    jobs: int = 1,
+    done: Callable[[Any], None] | None = None,
+) -> tuple[Any, ...]:
+    """Re-verify every record (see :func:`expand_records`), in order, in ``jobs`` workers.
+
+    Returns
+    -------
+    tuple of handcheck.record.write.Reverified
+        Each with its ``status``: 0 every result the same, 1 one changed, 2 no record
+        or altered.
+    """
+    work = partial(reverify_one, time_limit=time_limit)
+    return _map(work, list(paths), jobs=jobs, done=done, ended=_reverify_ended)
 
 
 def _pool_context() -> Any:
@@ -322,37 +447,57 @@ def check_all(
     -------
     tuple of Outcome
     """
-    if jobs <= 1 or len(paths) <= 1:
-        outcomes = []
-        for path in paths:
-            outcomes.append(check_one(path, options))
+    return _map(partial(check_one, options=options), list(paths), jobs=jobs, done=done, ended=_check_ended)
+
+
+def _check_ended(path: str, started: float) -> Outcome:
+    return _refused(path, f"{path}: the worker process ended before this worksheet was checked", started)
+
+
+def _map(
+    work: Callable[[Any], Any],
+    items: Sequence[Any],
+    *,
+    jobs: int,
+    done: Callable[[Any], None] | None,
+    ended: Callable[[Any, float], Any],
+) -> tuple[Any, ...]:
+    """``work`` on every item, in this process or in ``jobs`` workers; results in order.
+
+    ``work`` reports every error of its item in its result; ``ended`` makes the result
+    of an item whose worker process ended twice (see below).
+    """
+    if jobs <= 1 or len(items) <= 1:
+        results = []
+        for item in items:
+            results.append(work(item))
             if done is not None:
-                done(outcomes[-1])
-        return tuple(outcomes)
+                done(results[-1])
+        return tuple(results)
     from concurrent.futures import ProcessPoolExecutor, as_completed
     from concurrent.futures.process import BrokenProcessPool
 
-    results: dict[int, Outcome] = {}
+    found: dict[int, Any] = {}
     lost: list[int] = []
-    with ProcessPoolExecutor(max_workers=min(jobs, len(paths)), mp_context=_pool_context(), initializer=warm) as pool:
-        futures = {pool.submit(check_one, path, options): index for index, path in enumerate(paths)}
+    with ProcessPoolExecutor(max_workers=min(jobs, len(items)), mp_context=_pool_context(), initializer=warm) as pool:
+        futures = {pool.submit(work, item): index for index, item in enumerate(items)}
         for future in as_completed(futures):
             index = futures[future]
             try:
-                results[index] = future.result()
+                found[index] = future.result()
             except BrokenProcessPool:
                 lost.append(index)
                 continue
             if done is not None:
-                done(results[index])
+                done(found[index])
     # A worker that ended (the watchdog, or the system out of memory) breaks the whole
-    # pool: every worksheet it had not finished is checked again, each in a pool of its
-    # own, so that only the one that ends its worker again is refused.
+    # pool: every item it had not finished is tried again, each in a pool of its own,
+    # so that only the one that ends its worker again is refused.
     for index in sorted(lost):
-        results[index] = _alone(paths[index], options)
+        found[index] = _alone(work, items[index], ended)
         if done is not None:
-            done(results[index])
-    return tuple(results[index] for index in range(len(paths)))
+            done(found[index])
+    return tuple(found[index] for index in range(len(items)))
 
 
 def warm() -> None:
@@ -365,151 +510,18 @@ def warm() -> None:
     lookup_unit("kohm")
 
 
-def _alone(path: str, options: Options) -> Outcome:
+def _alone(work: Callable[[Any], Any], item: Any, ended: Callable[[Any, float], Any]) -> Any:
     from concurrent.futures import ProcessPoolExecutor
     from concurrent.futures.process import BrokenProcessPool
 
     started = time.monotonic()
     with ProcessPoolExecutor(max_workers=1, mp_context=_pool_context(), initializer=warm) as pool:
         try:
-            return pool.submit(check_one, path, options).result()
+            return pool.submit(work, item).result()
         except BrokenProcessPool:
-            return _refused(path, f"{path}: the worker process ended before this worksheet was checked", started)
+            return ended(item, started)
 
 
 def status_of(outcomes: Sequence[Outcome]) -> int:
     """The exit status of a batch: the highest of its worksheets' (0 for none)."""
     return max((outcome.status for outcome in outcomes), default=EXIT_OK)
-
-
-def summary_line(outcomes: Sequence[Outcome]) -> str:
-    """One line: how many worksheets, and how many of them are ok, differ, refused."""
-    count = len(outcomes)
-    line = f"{count} worksheet{'s' if count != 1 else ''}"
-    if not outcomes:
-        return line
-    kinds = [outcome.kind for outcome in outcomes]
-    seconds = sum(outcome.seconds for outcome in outcomes)
-    return f"{line}: {kinds.count('ok')} ok, {kinds.count('differ')} differ, {kinds.count('refused')} refused ({seconds:.1f} s of checking)"
-
-
-SUMMARY_HEADER = ("worksheet", "steps", "verdicts", "seconds")
-
-
-def summary_rows(outcomes: Sequence[Outcome]) -> list[tuple[str, str, str, str]]:
-    """One row per worksheet: path, number of steps, verdict counts (steps, then audited
-    formulas), seconds of checking; a refused worksheet shows ``refused``.
-
-    >>> summary_rows([Outcome("a.toml", 0, {"steps": [{"verdict": "agrees"}] * 2, "audit": []}, "", 0.25)])
-    [('a.toml', '2', '2 agrees', '0.2')]
-    """
-    rows = []
-    for outcome in outcomes:
-        if outcome.error:
-            rows.append((visible(outcome.path), "-", "refused", f"{outcome.seconds:.1f}"))
-            continue
-        steps = outcome.data.get("steps") or []
-        counts: dict[str, int] = {}
-        for step in steps:
-            counts[step["verdict"]] = counts.get(step["verdict"], 0) + 1
-        shown = ", ".join(f"{n} {verdict}" for verdict, n in sorted(counts.items()))
-        audited: dict[str, int] = {}
-        for finding in outcome.data.get("audit") or []:
-            verdict = str(finding.get("verdict", "?"))
-            audited[verdict] = audited.get(verdict, 0) + 1
-        if audited:
-            shown += "; audit " + ", ".join(f"{n} {verdict}" for verdict, n in sorted(audited.items()))
-        rows.append((visible(outcome.path), str(len(steps)), shown, f"{outcome.seconds:.1f}"))
-    return rows
-
-
-def summary_table(outcomes: Sequence[Outcome]) -> str:
-    """:func:`summary_rows` as plain text in aligned columns (for logs and pipes)."""
-    rows = [SUMMARY_HEADER, *summary_rows(outcomes)]
-    widths = [max(len(row[i]) for row in rows) for i in range(len(SUMMARY_HEADER))]
-    lines = []
-    for row in rows:
-        cells = [row[0].ljust(widths[0]), row[1].rjust(widths[1]), row[2].ljust(widths[2]), row[3].rjust(widths[3])]
-        lines.append("  ".join(cells).rstrip())
-    return "\n".join(lines)
-
-
-def print_summary_table(outcomes: Sequence[Outcome]) -> None:
-    """The summary table on stdout: drawn with rich when stdout is a terminal, else plain text."""
-    if getattr(sys.stdout, "isatty", None) and sys.stdout.isatty():
-        try:
-            from rich.console import Console
-            from rich.table import Table
-        except ImportError:
-            pass
-        else:
-            table = Table(*SUMMARY_HEADER)
-            for column in (1, 3):
-                table.columns[column].justify = "right"
-            from rich.markup import escape
-
-            for row in summary_rows(outcomes):
-                table.add_row(*(escape(cell) for cell in row))
-            Console().print(table)
-            return
-    print(summary_table(outcomes))
-
-
-def stderr_is_terminal() -> bool:
-    """Whether stderr is a terminal (a progress display is shown only then)."""
-    return bool(getattr(sys.stderr, "isatty", None)) and sys.stderr.isatty()
-
-
-#: From how many worksheets on a progress display is shown (on a terminal only).
-PROGRESS_FROM = 4
-
-
-class _NoProgress:
-    def __enter__(self) -> None:
-        return None
-
-    def __exit__(self, *exc: object) -> None:
-        return None
-
-
-class _Progress:
-    def __init__(self, total: int) -> None:
-        from rich.console import Console
-        from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeElapsedColumn
-
-        self._bar = Progress(
-            TextColumn("checking"),
-            BarColumn(),
-            MofNCompleteColumn(),
-            TimeElapsedColumn(),
-            TextColumn("{task.description}"),
-            console=Console(stderr=True),
-            transient=True,
-        )
-        self._task = self._bar.add_task("", total=total)
-
-    def __enter__(self) -> Callable[[Outcome], None]:
-        self._bar.__enter__()
-        return self._advance
-
-    def __exit__(self, *exc: object) -> None:
-        self._bar.__exit__(None, None, None)
-
-    def _advance(self, outcome: Outcome) -> None:
-        from rich.markup import escape
-
-        self._bar.update(self._task, advance=1, description=escape(f"{visible(outcome.path)}: {outcome.kind}"))
-
-
-def progress(total: int) -> Any:
-    """A context manager giving the ``done`` callback of :func:`check_all`, or ``None``.
-
-    A progress bar (rich) is drawn on stderr only when stderr is a terminal and there
-    are at least :data:`PROGRESS_FROM` worksheets, so that CI logs stay clean.
-    """
-    if total < PROGRESS_FROM or not stderr_is_terminal():
-        return _NoProgress()
-    try:
-        return _Progress(total)
-    except ImportError:  # rich is missing: check without a bar
-        return _NoProgress()

@@ -77,9 +77,13 @@ def _parser() -> argparse.ArgumentParser:
         help="records into the folder OUT in this format (default html)",
     )
     record.add_argument("--no-evidence", action="store_true", help="leave out the numerical solution and its plots")
+    record.add_argument("--jobs", type=_jobs, default=1, metavar="N", help="record N worksheets at once (default 1)")
     record.add_argument("--time-limit", type=_seconds, default=None, metavar="SECONDS", help="wall-clock budget")
     reverify = commands.add_parser("reverify", help="re-run the worksheet embedded in a record and compare")
-    reverify.add_argument("file", metavar="RECORD", help="a record written by handcheck record")
+    reverify.add_argument(
+        "paths", nargs="+", metavar="RECORD", help="a record written by handcheck record, or several and folders"
+    )
+    reverify.add_argument("--jobs", type=_jobs, default=1, metavar="N", help="re-verify N records at once (default 1)")
     reverify.add_argument("--time-limit", type=_seconds, default=None, metavar="SECONDS", help="wall-clock budget")
     return parser
 
@@ -105,7 +109,7 @@ def _is_batch(args: argparse.Namespace) -> bool:
 
     if args.command == "record":
         return len(args.paths) > 1 or Path(args.paths[0]).is_dir() or args.format is not None
-    return args.command == "check" and (len(args.paths) > 1 or Path(args.paths[0]).is_dir())
+    return args.command in ("check", "reverify") and (len(args.paths) > 1 or Path(args.paths[0]).is_dir())
 
 
 def _records(args: argparse.Namespace) -> int:
@@ -116,13 +120,36 @@ def _records(args: argparse.Namespace) -> int:
     if not args.no_evidence:
         say("solving the circuits numerically in time...")
     entries, index = record_all(
-        paths, args.output, args.format or "html", evidence=not args.no_evidence, time_limit=args.time_limit
+        paths,
+        args.output,
+        args.format or "html",
+        evidence=not args.no_evidence,
+        time_limit=args.time_limit,
+        jobs=args.jobs,
     )
     for entry in entries:
         if entry.error:
             say(f"{entry.error}")
     say(f"{sum(1 for e in entries if e.file)} records and the index written to {index}")
     return status_of(entries)
+
+
+def _reverify_all(args: argparse.Namespace) -> int:
+    from handcheck.batch import expand_records, reverify_all
+
+    outcomes = reverify_all(expand_records(args.paths), time_limit=args.time_limit, jobs=args.jobs)
+    for outcome in outcomes:
+        for line in outcome.lines():
+            print(visible(line))
+        if outcome.error:
+            say(outcome.error)
+    statuses = [outcome.status for outcome in outcomes]
+    count = len(statuses)
+    print(
+        f"{count} record{'s' if count != 1 else ''}: {statuses.count(0)} the same, "
+        f"{statuses.count(1)} changed, {statuses.count(2)} refused"
+    )
+    return max(statuses, default=EXIT_OK)
 
 
 def _batch(args: argparse.Namespace) -> int:
@@ -251,12 +278,9 @@ def _record(args: argparse.Namespace, budget: Any) -> int:
         recorded_worksheet(stored, args.file), evidence="evidence" in stored["results"], budget=budget
     )
     outcome = compare(args.file, stored, inputs)
-    if outcome.same:
-        print(f"{visible(args.file)}: every result is the same")
-        return EXIT_OK
-    for change in outcome.changes:
-        print(visible(f"{args.file}: changed: {change}"))
-    return EXIT_DISAGREES
+    for line in outcome.lines():
+        print(visible(line))
+    return outcome.status
 
 
 def _plot(result: Any, out: str) -> None:
@@ -302,12 +326,14 @@ def main(argv: Sequence[str] | None = None) -> int:
     if args.command is None:
         parser.print_help(sys.stderr)
         return EXIT_BAD_INPUT
-    if args.command in ("check", "record"):
+    if args.command in ("check", "record", "reverify"):
         args.file = args.paths[0]
     try:
         _not_over_inputs(args)
         if args.command == "record" and _is_batch(args):
             return _records(args)
+        if args.command == "reverify" and _is_batch(args):
+            return _reverify_all(args)
         return _batch(args) if _is_batch(args) else _run(args)
     except (HandcheckError, TimeLimitError) as exc:
         where = "" if exc.file else f"{args.file}: "

@@ -158,3 +158,62 @@ def test_names_are_unique_and_the_index_is_reproducible() -> None:
     assert names == ["x.html", "x-2.html", "X-3.html", "index-2.html"]
     entries = [Entry("a/x.toml", 0, file="x.html", title="T", steps=1, verdict_counts={"agrees": 1})]
     assert render_index(entries) == render_index(entries)
+
+
+EPOCH = "1700000000"  # SOURCE_DATE_EPOCH: the same records byte for byte
+
+
+@pytest.mark.slow  # about 10 s: two worker processes start and import the library
+def test_jobs_2_writes_the_same_bytes_as_jobs_1(folder: Path, tmp_path: Path, capsys, monkeypatch) -> None:
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", EPOCH)
+    one, two = tmp_path / "one", tmp_path / "two"
+    first = run(capsys, "record", str(folder), "-o", str(one), "--no-evidence")
+    second = run(capsys, "record", str(folder), "-o", str(two), "--no-evidence", "--jobs", "2")
+    assert first[0] == second[0] == 2 and first[2].replace(str(one), "") == second[2].replace(str(two), "")
+    names = sorted(p.name for p in one.iterdir())
+    assert names == sorted(p.name for p in two.iterdir()) == ["adc-antialias.html", "coil-snubber.html", "index.html"]
+    for name in names:
+        assert (one / name).read_bytes() == (two / name).read_bytes(), name
+
+
+def _reseal_with_another_verdict(record: Path) -> None:
+    """As if an older version had found another verdict: a stored result differs, the file sealed again."""
+    from handcheck.record.document import seal
+
+    data = json.loads(record.read_text(encoding="utf-8"))
+    step = data["steps"][0]["name"]
+    data["results"][f"step {step}"]["verdict"] = "differs"
+    data["digest"] = "sha256:" + "0" * 64
+    record.write_bytes(seal(json.dumps(data, ensure_ascii=False, indent=2) + "\n"))
+
+
+def test_reverify_a_folder_of_records(folder: Path, tmp_path: Path, capsys) -> None:
+    (folder / "broken.toml").unlink()
+    out = tmp_path / "records"
+    run(capsys, "record", str(folder), "-o", str(out), "--no-evidence", "--format", "json")
+    code, stdout, err = run(capsys, "reverify", str(out))
+    assert code == 0 and err == ""
+    records = [out / "adc-antialias.json", out / "coil-snubber.json"]  # sorted; the index page left out
+    assert stdout.splitlines() == [f"{r}: every result is the same" for r in records] + [
+        "2 records: 2 the same, 0 changed, 0 refused"
+    ]
+    # one record changed (sealed again), one altered after it was written (a digit edited)
+    _reseal_with_another_verdict(records[0])
+    text = records[1].read_text(encoding="utf-8")
+    digit = re.search(r'"error": (\d)', text)
+    assert digit is not None
+    other = "1" if digit.group(1) != "1" else "2"
+    records[1].write_text(text[: digit.start(1)] + other + text[digit.end(1) :], encoding="utf-8")
+    code, stdout, err = run(capsys, "reverify", str(out), "--jobs", "2")
+    assert code == 2  # the highest: the altered record
+    # each record's lines are what reverify of that record alone prints
+    alone = [run(capsys, "reverify", str(r)) for r in records]
+    assert [a[0] for a in alone] == [1, 2]
+    assert stdout.splitlines() == [*alone[0][1].splitlines(), "2 records: 0 the same, 1 changed, 1 refused"]
+    assert "differs" in alone[0][1] and err == alone[1][2] and "altered" in err
+
+
+def test_reverify_a_folder_without_records_is_refused(tmp_path: Path, capsys) -> None:
+    (tmp_path / "notes.txt").write_text("no record here", encoding="utf-8")
+    code, out, err = run(capsys, "reverify", str(tmp_path))
+    assert (code, out) == (2, "") and "holds no record" in err

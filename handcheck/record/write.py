@@ -133,14 +133,32 @@ def check_suffix(target: str | Path) -> None:
 
 @dataclass(frozen=True)
 class Reverified:
-    """The outcome of re-running a record's worksheet: the results that changed."""
+    """The outcome of re-running a record's worksheet: the results that changed.
+
+    ``error`` is the message when the file is no record, was altered after it was
+    written, or could not be re-run; ``status`` the exit status of ``reverify`` (0
+    every result the same, 1 one changed, 2 refused).
+    """
 
     path: str
     changes: tuple[str, ...]
+    error: str | None = None
 
     @property
     def same(self) -> bool:
-        return not self.changes
+        return not self.changes and self.error is None
+
+    @property
+    def status(self) -> int:
+        return 2 if self.error is not None else 1 if self.changes else 0
+
+    def lines(self) -> list[str]:
+        """What ``reverify`` prints on stdout for this record (nothing for a refused one)."""
+        if self.error is not None:
+            return []
+        if not self.changes:
+            return [f"{self.path}: every result is the same"]
+        return [f"{self.path}: changed: {change}" for change in self.changes]
 
 
 def _same(a: Any, b: Any) -> bool:
