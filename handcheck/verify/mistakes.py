@@ -29,6 +29,7 @@ import sympy
 from handcheck.circuit.model import Circuit, Part
 from handcheck.errors import HandcheckError
 from handcheck.solve.quantities import Quantity
+from handcheck.verify.angles import plain_angle
 from handcheck.verify.claims import agrees, to_complex
 from handcheck.verify.present import format_number
 from handcheck.verify.rebuild import (
@@ -236,7 +237,7 @@ def _angle_mode(ctx: Context, degrees_as_radians: bool) -> str | None:
                 unit = "degrees" if ctx.claim.angle_unit == "deg" else "radians"
                 other = "radians" if unit == "degrees" else "degrees"
                 return f"the claimed angle is the right angle in {other}, labelled as {unit}"
-    return None
+    return plain_angle(ctx, degrees_as_radians)
 
 
 def _matches_claim_value(ctx: Context, value: sympy.Expr, resolution: tuple[float, float]) -> bool:
