@@ -76,7 +76,17 @@ SOURCE_FUNCTIONS: dict[str, Function] = {
 
 
 def _same(a: sympy.Expr, b: sympy.Expr) -> bool:
-    return bool(a == b or sympy.simplify(a - b) == 0)
+    """Exact equality; sympy's own zero test first, simplify only when it cannot decide.
+
+    ``simplify`` costs over a second on its first call (it imports sympy's physics
+    units), and most comparisons, such as 0 against 100*pi, are decided without it.
+    """
+    if a == b:
+        return True
+    zero = (a - b).is_zero
+    if zero is not None:
+        return bool(zero)
+    return bool(sympy.simplify(a - b) == 0)
 
 
 @dataclass(frozen=True)
