@@ -64,3 +64,37 @@ def test_a_right_phase_names_nothing(claim):
 def test_an_unrelated_or_zero_phase_names_no_angle_mode(claim):
     codes = {d.mistake for d in only_step(claim).diagnosis}
     assert not codes & {"degrees-as-radians", "radians-as-degrees"}
+
+
+# -- a tolerance wide enough to cover the truth and the mistaken value names nothing ----
+# Two equal resistors halve a 10 V peak source: V(a) = 5 V peak (the voltage divider,
+# from memory); the rms-for-peak slip gives 5*sqrt(2) = 7.07 V (peak = sqrt(2) rms for
+# a sinusoid, from memory).
+
+
+def divider(claim: str, tolerance: str) -> str:
+    return f"""[worksheet]
+format = 1
+title = "divider"
+
+[parts]
+Vs = {{ voltage = "10 V", frequency = "50 Hz", nodes = ["in", "gnd"] }}
+R1 = {{ resistor = "1 kohm", nodes = ["in", "a"] }}
+R2 = {{ resistor = "1 kohm", nodes = ["a", "gnd"] }}
+
+[[step]]
+name = "Va"
+quantity = "voltage(a)"
+claim = "{claim}"
+tolerance = "{tolerance}"
+"""
+
+
+def test_a_tolerance_covering_truth_and_mistake_names_nothing():
+    # 45 %: 7.3 V is 46 % off 5 V (differs), within 45 % of 7.07 V, but 7.07 V is itself
+    # within 45 % of 5 V: the slip cannot be told from the truth at this tolerance.
+    wide = handcheck.check_text(divider("7.3 V", "45%")).steps[0]
+    assert (wide.verdict, wide.diagnosis) == ("differs", ())
+    narrow = handcheck.check_text(divider("7.07 V", "1%")).steps[0]
+    assert narrow.verdict == "differs"
+    assert "peak-as-rms" in [d.mistake for d in narrow.diagnosis]

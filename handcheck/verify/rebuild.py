@@ -62,10 +62,14 @@ class Context:
 
 
 def matches(ctx: Context, value: sympy.Expr | complex | None) -> bool:
+    """True when the mistaken ``value`` reproduces the claim, and is not itself within
+    the claim's tolerance of the truth (a tolerance that covers both tells nothing)."""
     if value is None:
         return False
     number = value if isinstance(value, complex) else to_complex(value)
-    return agrees(ctx.claim, number, ctx.tolerance)
+    if not agrees(ctx.claim, number, ctx.tolerance):
+        return False
+    return ctx.truth is None or not agrees(ctx.claim, to_complex(ctx.truth.expr), ctx.tolerance, value=number)
 
 
 # -- re-solving the circuit with a mistake built in ----------------------------------
