@@ -2,7 +2,7 @@
 
 Run from the repository root::
 
-    python benchmarks/bench_check.py [--repeat 3] [--quick]
+    python benchmarks/bench_check.py [--repeat 3] [--quick] [--only evidence]
 
 Each case runs ``handcheck check`` in a fresh Python process, as a user's shell or
 CI does, and its CPU time (user + system, read from ``resource.getrusage`` of the
@@ -99,6 +99,11 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--repeat", type=int, default=3, help="runs per case (median)")
     parser.add_argument("--quick", action="store_true", help="leave out the 128-section and evidence cases")
+    parser.add_argument(
+        "--only",
+        choices=("evidence",),
+        help="run one case only (still beside the sympy import); evidence: the current transformer, plain and --evidence",
+    )
     args = parser.parse_args()
     check = [sys.executable, "-m", "handcheck.cli", "check", "--time-limit", "900"]
     baseline = median_cpu([sys.executable, "-c", "import sympy"], args.repeat)
@@ -107,9 +112,9 @@ def main() -> None:
     rows: list[tuple[str, float, str]] = []
     with tempfile.TemporaryDirectory() as tmp:
         folder = Path(tmp)
-        for sheet in sorted((ROOT / "worksheets").glob("*.toml")):
+        for sheet in [] if args.only else sorted((ROOT / "worksheets").glob("*.toml")):
             rows.append((f"bundled {sheet.name}", median_cpu([*check, str(sheet)], args.repeat), "4x"))
-        sizes = (8, 32, 64) if args.quick else (8, 32, 64, 128)
+        sizes = () if args.only else (8, 32, 64) if args.quick else (8, 32, 64, 128)
         for n in sizes:
             trial = folder / f"trial{n}.toml"
             trial.write_text(ladder(n, "1 V", tolerance="99%"), encoding="utf-8")  # agrees: no catalogue
@@ -127,7 +132,7 @@ def main() -> None:
                 )
         for name, cpu, target in rows:
             print(f"{name:<52} {cpu:>8.2f} {cpu / baseline:>6.1f}x  {target}")
-        if not args.quick:
+        if not args.quick or args.only == "evidence":
             ct = folder / "ct.toml"
             ct.write_text(CURRENT_TRANSFORMER, encoding="utf-8")
             plain = median_cpu([*check, str(ct)], args.repeat)
