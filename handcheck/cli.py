@@ -11,6 +11,7 @@ import json
 import sys
 import time
 from collections.abc import Sequence
+from pathlib import Path
 from typing import Any
 
 from handcheck.errors import HandcheckError, TimeLimitError, WorksheetError
@@ -105,8 +106,6 @@ def _jobs(text: str) -> int:
 
 
 def _is_batch(args: argparse.Namespace) -> bool:
-    from pathlib import Path
-
     if args.command == "record":
         return len(args.paths) > 1 or Path(args.paths[0]).is_dir() or args.format is not None
     return args.command in ("check", "reverify") and (len(args.paths) > 1 or Path(args.paths[0]).is_dir())
@@ -181,8 +180,9 @@ def _batch(args: argparse.Namespace) -> int:
 def _junit(entries: list[tuple[dict[str, Any], float]], out: str) -> None:
     from handcheck.record.junit import write_junit
 
+    existed = Path(out).exists()
     path = write_junit(entries, out)
-    say(f"JUnit report written to {path}")
+    _written("JUnit report", path, existed)
 
 
 def _junit_refused(args: argparse.Namespace, message: str) -> None:
@@ -219,10 +219,6 @@ def _run(args: argparse.Namespace) -> int:
         if wants_evidence:
             say("solving the circuit numerically in time...")
         result = run(args.file, check=not simulating or bool(plot), evidence=wants_evidence, budget=budget)
-        if plot:
-            _plot(result, plot)
-            if result.audit:
-                _plot_audit(result.audit, plot)
     finally:
         if timer is not None:
             timer.cancel()
@@ -235,6 +231,8 @@ def _run(args: argparse.Namespace) -> int:
             if args.json
             else "\n".join(visible(line) for line in describe(evidence))
         )
+        if plot and not _plots(result, plot):
+            return EXIT_BAD_INPUT
         return EXIT_OK if evidence.ok else EXIT_DISAGREES
     report = result.report
     assert report is not None
@@ -247,15 +245,39 @@ def _run(args: argparse.Namespace) -> int:
         print(render(report, __version__, evidence, result.audit))
     if args.junit:
         _junit([(data, time.monotonic() - budget.started)], args.junit)
+    if plot and not _plots(result, plot):
+        return EXIT_BAD_INPUT
     return EXIT_OK if result.ok else EXIT_DISAGREES
 
 
-def _plot_audit(findings: tuple[Any, ...], out: str) -> None:
-    from handcheck.record.audit_plot import plot_audit
+def _plots(result: Any, plot: str) -> bool:
+    """Draw the plots after the report is out, so a plot that fails loses nothing else;
+    False (after saying which file and why) when one could not be written."""
+    try:
+        _plot(result, plot)
+        if result.audit:
+            _plot_audit(result.audit, plot)
+    except OSError as exc:
+        say(f"{exc.filename or plot}: the plot could not be written ({exc.strerror or exc}); the report is complete")
+        return False
+    except HandcheckError as exc:
+        say(f"{plot}: the plot could not be drawn ({exc}); the report is complete")
+        return False
+    return True
 
+
+def _written(what: str, path: Any, existed: bool) -> None:
+    """Say where an output went, and when it replaced a file that was there."""
+    say(f"{what} written to {path}" + (" (replacing the file that was there)" if existed else ""))
+
+
+def _plot_audit(findings: tuple[Any, ...], out: str) -> None:
+    from handcheck.record.audit_plot import audit_plot_path, plot_audit
+
+    existed = audit_plot_path(out).exists()
     path = plot_audit(findings, out)
     if path is not None:
-        say(f"audit histogram written to {path}")
+        _written("audit histogram", path, existed)
 
 
 def _record(args: argparse.Namespace, budget: Any) -> int:
@@ -269,8 +291,9 @@ def _record(args: argparse.Namespace, budget: Any) -> int:
         if not args.no_evidence:
             say("solving the circuit numerically in time...")
         inputs = record_inputs(worksheet, evidence=not args.no_evidence, budget=budget)
+        existed = Path(args.output).exists()
         path = write_record(inputs, args.output)
-        say(f"record written to {path}")
+        _written("record", path, existed)
         ok = inputs.report.ok and all(f.ok for f in inputs.audit) and (inputs.evidence is None or inputs.evidence.ok)
         return EXIT_OK if ok else EXIT_DISAGREES
     stored = read_record(args.file)
@@ -286,8 +309,9 @@ def _record(args: argparse.Namespace, budget: Any) -> int:
 def _plot(result: Any, out: str) -> None:
     from handcheck.record.plots import plot_evidence
 
+    existed = Path(out).exists()
     path = plot_evidence(result.report, result.evidence, out)
-    say(f"plots written to {path}")
+    _written("plots", path, existed)
 
 
 def _refuse(args: argparse.Namespace, message: str) -> int:
@@ -300,8 +324,6 @@ def _refuse(args: argparse.Namespace, message: str) -> int:
 
 def _not_over_inputs(args: argparse.Namespace) -> None:
     """Refuse an output path (record -o, --plot, --junit) that is one of the input worksheets."""
-    from pathlib import Path
-
     inputs = [Path(p) for p in getattr(args, "paths", None) or [args.file] if not Path(p).is_dir()]
     for option in ("output", "plot", "junit"):
         out = getattr(args, option, None)

@@ -3,11 +3,10 @@
 from __future__ import annotations
 
 import itertools
-import os
-import tempfile
 from pathlib import Path
 
 from handcheck.audit.findings import AuditFinding
+from handcheck.record.document import write_figure
 
 __all__ = ["audit_plot_path", "plot_audit"]
 
@@ -64,16 +63,5 @@ def plot_audit(findings: tuple[AuditFinding, ...], out: str) -> Path | None:
         axis.legend(fontsize=8, loc="upper right")
     figure.tight_layout()
     target = audit_plot_path(out)
-    handle, temporary = tempfile.mkstemp(suffix=target.suffix, dir=target.parent if str(target.parent) else ".")
-    os.close(handle)
-    try:
-        figure.savefig(temporary)
-        mask = os.umask(0)
-        os.umask(mask)
-        os.chmod(temporary, 0o666 & ~mask)  # as an ordinary new file, not mkstemp's 0600
-        os.replace(temporary, target)
-    finally:
-        plt.close(figure)
-        if os.path.exists(temporary):
-            os.unlink(temporary)
+    write_figure(figure, target)
     return target

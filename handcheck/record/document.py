@@ -144,7 +144,10 @@ def write_atomic(path: str | Path, data: bytes) -> Path:
         When the folder cannot be written.
     """
     target = Path(path)
-    handle, temporary = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent or Path("."))
+    try:
+        handle, temporary = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent or Path("."))
+    except OSError as exc:
+        raise OSError(exc.errno, exc.strerror or str(exc), str(target)) from exc
     try:
         with os.fdopen(handle, "wb") as stream:
             stream.write(data)
@@ -152,7 +155,33 @@ def write_atomic(path: str | Path, data: bytes) -> Path:
             os.fsync(stream.fileno())
         os.chmod(temporary, 0o644)
         os.replace(temporary, target)
+    except OSError as exc:
+        Path(temporary).unlink(missing_ok=True)
+        # name the file the user asked for, not the temporary one
+        raise OSError(exc.errno, exc.strerror or str(exc), str(target)) from exc
     except BaseException:
         Path(temporary).unlink(missing_ok=True)
         raise
     return target
+
+
+def write_figure(figure: Any, path: str | Path) -> Path:
+    """Write a matplotlib figure to ``path`` atomically, in the format its suffix names,
+    and close the figure.
+
+    Raises
+    ------
+    OSError
+        When the file cannot be written (the message names ``path``).
+    """
+    import io
+
+    import matplotlib.pyplot as plt
+
+    target = Path(path)
+    buffer = io.BytesIO()
+    try:
+        figure.savefig(buffer, format=target.suffix.lstrip(".").lower())
+    finally:
+        plt.close(figure)
+    return write_atomic(target, buffer.getvalue())

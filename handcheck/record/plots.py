@@ -13,6 +13,7 @@ from pathlib import Path
 from typing import Any
 
 from handcheck.errors import HandcheckError, ParseError
+from handcheck.record.document import write_figure
 from handcheck.record.visible import visible
 from handcheck.solve.quantities import parse_quantity
 from handcheck.verify.claims import read_claim, to_complex
@@ -111,9 +112,7 @@ def plot_evidence(report: Report, evidence: Evidence, path: str | Path) -> Path:
         axes = figure.add_subplot(grid[:, column])
         _phasor_diagram(axes, [(n, c, e) for n, u, c, e in phasor_rows if u == unit], unit)
     figure.text(0.01, 0.005, f"step {sim.step:.3g} s, {sim.samples} samples", fontsize=7)
-    figure.savefig(path)
-    plt.close(figure)
-    return path
+    return write_figure(figure, path)
 
 
 def _steady(fit: Any, q: Any, times: Any, omega: float) -> Any:
