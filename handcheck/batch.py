@@ -14,6 +14,7 @@ is reported and counted; it never stops the others.
 
 from __future__ import annotations
 
+import os
 import time
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
@@ -479,7 +480,9 @@ def _map(
 
     found: dict[int, Any] = {}
     lost: list[int] = []
-    with ProcessPoolExecutor(max_workers=min(jobs, len(items)), mp_context=_pool_context(), initializer=warm) as pool:
+    with ProcessPoolExecutor(
+        max_workers=min(jobs, len(items)), mp_context=_pool_context(), initializer=warm, initargs=(dict(os.environ),)
+    ) as pool:
         futures = {pool.submit(work, item): index for index, item in enumerate(items)}
         for future in as_completed(futures):
             index = futures[future]
@@ -500,10 +503,17 @@ def _map(
     return tuple(found[index] for index in range(len(items)))
 
 
-def warm() -> None:
+def warm(environment: dict[str, str] | None = None) -> None:
     """Import the stages and build the unit registry in a new worker, before any
     worksheet's budget starts: a worksheet's time limit is for checking it, not for
-    the worker's first imports (several seconds on a busy machine)."""
+    the worker's first imports (several seconds on a busy machine).
+
+    ``environment`` is the parent's environment when the pool starts: a forkserver
+    keeps the environment of the moment it was first started, so without it a worker
+    would miss a ``SOURCE_DATE_EPOCH`` set since and date its records otherwise."""
+    if environment is not None:
+        os.environ.clear()
+        os.environ.update(environment)
     import handcheck.pipeline  # noqa: F401  (the stages it imports)
     from handcheck.worksheet.units import lookup_unit
 
@@ -515,7 +525,9 @@ def _alone(work: Callable[[Any], Any], item: Any, ended: Callable[[Any, float], 
     from concurrent.futures.process import BrokenProcessPool
 
     started = time.monotonic()
-    with ProcessPoolExecutor(max_workers=1, mp_context=_pool_context(), initializer=warm) as pool:
+    with ProcessPoolExecutor(
+        max_workers=1, mp_context=_pool_context(), initializer=warm, initargs=(dict(os.environ),)
+    ) as pool:
         try:
             return pool.submit(work, item).result()
         except BrokenProcessPool:

@@ -217,3 +217,18 @@ def test_reverify_a_folder_without_records_is_refused(tmp_path: Path, capsys) ->
     (tmp_path / "notes.txt").write_text("no record here", encoding="utf-8")
     code, out, err = run(capsys, "reverify", str(tmp_path))
     assert (code, out) == (2, "") and "holds no record" in err
+
+
+def test_workers_see_the_environment_of_the_moment(monkeypatch) -> None:
+    # A forkserver keeps the environment it started with (Python docs, multiprocessing,
+    # "Contexts and start methods"): a variable set after the first pool must still
+    # reach the next pool's workers, or SOURCE_DATE_EPOCH would be lost.
+    import os
+
+    from handcheck.batch import _map
+
+    monkeypatch.delenv("HANDCHECK_PROBE", raising=False)
+    assert _map(os.getenv, ["HANDCHECK_PROBE"] * 2, jobs=2, done=None, ended=lambda *a: "ended") == (None, None)
+    monkeypatch.setenv("HANDCHECK_PROBE", "set later")
+    got = _map(os.getenv, ["HANDCHECK_PROBE"] * 2, jobs=2, done=None, ended=lambda *a: "ended")
+    assert got == ("set later", "set later")
