@@ -35,6 +35,18 @@ from handcheck.verify.check import check
 from handcheck.verify.findings import Report, StepFinding
 from handcheck.worksheet.load import load, loads
 
+
+def _repr_html_(self: Report) -> str:
+    """The report as HTML in a notebook (see :mod:`handcheck.record.notebook`)."""
+    from handcheck.record.notebook import report_html
+
+    return report_html(self)
+
+
+# Presentation is attached here, at the top of the package, so that verify/ (where
+# Report lives) never imports record/: the data flows one way.
+Report._repr_html_ = _repr_html_  # type: ignore[attr-defined]
+
 try:
     __version__ = version("handcheck")
 except PackageNotFoundError:  # pragma: no cover - running from a source tree

@@ -227,8 +227,8 @@ def test_workers_see_the_environment_of_the_moment(monkeypatch) -> None:
 
     from handcheck.batch import _map
 
-    monkeypatch.delenv("HANDCHECK_PROBE", raising=False)
-    assert _map(os.getenv, ["HANDCHECK_PROBE"] * 2, jobs=2, done=None, ended=lambda *a: "ended") == (None, None)
-    monkeypatch.setenv("HANDCHECK_PROBE", "set later")
-    got = _map(os.getenv, ["HANDCHECK_PROBE"] * 2, jobs=2, done=None, ended=lambda *a: "ended")
+    monkeypatch.delenv("HANDCHECK_MARKER", raising=False)
+    assert _map(os.getenv, ["HANDCHECK_MARKER"] * 2, jobs=2, done=None, ended=lambda *a: "ended") == (None, None)
+    monkeypatch.setenv("HANDCHECK_MARKER", "set later")
+    got = _map(os.getenv, ["HANDCHECK_MARKER"] * 2, jobs=2, done=None, ended=lambda *a: "ended")
     assert got == ("set later", "set later")

@@ -15,7 +15,7 @@ from typing import Any
 from handcheck.record.visible import visible
 from handcheck.verify.findings import Report, StepFinding
 
-__all__ = ["render"]
+__all__ = ["render", "step_notes"]
 
 _MARK = {"agrees": "ok", "unchecked": "--"}
 #: The wrapping width when standard output is no terminal.
@@ -62,6 +62,20 @@ def _counts(steps: tuple[StepFinding, ...]) -> str:
 
 def _wrap_to(text: str, indent: int, width: int = 100) -> list[str]:
     return textwrap.wrap(text, width=width, initial_indent=" " * indent, subsequent_indent=" " * (indent + 2))
+
+
+def step_notes(report: Report, step: StepFinding) -> list[str]:
+    """What is said under a step: the author's own recomputed value where it went wrong,
+    every note, each likely mistake, and the steps it is carried into."""
+    notes = []
+    if step.recomputed and step.verdict in ("arithmetic", "formula", "carried"):
+        notes.append(f"from the author's own formula and numbers: {step.recomputed}")
+    notes.extend(step.notes or ((step.message,) if step.message and step.verdict != "agrees" else ()))
+    notes.extend(f"likely mistake ({d.mistake}): {d.detail}" for d in step.diagnosis)
+    carried = [s.name for s in report.steps if s.caused_by == step.name and s.verdict == "carried"]
+    if carried:
+        notes.append(f"carried into: {', '.join(carried)}")
+    return notes
 
 
 def _one_line(text: str) -> str:
@@ -112,15 +126,8 @@ def render(
         indent = widths[0] + 2
         if step.name == first:
             lines.extend(_wrap("first divergence: the hand calculation goes wrong here", indent))
-        if step.recomputed and step.verdict in ("arithmetic", "formula", "carried"):
-            lines.extend(_wrap(f"from the author's own formula and numbers: {step.recomputed}", indent))
-        for note in step.notes or ((step.message,) if step.message and step.verdict != "agrees" else ()):
+        for note in step_notes(report, step):
             lines.extend(_wrap(note, indent))
-        for diagnosis in step.diagnosis:
-            lines.extend(_wrap(f"likely mistake ({diagnosis.mistake}): {diagnosis.detail}", indent))
-        carried = [s.name for s in report.steps if s.caused_by == step.name and s.verdict == "carried"]
-        if carried:
-            lines.extend(_wrap(f"carried into: {', '.join(carried)}", indent))
     if evidence is not None:
         from handcheck.verify.evidence import describe
 
