@@ -11,6 +11,8 @@ circuit forms the exact phasors of its steps only.
 
 from __future__ import annotations
 
+from typing import Any
+
 import sympy
 
 from handcheck.circuit.model import Circuit
@@ -40,7 +42,29 @@ def _crest(function: object) -> float:
     scales += [2 * np.pi / float(t.omega) for t in function.terms if t.omega != 0]  # type: ignore[attr-defined]
     span = max([*starts, 0.0]) + 3 * max([*scales, 1e-3])
     times = np.linspace(0.0, span, 2001)
-    return max(abs(function.value(float(t))) for t in times)  # type: ignore[attr-defined]
+    return float(np.max(np.abs(_sampled(function, times)), initial=0.0))
+
+
+def _sampled(function: Any, times: Any) -> Any:
+    """A source function's values at ``times`` (a numpy array), in doubles: each term's
+    exact numbers are turned into floats once, not at every instant."""
+    import numpy as np
+
+    def terms_at(terms: Any, t: Any) -> Any:
+        total = np.zeros(t.shape)
+        for term in terms:
+            tau = t - float(term.start)
+            on = tau >= 0
+            tau = np.where(on, tau, 0.0)
+            lam = complex(-float(term.decay), float(term.omega))
+            total += np.where(on, (complex(term.phasor) * tau**term.power * np.exp(lam * tau)).real, 0.0)
+        return total
+
+    total = terms_at(function.terms, times)
+    for repeat in function.repeats:
+        period = float(repeat.period)
+        total += terms_at(repeat.terms, times - period * np.floor(times / period))
+    return total
 
 
 def _worst(circuit: Circuit, solution: Solution | None) -> str | None:
