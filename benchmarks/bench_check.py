@@ -117,7 +117,7 @@ def main() -> None:
         sizes = () if args.only else (8, 32, 64) if args.quick else (8, 32, 64, 128)
         for n in sizes:
             trial = folder / f"trial{n}.toml"
-            trial.write_text(ladder(n, "1 V", tolerance="99%"), encoding="utf-8")  # agrees: no catalogue
+            trial.write_text(ladder(n, "0 V"), encoding="utf-8")  # a claim of exactly 0 names no mistake: no catalogue
             claim = right_claim(trial)  # the exact value, printed to the digits shown
             path = folder / f"ladder{n}.toml"
             path.write_text(ladder(n, claim), encoding="utf-8")
