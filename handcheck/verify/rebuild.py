@@ -19,6 +19,7 @@ from handcheck.solve.phasor import solve
 from handcheck.solve.quantities import Quantity, evaluate_quantity
 from handcheck.verify.claims import Claim, Tolerance, agrees, to_complex
 from handcheck.verify.present import format_value
+from handcheck.verify.screen import cannot_match
 from handcheck.worksheet.evaluate import Value, evaluate
 from handcheck.worksheet.expr import Binary, Node, walk
 
@@ -59,6 +60,9 @@ class Context:
     budget: Budget | None = None
     #: angular frequencies (rad/s) that the worksheet's steps name, in at_frequency(...)
     frequencies: tuple[sympy.Expr, ...] = ()
+    #: screen each re-solve in floating point first (:mod:`handcheck.verify.screen`);
+    #: False solves every candidate exactly (the screen can only save work)
+    screen: bool = True
 
 
 def matches(ctx: Context, value: sympy.Expr | complex | None) -> bool:
@@ -76,8 +80,11 @@ def matches(ctx: Context, value: sympy.Expr | complex | None) -> bool:
 
 
 def requantify(ctx: Context, circuit: Circuit) -> sympy.Expr | None:
-    """The step's quantity in a modified circuit (None when it cannot be had)."""
+    """The step's quantity in a modified circuit (None when it cannot be had, or
+    when a float solve shows it far from the claim: it could not match it)."""
     if ctx.quantity is None:
+        return None
+    if ctx.screen and cannot_match(circuit, ctx.quantity, ctx.claim, ctx.tolerance):
         return None
     try:
         return evaluate_quantity(solve(circuit), ctx.quantity).expr
