@@ -92,3 +92,17 @@ def test_leaves_import_nothing_of_handcheck(leaf):
     path = PACKAGE / (leaf.replace(".", "/") + ".py")
     imports = [n for n in ast.walk(ast.parse(path.read_text(encoding="utf-8"))) if isinstance(n, ast.ImportFrom)]
     assert not [n.module for n in imports if n.module and n.module.startswith("handcheck")]
+
+
+#: Longest module, in lines: a file that grows past it is doing more than one job
+#: (the project's rule, docs/develop.md; common practice).
+MAX_MODULE_LINES = 600
+
+
+def test_no_module_grows_past_the_limit():
+    long = {
+        str(path.relative_to(PACKAGE)): n
+        for path in PACKAGE.rglob("*.py")
+        if (n := len(path.read_text(encoding="utf-8").splitlines())) > MAX_MODULE_LINES
+    }
+    assert long == {}, f"split these modules by job: {long}"

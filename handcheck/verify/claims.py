@@ -26,6 +26,7 @@ from handcheck.errors import HandcheckError, LimitError, ParseError, UnitError, 
 from handcheck.worksheet.evaluate import Value, evaluate, unit_of
 from handcheck.worksheet.expr import Binary, Name, Number, Unary, one_line, parse, printable, walk
 from handcheck.worksheet.units import DIMENSIONLESS, Dim, dim_of
+from handcheck.worksheet.unittext import split_unit
 
 __all__ = ["Claim", "Tolerance", "agrees", "read_claim", "read_tolerance", "to_complex"]
 
@@ -102,24 +103,9 @@ def _resolution(digits: str) -> Fraction:
     return Fraction(1, 2) * Fraction(10) ** power
 
 
-_TRAILING_UNIT = re.compile(r"^(.*?[\d.)jJ])\s*([A-Za-zΩµμ°][A-Za-z0-9_Ωµμ/*^]*)\s*$", re.S)
-
-
 def _split_unit(text: str) -> tuple[str, str]:
     """Split ``"12.3 - 4.5j ohm"`` into ``("12.3 - 4.5j", "ohm")``; no unit gives ``""``."""
-    match = _TRAILING_UNIT.match(text)
-    if not match:
-        return text, ""
-    body, unit = match.group(1), match.group(2)
-    if unit == "j":
-        return text, ""
-    try:
-        tree = parse("1 " + unit)
-    except HandcheckError:
-        return text, ""
-    if isinstance(tree, Number) and tree.unit:
-        return body, unit
-    return text, ""
+    return split_unit(text, imaginary=True)
 
 
 def _numbers_only(text: str, tree: object) -> None:

@@ -22,8 +22,8 @@ from handcheck.worksheet.sourcefunction import (
     from_points,
     read_function,
     sinusoid,
-    uses_time,
 )
+from handcheck.worksheet.unittext import uses_time
 from handcheck.worksheet.values import read_angle, read_frequency, read_value
 
 __all__ = ["PartValues", "read_part_values"]

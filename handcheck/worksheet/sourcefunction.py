@@ -23,7 +23,6 @@ into one real term.
 
 from __future__ import annotations
 
-import re
 from dataclasses import dataclass
 from itertools import pairwise
 from typing import Any
@@ -32,8 +31,9 @@ import sympy
 
 from handcheck.errors import HandcheckError, ParseError, UnitError
 from handcheck.worksheet.evaluate import Function, Value, evaluate, unit_of, without_time
-from handcheck.worksheet.expr import Name, Number, one_line, parse, walk
+from handcheck.worksheet.expr import Number, one_line, parse
 from handcheck.worksheet.units import DIMENSIONLESS, dim_of
+from handcheck.worksheet.unittext import split_unit
 
 __all__ = [
     "TIME",
@@ -329,35 +329,6 @@ def from_points(points: tuple[tuple[sympy.Expr, sympy.Expr], ...]) -> SourceFunc
     if previous != 0:
         terms.append(SourceTerm(-previous, 1, start=points[-1][0]))
     return SourceFunction(tuple(terms))
-
-
-_TRAILING_UNIT = re.compile(r"^(.*?[\d.)])\s*([A-Za-zΩµμ°][A-Za-z0-9_Ωµμ/*^]*)\s*$", re.S)
-
-
-def split_unit(text: str) -> tuple[str, str]:
-    """Split ``"12*step(t - 1 ms) V"`` into ``("12*step(t - 1 ms)", "V")``; no unit gives ``""``."""
-    match = _TRAILING_UNIT.match(text)
-    if not match:
-        return text, ""
-    body, unit = match.group(1), match.group(2)
-    try:
-        tree = parse("1 " + unit)
-    except HandcheckError:
-        return text, ""
-    if isinstance(tree, Number) and tree.unit:
-        return body, unit
-    return text, ""
-
-
-def uses_time(text: str) -> bool:
-    """Whether a value text is a function of ``t`` (it names t, step, edge or repeat)."""
-    try:
-        tree = parse(split_unit(text)[0], {"t"})
-    except HandcheckError:
-        return bool(re.search(r"\b(t|step|edge|repeat)\b", text))
-    return any(isinstance(n, Name) and n.ident == "t" for n in walk(tree)) or bool(
-        re.search(r"\b(step|edge|repeat)\s*\(", text)
-    )
 
 
 def read_function(text: str, unit: str, what: str) -> SourceFunction:
