@@ -14,6 +14,7 @@ from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 
+from handcheck.budget import DEFAULT_TIME_LIMIT
 from handcheck.errors import HandcheckError, TimeLimitError, WorksheetError
 from handcheck.record.visible import visible
 
@@ -33,6 +34,12 @@ def say(message: str) -> None:
     """One line on stderr, ``handcheck: message``, with worksheet text (file names, titles
     quoted in errors) escaped so it cannot spoof the terminal."""
     sys.stderr.write(f"handcheck: {visible(message)}\n")
+
+
+#: The help of every command's --time-limit (the default is budget.DEFAULT_TIME_LIMIT).
+_LIMIT_HELP = (
+    "stop with exit status 2 if {what} takes longer than this (wall clock; default " + f"{DEFAULT_TIME_LIMIT:g} s)"
+)
 
 
 def _parser() -> argparse.ArgumentParser:
@@ -57,13 +64,15 @@ def _parser() -> argparse.ArgumentParser:
         type=_seconds,
         default=None,
         metavar="SECONDS",
-        help="stop with exit status 2 if the check takes longer than this (wall clock; default 120)",
+        help=_LIMIT_HELP.format(what="the check"),
     )
     simulate = commands.add_parser("simulate", help="solve a worksheet's circuit numerically in time and compare")
     simulate.add_argument("file", metavar="FILE", help="the worksheet (TOML, format 1)")
     simulate.add_argument("--plot", metavar="OUT", help="write the plots to OUT (.svg or .png)")
     simulate.add_argument("--json", action="store_true", help="print the evidence as JSON")
-    simulate.add_argument("--time-limit", type=_seconds, default=None, metavar="SECONDS", help="wall-clock budget")
+    simulate.add_argument(
+        "--time-limit", type=_seconds, default=None, metavar="SECONDS", help=_LIMIT_HELP.format(what="the simulation")
+    )
     record = commands.add_parser("record", help="check a worksheet and write its calculation record")
     record.add_argument(
         "paths", nargs="+", metavar="PATH", help="the worksheet (TOML, format 1), or several and folders"
@@ -79,13 +88,21 @@ def _parser() -> argparse.ArgumentParser:
     )
     record.add_argument("--no-evidence", action="store_true", help="leave out the numerical solution and its plots")
     record.add_argument("--jobs", type=_jobs, default=1, metavar="N", help="record N worksheets at once (default 1)")
-    record.add_argument("--time-limit", type=_seconds, default=None, metavar="SECONDS", help="wall-clock budget")
+    record.add_argument(
+        "--time-limit",
+        type=_seconds,
+        default=None,
+        metavar="SECONDS",
+        help=_LIMIT_HELP.format(what="writing the record"),
+    )
     reverify = commands.add_parser("reverify", help="re-run the worksheet embedded in a record and compare")
     reverify.add_argument(
         "paths", nargs="+", metavar="RECORD", help="a record written by handcheck record, or several and folders"
     )
     reverify.add_argument("--jobs", type=_jobs, default=1, metavar="N", help="re-verify N records at once (default 1)")
-    reverify.add_argument("--time-limit", type=_seconds, default=None, metavar="SECONDS", help="wall-clock budget")
+    reverify.add_argument(
+        "--time-limit", type=_seconds, default=None, metavar="SECONDS", help=_LIMIT_HELP.format(what="reverifying")
+    )
     return parser
 
 

@@ -376,3 +376,13 @@ def test_subprocess_python_m_handcheck_cli(tmp_path):
     assert done.returncode == 2
     assert done.stdout == ""
     assert done.stderr.count("\n") == 1 and missing in done.stderr and "Traceback" not in done.stderr
+
+
+@pytest.mark.parametrize("command", ["check", "simulate", "record", "reverify"])
+def test_every_command_states_its_default_time_limit(capsys, command):
+    from handcheck.budget import DEFAULT_TIME_LIMIT
+    from handcheck.testing import run_command
+
+    code, out, _ = run_command(capsys, command, "--help")
+    assert code == 0
+    assert f"default {DEFAULT_TIME_LIMIT:g} s" in " ".join(out.split())
