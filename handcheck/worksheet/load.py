@@ -22,11 +22,10 @@ from handcheck.worksheet.model import PartSpec, StepSpec, Worksheet
 from handcheck.worksheet.nesting import MAX_NESTING, check_nesting
 from handcheck.worksheet.oldkeys import OLD_KEYS, rewrite
 from handcheck.worksheet.partvalues import read_part_values
+from handcheck.worksheet.readfile import MAX_BYTES, READ_WAIT, read_capped
 
-__all__ = ["MAX_BYTES", "MAX_NESTING", "load", "loads"]
+__all__ = ["MAX_BYTES", "MAX_NESTING", "READ_WAIT", "load", "loads"]
 
-#: Largest worksheet file read, in bytes.
-MAX_BYTES = 1_000_000
 #: Most parts and steps in one worksheet (far beyond a hand calculation).
 MAX_PARTS = 2000
 MAX_STEPS = 2000
@@ -111,8 +110,7 @@ def load(path: str | Path) -> Worksheet:
             raise LimitError(f"the file is {size:,} bytes; a worksheet may be at most {MAX_BYTES:,} bytes", file=name)
         # The reported size is 0 for a pipe or a device (/dev/zero): read one byte past the
         # limit whatever it claims, never more.
-        with open(path, "rb") as stream:
-            data = stream.read(MAX_BYTES + 1)
+        data = read_capped(path, name)
         if len(data) > MAX_BYTES:
             raise LimitError(
                 f"the file holds more than {MAX_BYTES:,} bytes (its size was reported as {size:,}); "
