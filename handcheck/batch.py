@@ -382,7 +382,7 @@ def reverify_one(path: str, time_limit: float | None = None) -> Any:
     try:
         stored = read_record(path)
         worksheet = recorded_worksheet(stored, path)
-        inputs = record_inputs(worksheet, evidence="evidence" in stored["results"], budget=budget)
+        inputs = record_inputs(worksheet, evidence="evidence" in stored["results"], budget=budget, curves=False)
     except _REFUSALS as exc:
         return Reverified(path, (), error=message_of(path, exc))
     finally:

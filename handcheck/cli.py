@@ -272,6 +272,7 @@ def _plots(result: Any, plot: str) -> bool:
     False (after saying which file and why) when one could not be written."""
     try:
         _plot(result, plot)
+        _plot_bode(result, plot)
         if result.audit:
             _plot_audit(result.audit, plot)
     except OSError as exc:
@@ -297,6 +298,17 @@ def _plot_audit(findings: tuple[Any, ...], out: str) -> None:
         _written("audit histogram", path, existed)
 
 
+def _plot_bode(result: Any, out: str) -> None:
+    from handcheck.pipeline import curves_for
+    from handcheck.record.bode import bode_path, plot_bode
+
+    target = bode_path(out)
+    existed = target.exists()
+    path = plot_bode(result.report, curves_for(result.report, result.exact), target) if result.report else None
+    if path is not None:
+        _written("Bode plot", path, existed)
+
+
 def _record(args: argparse.Namespace, budget: Any) -> int:
     from handcheck.pipeline import record_inputs
     from handcheck.record.write import check_suffix, compare, read_record, recorded_worksheet, write_record
@@ -315,7 +327,7 @@ def _record(args: argparse.Namespace, budget: Any) -> int:
         return EXIT_OK if ok else EXIT_DISAGREES
     stored = read_record(args.file)
     inputs = record_inputs(
-        recorded_worksheet(stored, args.file), evidence="evidence" in stored["results"], budget=budget
+        recorded_worksheet(stored, args.file), evidence="evidence" in stored["results"], budget=budget, curves=False
     )
     outcome = compare(args.file, stored, inputs)
     for line in outcome.lines():

@@ -24,7 +24,7 @@ from handcheck.circuit.model import Circuit
 from handcheck.verify.findings import Report
 from handcheck.worksheet.model import Worksheet
 
-__all__ = ["Result", "evidence_for", "record_inputs", "run", "run_text", "run_worksheet"]
+__all__ = ["Result", "curves_for", "evidence_for", "record_inputs", "run", "run_text", "run_worksheet"]
 
 
 @dataclass(frozen=True)
@@ -77,6 +77,31 @@ def evidence_for(worksheet: Worksheet, circuit: Circuit, exact: Any) -> Any:
     from handcheck.worksheet.values import read_span
 
     return gather_evidence(circuit, worksheet.steps, span=read_span(worksheet), exact=exact)
+
+
+def curves_for(report: Report | None, exact: Any) -> tuple[Any, ...]:
+    """The exact network functions the steps name, for the Bode plot (solved once each).
+
+    Parameters
+    ----------
+    report
+        The check's findings (None: nothing to draw).
+    exact
+        The :class:`~handcheck.solve.solutions.ExactSolutions` of the check.
+
+    Returns
+    -------
+    tuple of handcheck.solve.curves.Curve
+        Empty when no step names a network function.
+    """
+    from handcheck.solve.curves import named_curves, names_function
+
+    if report is None or exact is None:
+        return ()
+    steps = [(step.name, step.quantity) for step in report.steps]
+    if not any(names_function(text) for _, text in steps):
+        return ()
+    return named_curves(steps, exact.phasors)
 
 
 def run_worksheet(
@@ -190,7 +215,9 @@ def run_text(
     return run_worksheet(loads(text, name), check=check, evidence=evidence, budget=budget)
 
 
-def record_inputs(worksheet: Worksheet, *, evidence: bool = True, budget: Budget | None = None) -> Any:
+def record_inputs(
+    worksheet: Worksheet, *, evidence: bool = True, budget: Budget | None = None, curves: bool = True
+) -> Any:
     """The inputs of a calculation record: the stages run once, the evidence kept apart.
 
     A numerical solution that cannot be made does not stop the record: the record
@@ -204,6 +231,9 @@ def record_inputs(worksheet: Worksheet, *, evidence: bool = True, budget: Budget
         Whether to add the independent numerical time-domain solution.
     budget
         The time budget.
+    curves
+        Whether to solve the network functions the steps name, for the Bode plot
+        (``False`` where only the results are compared, as ``reverify`` does).
 
     Returns
     -------
@@ -213,7 +243,13 @@ def record_inputs(worksheet: Worksheet, *, evidence: bool = True, budget: Budget
     from handcheck.record.inputs import Inputs
 
     result = run_worksheet(worksheet, check=True, evidence=False, budget=budget)
-    made = Inputs(worksheet, result.circuit, result.report, audit=result.audit)
+    made = Inputs(
+        worksheet,
+        result.circuit,
+        result.report,
+        audit=result.audit,
+        curves=curves_for(result.report, result.exact) if curves else (),
+    )
     if not evidence:
         return made
     try:

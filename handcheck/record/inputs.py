@@ -19,7 +19,9 @@ class Inputs:
 
     ``evidence`` is None when the numerical solution was not asked for; when it was
     asked for but could not be had, ``evidence_problem`` says why. ``audit`` holds the
-    formula audit's findings (empty without ``[[formula]]`` entries).
+    formula audit's findings (empty without ``[[formula]]`` entries); ``curves`` the
+    exact network functions the steps name (:mod:`handcheck.solve.curves`), for the
+    Bode plot.
     """
 
     worksheet: Any
@@ -28,3 +30,4 @@ class Inputs:
     evidence: Any = None
     evidence_problem: str | None = None
     audit: tuple[Any, ...] = ()  # the formula audit's findings, one per [[formula]]
+    curves: tuple[Any, ...] = ()  # the network functions the steps name

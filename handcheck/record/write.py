@@ -34,24 +34,36 @@ FORMATS = (".html", ".md", ".json")
 SAME_RESULT = 1e-9
 
 
-def _plots(inputs: Inputs) -> list[dict[str, str]]:
-    """The evidence plots as SVG text (deterministic: fixed ids, no date)."""
-    if inputs.evidence is None:
-        return []
+def _svg_of(draw: Any) -> str:
+    """The SVG text ``draw(path)`` writes (deterministic: fixed ids, no date, no metadata)."""
     import matplotlib
 
-    from handcheck.record.plots import plot_evidence
-
     with tempfile.TemporaryDirectory(prefix="handcheck-record-") as folder:
-        target = Path(folder) / "evidence.svg"
+        target = Path(folder) / "plot.svg"
         with matplotlib.rc_context({"svg.hashsalt": "handcheck-record", "svg.fonttype": "path"}):
-            plot_evidence(inputs.report, inputs.evidence, target)
+            draw(target)
         svg = target.read_text(encoding="utf-8")
     svg = re.sub(r"<\?xml[^>]*\?>\s*", "", svg)
     svg = re.sub(r"<!DOCTYPE[^>]*>\s*", "", svg)
     svg = re.sub(r"<metadata>.*?</metadata>\s*", "", svg, flags=re.DOTALL)
-    title = "Waveforms, transient and phasors from the numerical solution (claimed values dashed)"
-    return [{"title": title, "svg": svg.strip()}]
+    return svg.strip()
+
+
+def _plots(inputs: Inputs) -> list[dict[str, str]]:
+    """The evidence plots and the Bode plot as SVG text."""
+    plots = []
+    if inputs.evidence is not None:
+        from handcheck.record.plots import plot_evidence
+
+        title = "Waveforms, transient and phasors from the numerical solution (claimed values dashed)"
+        svg = _svg_of(lambda target: plot_evidence(inputs.report, inputs.evidence, target))
+        plots.append({"title": title, "svg": svg})
+    if inputs.curves:
+        from handcheck.record.bode import plot_bode
+
+        title = "Frequency response of the exact network functions (Bode plot; claimed values marked)"
+        plots.append({"title": title, "svg": _svg_of(lambda target: plot_bode(inputs.report, inputs.curves, target))})
+    return plots
 
 
 def make_record(inputs: Inputs, suffix: str, stem: str = "record") -> tuple[bytes, dict[str, bytes]]:

@@ -1,0 +1,201 @@
+"""The Bode plot: the exact curve against scipy.signal.freqs, its frequency span, and the
+claims drawn on it.
+
+References: scipy.signal.freqs (the reference library for H(jw) of a rational
+function given by its coefficients) and scipy.signal.buttap (Butterworth prototype
+poles); the third-order Butterworth prototype g = 1, 2, 1 (Matthaei, Young & Jones,
+"Microwave Filters, Impedance-Matching Networks, and Coupling Structures", 1964,
+table 4.05-1, from memory).
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+import numpy as np
+import pytest
+from numpy.testing import assert_allclose
+
+from handcheck.pipeline import curves_for, run_text
+from handcheck.record.bode import bode_figure, frequency_grid, marks, response_at
+
+H = "network_function(voltage(out), voltage(in))"
+T = "transfer(voltage(out), voltage(in))"
+
+BUTTERWORTH = """
+[worksheet]
+format = 1
+title = "Third-order Butterworth ladder"
+[parts]
+Vs = { voltage = "1 V", frequency = "1 rad/s", nodes = ["in", "gnd"] }
+Rsrc = { resistor = "1 ohm", nodes = ["in", "a"] }
+C1 = { capacitor = "1 F", nodes = ["a", "gnd"] }
+L2 = { inductor = "2 H", nodes = ["a", "out"] }
+C3 = { capacitor = "1 F", nodes = ["out", "gnd"] }
+Rload = { resistor = "1 ohm", nodes = ["out", "gnd"] }
+[[step]]
+name = "H"
+quantity = "network_function(voltage(out), voltage(in))"
+claim = "0.5/(s^3 + 2*s^2 + 2*s + 1)"
+"""
+
+# A lead network: R1 || C1 in series, R2 to ground. H = (1 + s R1 C1)/(1 + R1/R2 + s R1 C1),
+# zero at 1/(R1 C1) = 1000 rad/s, pole at (R1 + R2)/(R1 R2 C1) = 101000 rad/s (circuit
+# analysis from memory; the numbers checked against scipy below).
+LEAD = """
+[worksheet]
+format = 1
+title = "Lead network ahead of a comparator"
+[parts]
+Vin = { voltage = "1 V", frequency = "1 kHz", nodes = ["in", "gnd"] }
+R1 = { resistor = "100 kohm", nodes = ["in", "out"] }
+C1 = { capacitor = "10 nF", nodes = ["in", "out"] }
+R2 = { resistor = "1 kohm", nodes = ["out", "gnd"] }
+[[step]]
+name = "T1k"
+quantity = "transfer(voltage(out), voltage(in))"
+claim = "0.0140 /_ 45 deg"
+[[step]]
+name = "g100k"
+quantity = 'magnitude(at_frequency(transfer(voltage(out), voltage(in)), "100 kHz"))'
+claim = "-3.1 dB"
+[[step]]
+name = "ph"
+quantity = 'phase(at_frequency(transfer(voltage(out), voltage(in)), "10 kHz"))'
+claim = "70 deg"
+[[step]]
+name = "z"
+quantity = "zeros(network_function(voltage(out), voltage(in)))"
+claim = "-1000 rad/s"
+[[step]]
+name = "fc"
+quantity = "cutoff_frequency(transfer(voltage(out), voltage(in)))"
+claim = "16 kHz"
+"""
+
+
+def _curves(text: str) -> tuple:
+    result = run_text(text)
+    return result.report, curves_for(result.report, result.exact)
+
+
+def _floats(coefficients: tuple) -> tuple[float, ...]:
+    return tuple(float(c) for c in coefficients)
+
+
+@pytest.mark.parametrize("text", [BUTTERWORTH, LEAD], ids=["butterworth", "lead"])
+def test_exact_curve_matches_scipy_freqs(text: str) -> None:
+    from scipy.signal import freqs
+
+    _, curves = _curves(text)
+    assert len(curves) == 1
+    num, den = _floats(curves[0].num), _floats(curves[0].den)
+    w = 2 * np.pi * frequency_grid(num, den, [])
+    _, reference = freqs(num, den, worN=w)
+    assert_allclose(response_at(num, den, w), reference, rtol=1e-10)
+
+
+def test_butterworth_coefficients_and_grid_span_the_poles() -> None:
+    from scipy.signal import buttap
+
+    _, (curve,) = _curves(BUTTERWORTH)
+    num, den = _floats(curve.num), _floats(curve.den)
+    lead = den[0]
+    assert_allclose(np.array(den) / lead, [1, 2, 2, 1], rtol=1e-15)
+    assert_allclose(np.array(num) / lead, [0.5], rtol=1e-15)
+    poles = np.roots(den)
+    _, reference_poles, _ = buttap(3)
+    assert_allclose(np.sort_complex(poles), np.sort_complex(reference_poles), atol=1e-12)
+    grid = frequency_grid(num, den, [])
+    sizes = np.abs(poles) / (2 * math.pi)
+    assert grid[0] <= sizes.min() / 10 * (1 + 1e-12)
+    assert grid[-1] >= sizes.max() * 10 * (1 - 1e-12)
+
+
+def test_grid_spans_a_zero_and_a_pole_two_decades_apart() -> None:
+    _, (curve,) = _curves(LEAD)
+    num, den = _floats(curve.num), _floats(curve.den)
+    grid = frequency_grid(num, den, [])
+    assert_allclose(grid[0], 1000 / (2 * math.pi) / 10, rtol=1e-9)
+    assert_allclose(grid[-1], 101000 / (2 * math.pi) * 10, rtol=1e-9)
+
+
+def _lines(axis: object) -> list:
+    return list(axis.get_lines())  # type: ignore[attr-defined]
+
+
+def _has_point(axis: object, x: float, y: float) -> bool:
+    for line in _lines(axis):
+        xs, ys = np.asarray(line.get_xdata(), float), np.asarray(line.get_ydata(), float)
+        if xs.size == 1 and math.isclose(xs[0], x, rel_tol=1e-9) and math.isclose(ys[0], y, rel_tol=1e-6):
+            return True
+    return False
+
+
+def _has_vertical(axis: object, x: float) -> bool:
+    for line in _lines(axis):
+        xs = np.asarray(line.get_xdata(), float)
+        if xs.size == 2 and xs[0] == xs[1] and math.isclose(xs[0], x, rel_tol=1e-9):
+            return True
+    return False
+
+
+def test_figure_carries_every_claim() -> None:
+    report, curves = _curves(LEAD)
+    found = {(m.step, m.kind) for m in marks(report, curves[0])}
+    assert found == {
+        ("T1k", "point"),
+        ("g100k", "magnitude"),
+        ("ph", "phase"),
+        ("z", "zero"),
+        ("fc", "frequency"),
+        ("fc", "exact-frequency"),
+    }
+    figure = bode_figure(report, curves)
+    magnitude, phase = figure.axes[0], figure.axes[1]
+    assert _has_point(magnitude, 1000.0, 20 * math.log10(0.0140))
+    assert _has_point(phase, 1000.0, 45.0)
+    assert _has_point(magnitude, 100000.0, -3.1)
+    assert _has_point(phase, 10000.0, 70.0)
+    assert _has_vertical(magnitude, 16000.0) and _has_vertical(phase, 16000.0)
+    # the zero at its size, 1000 rad/s, sits on the exact curve
+    h = abs((1 + 1j) / (1 + 100 + 1j))
+    assert _has_point(magnitude, 1000 / (2 * math.pi), 20 * math.log10(h))
+    import matplotlib.pyplot as plt
+
+    plt.close(figure)
+
+
+def test_claimed_function_is_drawn_dashed_beside_the_exact_one() -> None:
+    report, curves = _curves(BUTTERWORTH.replace("2*s + 1)", "2.4*s + 1)"))
+    figure = bode_figure(report, curves)
+    magnitude = figure.axes[0]
+    styles = {line.get_label(): line.get_linestyle() for line in _lines(magnitude)}
+    assert styles["exact"] == "-" and styles["H claimed"] == "--"
+    claimed = next(line for line in _lines(magnitude) if line.get_label() == "H claimed")
+    exact = next(line for line in _lines(magnitude) if line.get_label() == "exact")
+    # the two differ where the wrong coefficient matters, near 1 rad/s
+    assert np.max(np.abs(claimed.get_ydata() - exact.get_ydata())) > 0.5
+    import matplotlib.pyplot as plt
+
+    plt.close(figure)
+
+
+def test_no_curve_without_a_network_function() -> None:
+    text = LEAD.split("[[step]]", maxsplit=1)[0] + '[[step]]\nname = "v"\nquantity = "voltage(out)"\nclaim = "0.01 V"\n'
+    _, curves = _curves(text)
+    assert curves == ()
+
+
+def test_check_plot_writes_the_bode_plot_and_the_record_carries_it(tmp_path: Path) -> None:
+    from handcheck.cli import main
+
+    sheet = tmp_path / "lead.toml"
+    sheet.write_text(LEAD, encoding="utf-8")
+    main(["check", str(sheet), "--plot", str(tmp_path / "lead.png")])
+    assert (tmp_path / "lead-bode.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    main(["record", str(sheet), "-o", str(tmp_path / "lead.html"), "--no-evidence"])
+    html = (tmp_path / "lead.html").read_text(encoding="utf-8")
+    assert "Frequency response of the exact network functions" in html
+    assert html.count("<svg") == 1
