@@ -20,7 +20,7 @@ from handcheck.verify.claims import read_claim, to_complex
 from handcheck.verify.evidence import Evidence, _numeric, _signals
 from handcheck.verify.findings import Report
 
-__all__ = ["plot_evidence"]
+__all__ = ["evidence_figure", "plot_evidence"]
 
 _MAX_SIGNALS = 6
 
@@ -46,15 +46,20 @@ def _claimed_phasors(report: Report, circuit: Any) -> list[tuple[str, str, compl
 
 def plot_evidence(report: Report, evidence: Evidence, path: str | Path) -> Path:
     """Write the evidence figure to ``path`` (``.svg`` or ``.png``) and return the path."""
+    path = Path(path)
+    if path.suffix.lower() not in (".svg", ".png"):
+        raise ParseError(f'a plot is written as .svg or .png, not "{path.suffix or path.name}"', str(path), None)
+    return write_figure(evidence_figure(report, evidence), path)
+
+
+def evidence_figure(report: Report, evidence: Evidence) -> Any:
+    """The evidence figure: waveforms above, the transient below, phasor diagrams beside."""
     import matplotlib
 
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
     import numpy as np
 
-    path = Path(path)
-    if path.suffix.lower() not in (".svg", ".png"):
-        raise ParseError(f'a plot is written as .svg or .png, not "{path.suffix or path.name}"', str(path), None)
     sim = evidence.simulation
     circuit = sim.circuit
     times_ms = np.asarray(sim.times) * 1e3
@@ -70,6 +75,7 @@ def plot_evidence(report: Report, evidence: Evidence, path: str | Path) -> Path:
     transient = figure.add_subplot(grid[1, 0], sharex=waves)
     omega = float(circuit.omega)
     fit = evidence.fit if omega > 0 and evidence.phasor_agreement is not None else None
+    drawn: list[tuple[Any, Any]] = []
     for q in signals:
         try:
             values = _numeric(sim, q)
@@ -77,6 +83,7 @@ def plot_evidence(report: Report, evidence: Evidence, path: str | Path) -> Path:
             continue
         unit = "V" if q.name == "voltage" else "A"
         (line,) = waves.plot(times_ms, values, lw=1.2, label=f"{q.text} [{unit}] (simulated)")
+        drawn.append((q, line))
         if fit is not None:
             steady = _steady(fit, q, np.asarray(sim.times), omega)
             if steady is not None:
@@ -89,8 +96,14 @@ def plot_evidence(report: Report, evidence: Evidence, path: str | Path) -> Path:
         start = sim.times[-1] - 3 * 2 * math.pi / omega
         t = np.linspace(max(start, 0.0), sim.times[-1], 600)
         waves.plot(t * 1e3, (claimed * np.exp(1j * omega * t)).real, "--", lw=1.4, label=f"{name} claimed [{unit}]")
+    if fit is None and _settles_to_constant(circuit) and evidence.long_enough:
+        for q, line in drawn:
+            values = np.asarray(line.get_ydata())
+            label = f"{q.text} - settled value (at the end of the run)"
+            transient.plot(times_ms, values - values[-1], lw=1.0, color=line.get_color(), label=label)
     slowest = _slowest_rate(sim)
-    if slowest and fit is not None:
+    _quiet_transient(transient, waves, slowest)
+    if slowest and transient.get_lines():
         lines = transient.get_lines()
         amplitude = max((float(np.max(np.abs(line.get_ydata()))) for line in lines), default=0.0)
         if amplitude > 0:
@@ -112,7 +125,7 @@ def plot_evidence(report: Report, evidence: Evidence, path: str | Path) -> Path:
         axes = figure.add_subplot(grid[:, column])
         _phasor_diagram(axes, [(n, c, e) for n, u, c, e in phasor_rows if u == unit], unit)
     figure.text(0.01, 0.005, f"step {sim.step:.3g} s, {sim.samples} samples", fontsize=7)
-    return write_figure(figure, path)
+    return figure
 
 
 def _steady(fit: Any, q: Any, times: Any, omega: float) -> Any:
@@ -138,6 +151,40 @@ def _steady(fit: Any, q: Any, times: Any, omega: float) -> Any:
         else:
             return None
     return offset + (phasor * np.exp(1j * omega * times)).real
+
+
+def _settles_to_constant(circuit: Any) -> bool:
+    """Whether every source is constant once its last change is past (no sinusoid, no repeat)."""
+    for part in circuit.parts:
+        source = part.source
+        if source is not None and (source.frequencies or source.function.repeats):
+            return False
+    return True
+
+
+#: A transient smaller than this fraction of the waveforms' size is no transient.
+QUIET = 1e-9
+
+
+def _quiet_transient(transient: Any, waves: Any, slowest: float | None) -> None:
+    """Say in a line why the transient panel holds no curve (instead of an empty panel)."""
+    import numpy as np
+
+    lines = transient.get_lines()
+    scale = max((float(np.max(np.abs(line.get_ydata()))) for line in waves.get_lines()), default=0.0)
+    size = max((float(np.max(np.abs(line.get_ydata()))) for line in lines), default=0.0)
+    if lines and size > QUIET * scale:
+        return
+    if not slowest:
+        text = "no transient:\nthe circuit has no decaying natural mode; every value follows its sources at once"
+    elif lines:
+        text = f"no transient:\nsimulated minus steady state stays below {QUIET:g} of the waveforms' size"
+    else:
+        text = "no transient drawn:\nno steady state could be fitted to subtract from the simulated waveforms"
+    for line in lines:
+        line.remove()
+    transient.text(0.5, 0.5, text, transform=transient.transAxes, ha="center", va="center", fontsize=8)
+    transient.set_yticks([])
 
 
 def _slowest_rate(sim: Any) -> float | None:
