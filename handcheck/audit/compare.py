@@ -10,7 +10,9 @@ solves the defining polynomial identically.
 Where it holds: the relative difference d = F/T - 1 (or F^2/T^2 - 1) is a rational
 function; as a part x goes to 0 it vanishes when the lowest power of x in d's
 numerator is above the lowest in its denominator; as x grows without bound, when the
-numerator's degree in x is below the denominator's; two like parts equal when d is
+numerator's degree in x is below the denominator's; for a function of s, both at s
+held general and at s = 0 (the condition holds at every frequency, DC included); two
+like parts equal when d is
 identically zero after putting one for the other (leading terms of exact rational
 functions; no general limit routine).
 """
@@ -91,11 +93,32 @@ def _lowest(poly: object, index: int) -> int:
     return min((int(m[index]) for m in poly.monoms()), default=0)  # type: ignore[attr-defined]
 
 
-def _vanishes_with(d: RatFunc, name: str, towards_zero: bool) -> bool:
-    i = d.ring.names.index(name)
+def _leading_vanishes(d: RatFunc, i: int, towards_zero: bool) -> bool:
+    if d.is_zero:
+        return True
     if towards_zero:
         return _lowest(d.num, i) > _lowest(d.den, i)
     return d.num.degrees()[i] < d.den.degrees()[i]
+
+
+def _vanishes_with(d: RatFunc, name: str, towards_zero: bool) -> bool:
+    """Whether d -> 0 as the part goes to 0 (or infinity), at every frequency.
+
+    The leading terms in the part decide it for s held general; a function of s is
+    also tested at s = 0 on its own, because a leading coefficient with a factor s
+    vanishes at DC (an RC low-pass's gain tends to its formula as C -> oo at every
+    frequency except DC, where a load's divider error stays).
+    """
+    i = d.ring.names.index(name)
+    if not _leading_vanishes(d, i, towards_zero):
+        return False
+    if "s" not in d.free():
+        return True
+    try:
+        at_dc = d.substitute({"s": d.ring.constant(0)})
+    except AuditError:  # the quantity has no value at DC: nothing more to test
+        return True
+    return _leading_vanishes(at_dc, i, towards_zero)
 
 
 def _vanishes_equal(d: RatFunc, pairs: tuple[tuple[str, str], ...]) -> bool:

@@ -87,7 +87,9 @@ def _exact_root(poly: sympy.Expr) -> sympy.Expr | None:
 
 def _square_root(square: sympy.Expr) -> sympy.Expr:
     """sqrt of a square of a rational function: abs(N/D) when numerator and denominator
-    are perfect squares (sqrt((a + b)**2/c**2) reads as abs((a + b)/c)); sqrt else."""
+    are perfect squares (sqrt((a + b)**2/c**2) reads as abs((a + b)/c)), the root of
+    either one taken out when only it is a square (sqrt(a/b**2) reads as sqrt(a)/b);
+    abs is left out where positive parts make the root positive; sqrt else."""
     numerator, denominator = sympy.fraction(sympy.together(square))
     if (
         numerator.free_symbols | denominator.free_symbols
@@ -95,5 +97,15 @@ def _square_root(square: sympy.Expr) -> sympy.Expr:
     ):
         top, bottom = _exact_root(numerator), _exact_root(denominator)
         if top is not None and bottom is not None:
-            return sympy.Abs(top / bottom)
+            return _magnitude(top / bottom)
+        if bottom is not None and len(sympy.Add.make_args(sympy.expand(denominator))) <= MAX_FACTOR_TERMS:
+            return sympy.sqrt(numerator) / _magnitude(bottom)
+        if top is not None:
+            return _magnitude(top) / sympy.sqrt(denominator)
     return sympy.sqrt(square)
+
+
+def _magnitude(expr: sympy.Expr) -> sympy.Expr:
+    """abs(expr), or expr itself where it is positive for every positive value of the parts."""
+    positive = {x: sympy.Symbol(x.name, positive=True) for x in expr.free_symbols if isinstance(x, sympy.Symbol)}
+    return expr if expr.subs(positive).is_positive else sympy.Abs(expr)

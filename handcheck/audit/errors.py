@@ -172,7 +172,7 @@ def _sampled_worst(model: ErrorModel, ranges: Ranges) -> WorstCase:
         float(errors[k_low]),
         float(errors[k_high]),
         _point(ranges, points[worst]),
-        f"sampled on a grid of {len(points)} points (not certified)",
+        f"sampled on a grid of {len(points)} points, not certified",
     )
 
 

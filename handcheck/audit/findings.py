@@ -51,6 +51,11 @@ class AuditFinding:
     method: str = ""
     notes: tuple[str, ...] = ()
     line: int | None = None
+    #: For a function of s, the frequency (Hz) its errors are taken at: the value at 0
+    #: (DC), the magnitude at any other; None for a quantity that is no function of s.
+    error_frequency: float | None = None
+    #: Each audited part's unit ("ohm", "F", "" for an op-amp's gain), for showing worst_case_at.
+    units: tuple[tuple[str, str], ...] = ()
 
     @property
     def ok(self) -> bool:

@@ -23,6 +23,7 @@ from handcheck.audit.network import SymbolicCircuit, symbolic_circuit
 from handcheck.audit.ring import AuditError, RatFunc
 from handcheck.audit.sampling import sympy_values
 from handcheck.audit.truth import Truth, coefficients_in_s, magnitude_squared, true_value
+from handcheck.circuit.kinds import kind_unit
 from handcheck.circuit.model import Circuit
 from handcheck.errors import HandcheckError
 from handcheck.verify.findings import Diagnosis
@@ -218,6 +219,8 @@ def _audit_formula(
         "unit": AUDIT_QUANTITIES.get(formula.quantity.name, ""),
         "line": formula.line,
         "notes": notes,
+        "error_frequency": float(sc.circuit.frequency) if truth.in_s else None,
+        "units": tuple((n, kind_unit(sc.circuit.part(n).kind)) for n in ranges.names),
     }
     if formula.expression is None:
         base["method"] = "spread of the quantity over the tolerances"

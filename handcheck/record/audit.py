@@ -4,12 +4,14 @@ and one terminal block per formula (Format 1, second edition)."""
 from __future__ import annotations
 
 import math
+import re
 import textwrap
 from typing import Any
 
 from handcheck.audit.findings import AuditFinding
+from handcheck.record.model import engineering
 
-__all__ = ["audit_dict", "audit_lines", "audit_rows"]
+__all__ = ["audit_dict", "audit_lines", "audit_rows", "error_subject"]
 
 
 def _number(x: float | None) -> float | None:
@@ -54,6 +56,7 @@ def audit_dict(finding: AuditFinding) -> dict[str, Any]:
         "seed": mc.seed if mc else None,
         "notes": list(finding.notes),
         "line": finding.line,
+        "error_frequency": _number(finding.error_frequency),
     }
 
 
@@ -65,8 +68,28 @@ def _percent(x: float | None) -> str:
     return f"{x * 100:+.4g} %"
 
 
+def _part_value(value: float, unit: str) -> str:
+    """A part's SI value as an engineer writes it (``17.6 uH``); a plain number (a gain) as is."""
+    return engineering(value, unit, digits=6) if unit else f"{value:.6g}"
+
+
+def error_subject(finding: AuditFinding) -> str:
+    """What a function of s's errors are taken of: its value at DC, or its magnitude at the analysis frequency."""
+    hz = finding.error_frequency
+    if not hz:
+        return "the value at DC (s = 0)"
+    ratio = "|F(jw)|/|T(jw)| - 1" if finding.verdict != "spread" else "|T(jw)|/|T_nominal(jw)| - 1"
+    return f"the magnitude at {engineering(hz, 'Hz')}: {ratio}"
+
+
+#: A number and the unit after it (and ``name = value``), kept on one line when a row is wrapped.
+_VALUE_UNIT = re.compile(r"(\d) (?=\S{0,2}(?:ohm|F|H|S|Hz)\b)")
+
+
 def _wrap(text: str, indent: int = 2) -> list[str]:
-    return textwrap.wrap(text, width=100, initial_indent=" " * indent, subsequent_indent=" " * (indent + 4))
+    joined = _VALUE_UNIT.sub("\\1\u00a0", text).replace(" = ", "\u00a0=\u00a0")
+    lines = textwrap.wrap(joined, width=100, initial_indent=" " * indent, subsequent_indent=" " * (indent + 4))
+    return [line.replace("\u00a0", " ") for line in lines]
 
 
 def audit_rows(finding: AuditFinding) -> list[tuple[str, str]]:
@@ -83,14 +106,18 @@ def audit_rows(finding: AuditFinding) -> list[tuple[str, str]]:
     rows.append(("how", f.method))
     if f.verdict == "differs":
         rows.append(("holds when", ", ".join(f.holds_when) if f.holds_when else "no single condition found"))
-    if f.nominal_error is not None:
-        what = "spread" if f.verdict == "spread" else "error"
+    what = "spread" if f.verdict == "spread" else "error"
+    if f.error_frequency is not None and f.nominal_error is not None:
+        rows.append((f"{what} of", error_subject(f)))
+    if f.nominal_error is not None and f.verdict != "spread":  # a spread is 0 at nominal by definition
         rows.append((f"{what} at nominal", _percent(f.nominal_error)))
     if f.worst_case is not None:
         w = f.worst_case
-        at = ", ".join(f"{name} = {value:.6g}" for name, value in w.at)
+        units = dict(f.units)
+        at = ", ".join(f"{name} = {_part_value(value, units.get(name, ''))}" for name, value in w.at)
         spent = "" if w.complete else ", budget spent: bounds wider"
-        rows.append(("worst case", f"{_percent(w.low)} to {_percent(w.high)} ({w.method}{spent}), largest at {at}"))
+        where = f", largest in size at {at}" if at else ", the same everywhere"
+        rows.append(("worst case", f"{_percent(w.low)} to {_percent(w.high)} ({w.method}{spent}){where}"))
     if f.monte_carlo is not None:
         m = f.monte_carlo
         rows.append(

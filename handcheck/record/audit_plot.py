@@ -6,9 +6,21 @@ import itertools
 from pathlib import Path
 
 from handcheck.audit.findings import AuditFinding
+from handcheck.record.audit import error_subject
 from handcheck.record.document import write_figure
 
 __all__ = ["audit_plot_path", "plot_audit"]
+
+
+def _axis_label(finding: AuditFinding) -> str:
+    """What the histogram counts, in the terminal's words (the magnitude at a frequency for a function of s)."""
+    spread = finding.verdict == "spread"
+    if finding.error_frequency is None:
+        what = "spread of the quantity" if spread else "relative error (formula - true)/true"
+    else:
+        subject, _, ratio = error_subject(finding).partition(": ")
+        what = f"{'spread' if spread else 'relative error'} of {subject}" + (f", {ratio}" if ratio else "")
+    return f"{what}, %"
 
 
 def audit_plot_path(out: str) -> Path:
@@ -53,14 +65,15 @@ def plot_audit(findings: tuple[AuditFinding, ...], out: str) -> Path | None:
             (mc.mean, "-", "mean"),
         ):
             axis.axvline(value * 100, color="#b03a2e", linestyle=style, linewidth=1.2, label=label)
+        if finding.nominal_error is not None and finding.verdict != "spread":
+            axis.axvline(finding.nominal_error * 100, color="#2e7d32", linestyle="-.", linewidth=1.2, label="nominal")
         if finding.worst_case is not None:
-            for value in (finding.worst_case.low, finding.worst_case.high):
-                axis.axvline(value * 100, color="black", linestyle="--", linewidth=1.0)
-        what = "spread of the quantity" if finding.verdict == "spread" else "relative error (formula - true)/true"
+            for value, label in ((finding.worst_case.low, "worst case"), (finding.worst_case.high, None)):
+                axis.axvline(value * 100, color="black", linestyle="--", linewidth=1.0, label=label)
         axis.set_title(f"{finding.name}: {finding.quantity} ({finding.verdict})", fontsize=10)
-        axis.set_xlabel(f"{what}, % (dashed: worst case)")
+        axis.set_xlabel(_axis_label(finding))
         axis.set_ylabel(f"samples of {mc.samples:,}")
-        axis.legend(fontsize=8, loc="upper right")
+        axis.legend(fontsize=8, loc="best", framealpha=0.9)
     figure.tight_layout()
     target = audit_plot_path(out)
     write_figure(figure, target)

@@ -70,12 +70,12 @@ def record_date() -> str:
     return moment.strftime("%Y-%m-%dT%H:%M:%SZ")
 
 
-def engineering(value: float, unit: str) -> str:
-    """``value`` with an SI prefix, 4 significant digits: ``4.7 kΩ``, ``470 nF``."""
+def engineering(value: float, unit: str, digits: int = 4) -> str:
+    """``value`` with an SI prefix, ``digits`` significant digits: ``4.7 kΩ``, ``470 nF``."""
     if value == 0 or not math.isfinite(value):
         return f"{value:g} {unit}".strip()
     scale, prefix = next(((s, p) for s, p in _PREFIXES if abs(value) >= s * 0.9999995), _PREFIXES[-1])
-    return f"{value / scale:.4g} {prefix}{unit}".strip()
+    return f"{value / scale:.{digits}g} {prefix}{unit}".strip()
 
 
 def _typeset(expr: sympy.Expr | None) -> dict[str, str | None]:
