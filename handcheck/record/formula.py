@@ -11,6 +11,8 @@ printer's output needs no further escaping (it does not escape symbol names).
 
 from __future__ import annotations
 
+import cmath
+import math
 import re
 from collections.abc import Mapping
 
@@ -19,7 +21,15 @@ import sympy
 from handcheck.errors import HandcheckError
 from handcheck.worksheet.expr import Binary, Call, Name, Node, Number, Unary, parse
 
-__all__ = ["display_tree", "exact_display", "latex_of", "mathml_of", "typeset_formula", "written_value"]
+__all__ = [
+    "display_tree",
+    "exact_display",
+    "latex_of",
+    "mathml_of",
+    "number_display",
+    "typeset_formula",
+    "written_value",
+]
 
 #: Longest exact value typeset in full (characters of its sympy text).
 MAX_EXACT_TEXT = 300
@@ -220,6 +230,26 @@ def typeset_formula(
 def written_value(text: str) -> sympy.Expr | None:
     """A written value (``"4.7 kohm"``, ``"0.63 A /_ -22 deg"``) as a display expression, or None."""
     return typeset_formula(text, frozenset())
+
+
+def number_display(value: sympy.Expr, unit: str = "") -> sympy.Expr:
+    """A program value (a frequency, a source's phasor) shown as a number with its unit:
+    six significant digits, a complex value in polar form (magnitude ∠ angle in deg)."""
+    number = complex(sympy.N(value, 15))
+
+    def digits(x: float) -> sympy.Expr:
+        text = f"{x:.6g}"
+        return sympy.Integer(int(text)) if text.isdigit() and not unit else Digits(text)
+
+    def with_unit(x: float, word: str) -> sympy.Expr:
+        top, _, bottom = word.partition("/")
+        shown = _unit(tuple((w, e) for w, e in ((top, 1), (bottom, -1)) if w))
+        return digits(x) if shown is None else sympy.Mul(digits(x), shown, evaluate=False)
+
+    if number.imag == 0:
+        return with_unit(number.real, unit)
+    angle = math.degrees(cmath.phase(number))
+    return Polar(with_unit(abs(number), unit), sympy.Mul(Digits(f"{angle:.6g}"), _symbol("deg"), evaluate=False))
 
 
 def exact_display(exact: sympy.Expr) -> tuple[sympy.Expr | None, str]:

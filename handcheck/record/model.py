@@ -19,7 +19,14 @@ from typing import Any
 
 import sympy
 
-from handcheck.record.formula import exact_display, latex_of, mathml_of, typeset_formula, written_value
+from handcheck.record.formula import (
+    exact_display,
+    latex_of,
+    mathml_of,
+    number_display,
+    typeset_formula,
+    written_value,
+)
 from handcheck.record.inputs import Inputs
 
 __all__ = ["RECORD_FORMAT", "build_record", "record_date", "results_of", "versions"]
@@ -179,13 +186,29 @@ def _circuit(inputs: Inputs) -> dict[str, Any]:
     }
 
 
-def _step_values(sheet: Any) -> dict[str, sympy.Expr]:
-    """The author's numbers for each name: part values as written, earlier claims as claimed."""
+def _step_values(sheet: Any, circuit: Any) -> dict[str, sympy.Expr]:
+    """The author's numbers for each name a formula may use: part values as written, a
+    source's phasor and the gain of a dependent source as the formula sees them, ``f``
+    and ``w`` (the analysis frequency; ``w`` as 2*pi*f when f is a whole or decimal
+    number), and (added by the caller) earlier claims as claimed."""
+    from handcheck.circuit.kinds import KINDS
+
     values: dict[str, sympy.Expr] = {}
     for part in sheet.parts:
         shown = written_value(part.value) if isinstance(part.value, str) else None
         if shown is not None and part.kind in ("resistor", "inductor", "capacitor"):
             values[part.id] = shown
+    for part in circuit.parts:
+        if part.source is not None:
+            values[part.id] = number_display(part.source.phasor(circuit.phasors, circuit.omega), KINDS[part.kind].unit)
+        elif part.kind in ("vcvs", "cccs", "vccs", "ccvs") and part.value is not None:
+            values.setdefault(part.id, number_display(part.value, KINDS[part.kind].unit))
+    f = circuit.frequency
+    values["f"] = number_display(f, "Hz")
+    if f.is_Rational and f != 0:
+        values["w"] = sympy.Mul(2, sympy.pi, values["f"], evaluate=False)
+    else:
+        values["w"] = number_display(circuit.omega, "rad/s")
     return values
 
 
@@ -300,7 +323,7 @@ def build_record(inputs: Inputs, plots: list[dict[str, str]] | None = None) -> d
     sheet, report = inputs.worksheet, inputs.report
     specs = {spec.name: spec for spec in sheet.steps}
     names = frozenset([p.id for p in sheet.parts] + [s.name for s in sheet.steps] + ["f", "w", "j", "pi"])
-    values = _step_values(sheet)
+    values = _step_values(sheet, inputs.circuit)
     steps = []
     for step in report.steps:
         steps.append(_step(step, specs.get(step.name), names, values))
