@@ -150,3 +150,44 @@ def test_quality_factor_against_its_closed_form() -> None:
     errors = rload * np.sqrt(cf / lf) / q - 1
     worst = found.worst_case
     assert_allclose([worst.low, worst.high], [errors.min(), errors.max()], rtol=1e-6)
+
+
+# An RC snubber across a relay coil (invented): the supplier's damping ratio leaves out
+# the coil's resistance. The loop's denominator is Cs Lc s^2 + Cs (Rc + Rs) s + 1 (two
+# impedances in parallel), so zeta = a1/(2 sqrt(a0 a2)) = (Rc + Rs) sqrt(Cs/Lc)/2
+# (second-order section, from memory).
+SNUBBER = """
+[worksheet]
+format = 1
+title = "relay coil snubber"
+
+[parts]
+Is = { current = "0.1 A", nodes = ["gnd", "a"] }
+Rc = { resistor = "240 ohm", tolerance = "10%", nodes = ["a", "m"] }
+Lc = { inductor = "150 mH", tolerance = "20%", nodes = ["m", "gnd"] }
+Rs = { resistor = "470 ohm", tolerance = "5%", nodes = ["a", "k"] }
+Cs = { capacitor = "100 nF", tolerance = "10%", nodes = ["k", "gnd"] }
+
+[audit]
+samples = 1000
+
+[[formula]]
+name = "zeta_note"
+quantity = "damping_ratio"
+expression = "Rs/2*sqrt(Cs/Lc)"
+"""
+
+
+def test_snubber_damping_shown_with_its_square_factor_outside_the_root() -> None:
+    import sympy
+
+    worksheet = loads(SNUBBER)
+    (found,) = audit(worksheet, build(worksheet))
+    rc, lc, rs, cs = sympy.symbols("Rc Lc Rs Cs")
+    assert found.true_expression == str((rc + rs) * sympy.sqrt(cs / lc) / 2)
+    assert found.holds_when == ("Rc -> 0", "Rs -> oo")
+    assert_allclose(found.nominal_error, 470 / (240 + 470) - 1, rtol=1e-12)
+    # the error Rs/(Rc + Rs) - 1 is monotone: its extremes at the resistors' ends
+    assert_allclose(
+        [found.worst_case.low, found.worst_case.high], [446.5 / (264 + 446.5) - 1, 493.5 / (216 + 493.5) - 1], rtol=1e-9
+    )

@@ -75,34 +75,27 @@ class _Printer(StrPrinter):
         return f"abs({self._print(expr.args[0])})"
 
 
-def _exact_root(poly: sympy.Expr) -> sympy.Expr | None:
-    """The square root of a polynomial that is a perfect square (every factor to an
-    even power, a square coefficient), up to sign; otherwise None."""
+def _split_square(poly: sympy.Expr) -> tuple[sympy.Expr, sympy.Expr]:
+    """poly = root**2 * rest, with root the product of every factor's even part."""
     coefficient, factors = sympy.factor_list(poly)
-    root = sympy.sqrt(coefficient)
-    if not (coefficient > 0 and root.is_Rational) or any(power % 2 for _, power in factors):
-        return None
-    return sympy.Mul(root, *(base ** (power // 2) for base, power in factors))
+    root = sympy.Mul(*(base ** (power // 2) for base, power in factors))
+    rest = coefficient * sympy.Mul(*(base ** (power % 2) for base, power in factors))
+    return root, rest
 
 
 def _square_root(square: sympy.Expr) -> sympy.Expr:
-    """sqrt of a square of a rational function: abs(N/D) when numerator and denominator
-    are perfect squares (sqrt((a + b)**2/c**2) reads as abs((a + b)/c)), the root of
-    either one taken out when only it is a square (sqrt(a/b**2) reads as sqrt(a)/b);
-    abs is left out where positive parts make the root positive; sqrt else."""
+    """sqrt of a square of a rational function, every square factor taken out of the root:
+    sqrt((a + b)**2/c**2) reads as abs((a + b)/c), sqrt(a*(b + c)**2/d) as
+    (b + c)*sqrt(a/d); abs is left out where positive parts make the factor positive."""
     numerator, denominator = sympy.fraction(sympy.together(square))
-    if (
-        numerator.free_symbols | denominator.free_symbols
-        and len(sympy.Add.make_args(sympy.expand(numerator))) <= MAX_FACTOR_TERMS
-    ):
-        top, bottom = _exact_root(numerator), _exact_root(denominator)
-        if top is not None and bottom is not None:
-            return _magnitude(top / bottom)
-        if bottom is not None and len(sympy.Add.make_args(sympy.expand(denominator))) <= MAX_FACTOR_TERMS:
-            return sympy.sqrt(numerator) / _magnitude(bottom)
-        if top is not None:
-            return _magnitude(top) / sympy.sqrt(denominator)
-    return sympy.sqrt(square)
+    small = all(len(sympy.Add.make_args(sympy.expand(p))) <= MAX_FACTOR_TERMS for p in (numerator, denominator))
+    if not (numerator.free_symbols | denominator.free_symbols) or not small:
+        return sympy.sqrt(square)
+    (top, top_rest), (bottom, bottom_rest) = _split_square(numerator), _split_square(denominator)
+    outside = _magnitude(top / bottom)
+    if top_rest.is_negative or bottom_rest.is_negative:  # sqrt of a negative: leave it whole
+        return sympy.sqrt(square)
+    return outside * sympy.sqrt(top_rest / bottom_rest)
 
 
 def _magnitude(expr: sympy.Expr) -> sympy.Expr:
