@@ -31,6 +31,7 @@ def _part(spec: PartSpec) -> Part:
         inductors=spec.inductors,
         initial=spec.initial,
         line=spec.line,
+        gbw=spec.gbw,
     )
 
 

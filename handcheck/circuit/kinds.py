@@ -61,7 +61,7 @@ _TABLE: dict[str, KindInfo] = {
     "vccs": KindInfo("S", 2, ("nodes", "control"), "transconductance"),
     "cccs": KindInfo("", 2, ("nodes", "control"), "current gain"),
     "ccvs": KindInfo("ohm", 2, ("nodes", "control"), "transresistance"),
-    "opamp": KindInfo("", 3, ("nodes",), '"ideal" or a finite open-loop DC gain'),
+    "opamp": KindInfo("", 3, ("nodes", "gbw"), '"ideal" or a finite open-loop DC gain; gbw: gain-bandwidth product'),
     "coupling": KindInfo("", 0, ("inductors",), "coupling coefficient in [-1, 1]"),
     "transformer": KindInfo("", 4, ("nodes",), 'turns ratio "N1:N2"'),
     "switch": KindInfo("", 2, ("nodes",), '"opens" or "closes" at t = 0'),

@@ -215,6 +215,8 @@ class _Builder:
             self.voltage_row(branch, (nodes[1], nodes[2]), sympy.Integer(1))
             if part.value != 0:  # a finite open-loop gain A: v(+) - v(-) - v(out)/A = 0
                 self.add(self.G, branch, self.v(nodes[0]), -1 / part.value)
+            if part.gbw is not None:  # A(s) = A0/(1 + s A0/gbw): v(+) - v(-) - v(out)/A0 - s v(out)/gbw = 0
+                self.add(self.C, branch, self.v(nodes[0]), -1 / part.gbw)
         elif kind == "transformer":
             primary, secondary = self.transformers[part.id]
             n = part.value

@@ -87,7 +87,9 @@ class Part:
 
     ``value`` is the exact value in coherent SI units: ohms, henries, farads, the
     source amplitude (peak), a gain, a coupling coefficient, or a turns ratio
-    N2/N1 for a transformer.
+    N2/N1 for a transformer. ``gbw`` is an op-amp's gain-bandwidth product as an
+    angular frequency (rad/s; None: no pole, the gain is flat): its open-loop gain
+    is ``A(s) = A0 / (1 + s*A0/gbw)``, one pole at gbw/A0.
     """
 
     id: str
@@ -99,6 +101,7 @@ class Part:
     inductors: tuple[str, ...] = ()
     initial: sympy.Expr | None = None
     line: int | None = None
+    gbw: sympy.Expr | None = None
 
 
 @dataclass(frozen=True)

@@ -134,7 +134,9 @@ def assemble(circuit: Circuit, *, switches: Literal["after", "before"] = "after"
     -----
     Stamps are the usual modified-nodal ones (Ho, Ruehli and Brennan 1975, from
     memory); an ideal op-amp imposes v(+) = v(-) and lets its output current be
-    whatever is needed; an ideal transformer with n = N2/N1 imposes
+    whatever is needed; a finite gain A0 makes it v(+) - v(-) = v(out)/A0, and a
+    gain-bandwidth product gbw (rad/s) adds v(out)'/gbw, the one-pole open loop
+    A(s) = A0/(1 + s A0/gbw) written in time; an ideal transformer with n = N2/N1 imposes
     ``v_s = n v_p`` and ``i_p + n i_s = 0`` with both currents entering the dotted
     ends (textbook ideal-transformer relations, from memory).
     """
@@ -204,6 +206,8 @@ def assemble(circuit: Circuit, *, switches: Literal["after", "before"] = "after"
             voltage_row(G, io, plus, minus, 1.0)
             if part.value != 0:  # finite open-loop gain A: v(+) - v(-) - v(out)/A = 0
                 add(G, io, out, -1.0 / float(part.value))
+            if part.gbw is not None:  # one pole, A(s) = A0/(1 + s A0/gbw): ... - v(out)'/gbw = 0
+                add(E, io, out, -1.0 / float(part.gbw))
             Jx[key_index[part.id], io] = 1.0
             continue
         if kind == "transformer":

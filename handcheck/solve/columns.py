@@ -24,7 +24,7 @@ __all__ = ["Column", "combine", "energy_vector", "laplace_s", "node_form", "shap
 
 
 def energy_vector(system: MnaSystem, circuit: Circuit, part: Part) -> list[Any]:
-    """``C x(0-)`` for a unit initial voltage (capacitor) or current (inductor) of one part."""
+    """``C x(0-)`` for a unit initial voltage (capacitor, an op-amp's output) or current (inductor) of one part."""
     import sympy
 
     zero = sympy.Integer(0)
@@ -37,6 +37,9 @@ def energy_vector(system: MnaSystem, circuit: Circuit, part: Part) -> list[Any]:
                 row = system.node(node)
                 if row is not None:
                     rhs[row] += sign * part.value
+    elif part.kind == "opamp":  # the pole's state v(out): its row holds -v(out)/gbw in C
+        branch = system.branches[part.id]
+        rhs[branch] += system.C[branch][system.nodes[part.nodes[0]]]
     else:  # inductor: its column of C holds -L on its row and -M on each coupled inductor's row
         col = system.branches[part.id]
         for row in range(system.size):

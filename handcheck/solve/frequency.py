@@ -26,6 +26,7 @@ import sympy
 from handcheck.errors import ParseError
 from handcheck.solve.network import laplace_symbol, solve_rational
 from handcheck.solve.phasor import Solution
+from handcheck.solve.rational import pi_field
 from handcheck.worksheet.evaluate import Value
 from handcheck.worksheet.units import Dim, dim_of
 
@@ -101,7 +102,7 @@ def _response(expr: sympy.Expr, dim: Dim, text: str) -> Response:
     except sympy.PolynomialError:
         raise _fail(f"{text} is no rational function of s", text) from None
     for poly in (n, d):
-        if not (poly.domain.is_QQ or poly.domain.is_ZZ or poly.domain.is_Algebraic):
+        if not (poly.domain.is_QQ or poly.domain.is_ZZ or poly.domain.is_Algebraic or pi_field(poly.domain)):
             raise _fail(
                 f"{text} depends on how the sources' phases combine (coefficients {poly.domain}); "
                 "name a ratio driven by one source",
@@ -190,7 +191,16 @@ def _positive_roots(poly: sympy.Poly) -> list[sympy.Expr]:
     if poly.is_zero or poly.degree() <= 0:
         return []
     squarefree = sympy.Poly(sympy.quo(poly, sympy.gcd(poly, poly.diff())), poly.gen)
-    if not squarefree.domain.is_QQ and not squarefree.domain.is_ZZ:
+    if pi_field(squarefree.domain):  # pi from an op-amp's gbw in Hz: the roots of handcheck.solve.roots
+        from handcheck.solve.roots import factor_roots
+
+        roots = [
+            r.exact if r.exact is not None else _number(r.approx).as_real_imag()[0]
+            for f in factor_roots(squarefree.monic())
+            for r in f.roots
+            if r.imag_sign == 0 and r.real_sign > 0
+        ]
+    elif not squarefree.domain.is_QQ and not squarefree.domain.is_ZZ:
         roots = [r for r in sympy.real_roots(squarefree)]
     else:
         roots = squarefree.real_roots()

@@ -1,5 +1,8 @@
 """The capacitor voltages and inductor currents at t = 0-, for both ways of starting.
 
+(And the output voltage of each op-amp with a gain-bandwidth product: its one pole
+holds a state, which starts at 0 at rest.)
+
 ``start = "rest"``: each one's ``initial`` value (0 if none). ``start = "steady"``:
 the circuit before t = 0 (each switch in its earlier state) sat in its steady state,
 driven by what each source was before t = 0; that state is the DC solution plus the
@@ -17,7 +20,7 @@ from handcheck.errors import CircuitError
 from handcheck.solve.exact import compact
 from handcheck.worksheet.sourcefunction import SourceFunction, SourceTerm
 
-__all__ = ["rest_state", "steady_state"]
+__all__ = ["rest_state", "steady_state", "stores_state"]
 
 
 def rest_state(circuit: Circuit) -> dict[str, Any]:
@@ -33,11 +36,13 @@ def rest_state(circuit: Circuit) -> dict[str, Any]:
     """
     import sympy
 
-    return {
-        p.id: (p.initial if p.initial is not None else sympy.Integer(0))
-        for p in circuit.parts
-        if p.kind in ("capacitor", "inductor")
-    }
+    return {p.id: (p.initial if p.initial is not None else sympy.Integer(0)) for p in circuit.parts if stores_state(p)}
+
+
+def stores_state(part: Part) -> bool:
+    """Whether a part holds a state variable: a capacitor's voltage, an inductor's
+    current, or the output voltage of an op-amp with a gain-bandwidth product (its pole)."""
+    return part.kind in ("capacitor", "inductor") or (part.kind == "opamp" and part.gbw is not None)
 
 
 def steady_state(circuit: Circuit) -> dict[str, Any]:
@@ -66,7 +71,7 @@ def steady_state(circuit: Circuit) -> dict[str, Any]:
 
     zero = sympy.Integer(0)
     before = [dataclasses.replace(p, value=1 - p.value) if p.kind == "switch" else p for p in circuit.parts]
-    reactive = [p for p in before if p.kind in ("capacitor", "inductor")]
+    reactive = [p for p in before if stores_state(p)]
     state = {p.id: zero for p in reactive}
 
     def solve(parts: list[Part], omega: Any, what: str) -> Any:
@@ -84,7 +89,7 @@ def steady_state(circuit: Circuit) -> dict[str, Any]:
 
     def collect(solution: Any, real_part: bool) -> None:
         for p in reactive:
-            value = phasor.part_voltage(solution, p) if p.kind == "capacitor" else phasor.part_current(solution, p)
+            value = phasor.part_current(solution, p) if p.kind == "inductor" else phasor.part_voltage(solution, p)
             if real_part:
                 value = sympy.expand_complex(value).as_real_imag()[0]
             state[p.id] = state[p.id] + value

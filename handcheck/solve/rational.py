@@ -17,7 +17,7 @@ from typing import TYPE_CHECKING, Any
 if TYPE_CHECKING:  # pragma: no cover - typing only
     import sympy
 
-__all__ = ("RationalFunction", "laplace_symbol", "number_field", "to_sympy_number")
+__all__ = ("RationalFunction", "laplace_symbol", "number_field", "pi_field", "to_sympy_number")
 
 
 def laplace_symbol() -> sympy.Symbol:
@@ -188,6 +188,17 @@ def to_sympy_number(x: Any) -> sympy.Expr:
     raise TypeError(f"unsupported entry type {type(x).__name__}: {x!r}")
 
 
+def pi_field(domain: Any) -> bool:
+    """Whether a coefficient domain is QQ(pi) (or ZZ[pi]): exact, with pi as a transcendental.
+
+    An op-amp's gain-bandwidth product written in Hz is 2*pi times a rational in
+    rad/s, so pi enters the equations themselves, not only the analysis frequency.
+    """
+    import sympy
+
+    return bool(domain.is_PolynomialRing or domain.is_FractionField) and tuple(domain.symbols) == (sympy.pi,)
+
+
 def number_field(exprs: list) -> tuple[Any, list]:
     """Smallest exact number field holding ``exprs``, and the converted elements.
 
@@ -199,20 +210,24 @@ def number_field(exprs: list) -> tuple[Any, list]:
     Returns
     -------
     tuple
-        ``(K, elements)`` with ``K`` one of ``QQ``, ``QQ_I`` or an algebraic
+        ``(K, elements)`` with ``K`` one of ``QQ``, ``QQ_I``, an algebraic
         field ``QQ<a>`` (primitive element), from
-        ``sympy.polys.constructor.construct_domain(..., extension=True)``.
+        ``sympy.polys.constructor.construct_domain(..., extension=True)``, or the
+        field ``QQ(pi)`` when pi is the one transcendental (see :func:`pi_field`).
 
     Raises
     ------
     TypeError
-        If the numbers are not all algebraic (e.g. ``pi``).
+        If the numbers are neither all algebraic nor all in ``QQ(pi)``.
     """
     from sympy.polys.constructor import construct_domain
 
     K, elems = construct_domain(exprs, extension=True)
     if K.is_ZZ or K.is_ZZ_I:
         F = K.get_field()
+        return F, [F.convert(e, K) for e in elems]
+    if pi_field(K):
+        F = K.get_field()  # pi from a gain-bandwidth product in Hz: the field QQ(pi), pi transcendental
         return F, [F.convert(e, K) for e in elems]
     if not (K.is_QQ or K.is_QQ_I or K.is_AlgebraicField):
         raise TypeError(f"entries must be rational or algebraic numbers; they span {K}")

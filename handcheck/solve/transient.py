@@ -53,7 +53,7 @@ from handcheck.solve.columns import (
     timeout_error,
     to_time,
 )
-from handcheck.solve.initialstate import rest_state, steady_state
+from handcheck.solve.initialstate import rest_state, steady_state, stores_state
 from handcheck.solve.laplace import Piece, PoleBook, inverse_laplace
 from handcheck.solve.roots import Factor, irreducible_factors, roots_of_irreducible
 from handcheck.solve.sourcetransforms import Basis, basis_one, source_waves
@@ -404,7 +404,7 @@ def transient_solution(
     state = rest_state(circuit) if start == "rest" else steady_state(circuit)
 
     horizon, valid = _horizon(circuit, until)
-    reactive = [p for p in circuit.parts if p.kind in ("capacitor", "inductor")]
+    reactive = [p for p in circuit.parts if stores_state(p)]
     energy = {p.id: energy_vector(system, circuit, p) for p in reactive}
 
     # natural modes first: a generic stored-energy vector excites every mode

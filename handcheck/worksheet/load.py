@@ -398,7 +398,7 @@ class _Reader:
         if old and kind in ("voltage", "current"):
             raise self.old_keys(ident, kind, body, old, line)
         for key in body:
-            if key != kind and key not in allowed and key not in _VARIATION_KEYS:
+            if key != kind and key not in allowed and key not in (*_VARIATION_KEYS, "gbw"):  # gbw: read_part_values
                 raise self.fail(
                     f'part "{ident}" ({kind}) has an unknown key "{key}"{_suggest(key, allowed)}; '
                     f"a {kind} takes: {', '.join((kind, *allowed))}",
@@ -431,7 +431,7 @@ class _Reader:
                 raise self.fail(
                     f'part "{ident}" ({kind}) needs control = "<part id>", the part whose current controls it', line
                 )
-        keys = {key: self.string(body, key, where, line=line) for key in ("frequency", "phase", "initial")}
+        keys = {key: self.string(body, key, where, line=line) for key in ("frequency", "phase", "initial", "gbw")}
         values = read_part_values(ident, kind, raw, keys, file=self.path, line=line)
         return PartSpec(
             id=ident,
@@ -445,6 +445,7 @@ class _Reader:
             source=values.source,
             rms=values.rms,
             initial=values.initial,
+            gbw=values.gbw,
         )
 
     def old_keys(self, ident: str, kind: str, body: dict[str, Any], old: list[str], line: int | None) -> WorksheetError:

@@ -29,7 +29,8 @@ class PartSpec:
     ``value`` is the kind's value as written; ``number`` its exact value in SI units
     (see :class:`~handcheck.worksheet.partvalues.PartValues`), ``source`` a source's
     function of time, ``rms`` whether its amplitude was written as rms, ``initial``
-    the exact state of a capacitor or inductor at t = 0-.
+    the exact state of a capacitor or inductor at t = 0-, ``gbw`` an op-amp's
+    gain-bandwidth product in rad/s.
     """
 
     id: str
@@ -43,6 +44,7 @@ class PartSpec:
     source: SourceFunction | None = None
     rms: bool = False
     initial: sympy.Expr | None = None
+    gbw: sympy.Expr | None = None
 
 
 @dataclass(frozen=True)

@@ -45,12 +45,15 @@ class PartValues:
         The source's amplitude was written as an rms value.
     initial : sympy.Expr or None
         A capacitor's voltage or inductor's current at t = 0-.
+    gbw : sympy.Expr or None
+        An op-amp's gain-bandwidth product as an angular frequency (rad/s).
     """
 
     number: sympy.Expr
     source: SourceFunction | None = None
     rms: bool = False
     initial: sympy.Expr | None = None
+    gbw: sympy.Expr | None = None
 
 
 _RATIO = re.compile(r"\s*([0-9.]+(?:[eE][+-]?\d+)?)\s*:\s*([0-9.]+(?:[eE][+-]?\d+)?)\s*\Z")
@@ -60,7 +63,7 @@ _AMPLITUDE_KIND = re.compile(r"^(.*?[^\s])\s*(rms|peak|pk)$", re.IGNORECASE | re
 def read_part_values(
     ident: str, kind: str, value: Any, body: dict[str, Any], *, file: str, line: int | None
 ) -> PartValues:
-    """Read the value keys of one part (its kind's key, ``frequency``, ``phase``, ``initial``).
+    """Read the value keys of one part (its kind's key, ``frequency``, ``phase``, ``initial``, ``gbw``).
 
     Parameters
     ----------
@@ -85,6 +88,12 @@ def read_part_values(
         For a value in the wrong unit, out of range, or unreadable.
     """
     where: Where = {"file": file, "line": line}
+    if kind != "opamp" and body.get("gbw") is not None:
+        raise WorksheetError(
+            f'{ident} is a {kind}; only an op-amp with a finite open-loop gain takes "gbw", '
+            f'like {{ opamp = "200000", gbw = "1 MHz", nodes = ["out", "p", "n"] }}',
+            **where,
+        )
     if kind in ("voltage", "current"):
         return _source(ident, kind, value, body, file, line)
     text = str(value)
@@ -93,16 +102,8 @@ def read_part_values(
         if action not in ("opens", "closes"):
             raise WorksheetError(f'switch {ident} must be written switch = "opens" or "closes" (at t = 0)', **where)
         return PartValues(sympy.Integer(1 if action == "closes" else 0))
-    if kind == "opamp":  # 0 stands for ideal; else the finite open-loop DC gain
-        if text.strip().lower() == "ideal":
-            return PartValues(sympy.Integer(0))
-        gain = read_value(text, "", f"the gain of op-amp {ident}", **where)
-        if gain <= 0:
-            raise WorksheetError(
-                f'op-amp {ident} must be written opamp = "ideal" or with a positive open-loop gain, like opamp = "200000"',
-                **where,
-            )
-        return PartValues(gain)
+    if kind == "opamp":
+        return _opamp(ident, text, body.get("gbw"), where)
     if kind == "transformer":
         match = _RATIO.match(text)
         if not match:
@@ -134,6 +135,27 @@ def read_part_values(
             raise WorksheetError(f'{ident} is a {kind}; only capacitors and inductors take "initial"', **where)
         initial = read_value(str(body["initial"]), unit, f"the initial value of {ident}", **where)
     return PartValues(number, initial=initial)
+
+
+def _opamp(ident: str, text: str, gbw: str | None, where: Where) -> PartValues:
+    """0 stands for ideal; else the finite open-loop DC gain, and with ``gbw`` its one pole."""
+    if text.strip().lower() == "ideal":
+        if gbw is not None:
+            raise WorksheetError(
+                f"op-amp {ident} is ideal, so it has no gain-bandwidth product; give its open-loop DC gain "
+                f'with the gbw, like opamp = "200000", gbw = "{gbw}", or remove gbw',
+                **where,
+            )
+        return PartValues(sympy.Integer(0))
+    gain = read_value(text, "", f"the gain of op-amp {ident}", **where)
+    if gain <= 0:
+        raise WorksheetError(
+            f'op-amp {ident} must be written opamp = "ideal" or with a positive open-loop gain, like opamp = "200000"',
+            **where,
+        )
+    if gbw is None:
+        return PartValues(gain)
+    return PartValues(gain, gbw=read_frequency(gbw, f"the gain-bandwidth product (gbw) of op-amp {ident}", **where))
 
 
 def _source(ident: str, kind: str, value: Any, body: dict[str, Any], file: str, line: int | None) -> PartValues:

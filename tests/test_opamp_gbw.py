@@ -1,0 +1,292 @@
+"""An op-amp with a gain-bandwidth product (``gbw``): one pole, checked against outside sources.
+
+The model is the one-pole open loop A(s) = A0/(1 + s/wp) with wp = 2*pi*gbw/A0 (the
+dominant-pole model of an internally compensated op-amp). Each check names its
+source: the closed-loop results of Sedra & Smith, *Microelectronic Circuits*,
+chapter "Operational amplifiers", section "Effect of finite open-loop gain and
+bandwidth on circuit performance" (from memory; edition-independent, section number
+not checked): the closed-loop gain A/(1 + A*beta), its exact -3 dB angular frequency
+wp*(1 + A0*beta) and the approximation GBW/(noise gain) for large A0; scipy.signal
+(``freqs``, ``step``) as the reference library for the same one-pole model; the
+first-order step response 1 - exp(-t/tau) (any circuits text, from memory).
+Component values are invented.
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+import numpy as np
+import pytest
+import sympy
+from numpy.testing import assert_allclose
+
+import handcheck
+from handcheck.circuit.build import build
+from handcheck.errors import CircuitError, UnitError, WorksheetError
+from handcheck.pipeline import run_text
+from handcheck.solve.phasor import solve
+from handcheck.solve.quantities import evaluate_quantity, parse_quantity
+from handcheck.solve.transient import transient_solution
+
+A0 = 200_000
+GBW = 10**6  # Hz
+BETA = sympy.Rational(1, 10)  # Rg/(Rf + Rg) with Rf = 9 kohm, Rg = 1 kohm
+WP = 2 * sympy.pi * GBW / A0  # rad/s, the open-loop pole
+S = sympy.Symbol("s")
+H = "network_function(voltage(out), voltage(in))"
+
+
+def worksheet(parts: str, head: str = "", steps: str = "") -> str:
+    return f'[worksheet]\nformat = 1\ntitle = "one-pole op-amp"\n{head}\n[parts]\n{parts}\n{steps}'
+
+
+NONINVERTING = f"""
+Vin = {{ voltage = "0.1 V", frequency = "20 kHz", nodes = ["in", "gnd"] }}
+U1 = {{ opamp = "{A0}", gbw = "1 MHz", nodes = ["out", "in", "n"] }}
+Rf = {{ resistor = "9 kohm", tolerance = "1%", nodes = ["out", "n"] }}
+Rg = {{ resistor = "1 kohm", tolerance = "1%", nodes = ["n", "gnd"] }}
+"""
+
+
+def exact(parts: str, quantity: str, head: str = "") -> sympy.Expr:
+    """The exact value handcheck derives for a quantity."""
+    solution = solve(build(handcheck.loads(worksheet(parts, head))))
+    return evaluate_quantity(solution, parse_quantity(quantity)).expr
+
+
+def closed_loop() -> sympy.Expr:
+    """A/(1 + A*beta) with the one-pole A(s) (Sedra & Smith, from memory), built here in sympy."""
+    a = A0 / (1 + S / WP)
+    return sympy.cancel(a / (1 + a * BETA))
+
+
+# --------------------------------------------------------------------------
+# reading the worksheet
+# --------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("text", ["1 MHz", "1000 kHz", "1000000 Hz"])
+def test_gbw_reads_hz_khz_mhz_as_the_same_exact_angular_frequency(text):
+    parts = f'V1 = {{ voltage = "1 V", nodes = ["p", "gnd"] }}\nU1 = {{ opamp = "1000", gbw = "{text}", nodes = ["o", "p", "o"] }}'
+    part = build(handcheck.loads(worksheet(parts))).part("U1")
+    assert part.value == 1000
+    assert sympy.simplify(part.gbw - 2 * sympy.pi * 10**6) == 0
+
+
+def test_gbw_in_rad_per_second_stays_rational():
+    parts = 'V1 = { voltage = "1 V", nodes = ["p", "gnd"] }\nU1 = { opamp = "1000", gbw = "6283185 rad/s", nodes = ["o", "p", "o"] }'
+    assert build(handcheck.loads(worksheet(parts))).part("U1").gbw == 6283185
+
+
+def test_gbw_on_an_ideal_op_amp_says_to_give_the_gain():
+    parts = 'V1 = { voltage = "1 V", nodes = ["p", "gnd"] }\nU1 = { opamp = "ideal", gbw = "1 MHz", nodes = ["o", "p", "o"] }'
+    with pytest.raises(WorksheetError) as info:
+        handcheck.loads(worksheet(parts))
+    assert "op-amp U1 is ideal" in info.value.message
+    assert 'opamp = "200000", gbw = "1 MHz"' in info.value.message
+
+
+@pytest.mark.parametrize(
+    ("line", "kind"),
+    [
+        ('R2 = { resistor = "1 kohm", gbw = "1 MHz", nodes = ["p", "gnd"] }', "resistor"),
+        ('V2 = { voltage = "1 V", gbw = "1 MHz", nodes = ["q", "gnd"] }', "voltage"),
+        ('amp_e = { vcvs = "10", gbw = "1 MHz", control = ["p", "gnd"], nodes = ["e", "gnd"] }', "vcvs"),
+    ],
+)
+def test_gbw_on_another_kind_names_the_part_and_the_op_amp_form(line, kind):
+    parts = 'V1 = { voltage = "1 V", nodes = ["p", "gnd"] }\n' + line
+    with pytest.raises(WorksheetError) as info:
+        handcheck.loads(worksheet(parts))
+    ident = line.split()[0]
+    assert info.value.message.startswith(
+        f'{ident} is a {kind}; only an op-amp with a finite open-loop gain takes "gbw"'
+    )
+    assert 'opamp = "200000", gbw = "1 MHz"' in info.value.message
+
+
+@pytest.mark.parametrize("text", ["1 V", "-1 MHz", "0 Hz", "1000000"])
+def test_gbw_must_be_a_positive_frequency(text):
+    parts = f'V1 = {{ voltage = "1 V", nodes = ["p", "gnd"] }}\nU1 = {{ opamp = "1000", gbw = "{text}", nodes = ["o", "p", "o"] }}'
+    with pytest.raises(UnitError) as info:
+        handcheck.loads(worksheet(parts))
+    assert "gain-bandwidth product (gbw) of op-amp U1" in info.value.message
+    assert "must be a positive frequency in Hz or rad/s" in info.value.message
+
+
+def test_gbw_in_hz_with_an_irrational_mutual_inductance_is_refused_clearly():
+    # The catalogue case (tests/malformed) checks the command line's message word for word.
+    path = Path(__file__).parent / "malformed" / "opamp_gbw_with_coupling.toml"
+    with pytest.raises(CircuitError) as info:
+        build(handcheck.load(str(path)))
+    assert info.value.parts == ("U1", "link12")
+    assert "write the gbw in rad/s" in info.value.message
+
+
+# --------------------------------------------------------------------------
+# exact equations: network function, cutoff, DC, steady state, poles
+# --------------------------------------------------------------------------
+
+
+def test_network_function_is_the_closed_loop_gain_of_the_one_pole_model():
+    # Sedra & Smith (from memory): A(s) = A0/(1 + s/wp), closed loop A/(1 + A*beta),
+    # = A0*wp/(s + wp*(1 + A0*beta)).
+    found = exact(NONINVERTING, H)
+    assert sympy.simplify(found - closed_loop()) == 0
+    assert sympy.simplify(found - A0 * WP / (S + WP * (1 + A0 * BETA))) == 0
+
+
+def test_cutoff_is_wp_times_one_plus_loop_gain_and_near_gbw_over_noise_gain():
+    # Exact closed-loop -3 dB angular frequency wp*(1 + A0*beta); for large A0 it
+    # tends to GBW*beta = GBW/(noise gain) (Sedra & Smith, from memory).
+    fc = exact(NONINVERTING, f"cutoff_frequency({H})")
+    assert sympy.simplify(fc - WP * (1 + A0 * BETA) / (2 * sympy.pi)) == 0
+    approx = GBW * BETA
+    relative = float((fc - approx) / approx)
+    assert_allclose(relative, 1 / float(A0 * BETA), rtol=1e-12)  # exactly 1/(A0*beta) here
+
+
+def test_dc_gain_uses_the_dc_open_loop_gain():
+    # At s = 0 the open-loop gain is A0: A0/(1 + A0*beta), the finite-gain result
+    # (Sedra & Smith, from memory); the DC phasor of a constant source agrees.
+    assert exact(NONINVERTING, f"dc_gain({H})") == sympy.Rational(A0) / (1 + A0 * BETA)
+    dc_parts = NONINVERTING.replace('"0.1 V", frequency = "20 kHz"', '"0.1 V"')
+    assert exact(dc_parts, "voltage(out)") == sympy.Rational(1, 10) * A0 / (1 + A0 * BETA)
+
+
+def test_pole_is_minus_wp_times_one_plus_loop_gain():
+    # The closed loop's one pole, -wp*(1 + A0*beta) (Sedra & Smith, from memory).
+    solution = solve(build(handcheck.loads(worksheet(NONINVERTING))))
+    (pole,) = evaluate_quantity(solution, parse_quantity(f"poles({H})"))
+    assert sympy.simplify(pole.expr + WP * (1 + A0 * BETA)) == 0
+
+
+@pytest.mark.parametrize("hz", [1e3, 20e3, 100e3, 1e6])
+def test_gain_and_phase_at_frequency_match_scipy_freqs_of_the_one_pole_model(hz):
+    # Reference: scipy.signal.freqs of the open loop A(s) = A0*wp/(s + wp), closed
+    # with A/(1 + A*beta) in numpy (Sedra & Smith's closed-loop relation, from memory).
+    from scipy.signal import freqs
+
+    wp = float(WP)
+    _, a = freqs([A0 * wp], [1.0, wp], worN=[2 * math.pi * hz])
+    reference = a[0] / (1 + a[0] * float(BETA))
+    inner = f'at_frequency(transfer(voltage(out), voltage(in)), "{hz:g} Hz")'
+    magnitude = exact(NONINVERTING, f"magnitude({inner})")
+    phase = exact(NONINVERTING, f"phase({inner})")
+    assert_allclose(float(magnitude), abs(reference), rtol=1e-12)
+    assert_allclose(float(phase), np.angle(reference), rtol=1e-12, atol=1e-15)
+
+
+def test_steady_phasor_at_the_source_frequency_matches_scipy_and_the_fitted_simulation():
+    from scipy.signal import freqs
+
+    wp = float(WP)
+    _, a = freqs([A0 * wp], [1.0, wp], worN=[2 * math.pi * 20e3])
+    reference = 0.1 * a[0] / (1 + a[0] * float(BETA))
+    assert_allclose(complex(exact(NONINVERTING, "voltage(out)")), reference, rtol=1e-12)
+    result = run_text(worksheet(NONINVERTING, steps=STEP_VOUT), evidence=True)
+    fitted = {name: fit for name, fit, _ in result.evidence.phasors}
+    assert_allclose(fitted["voltage(out)"], reference, rtol=1e-9)
+
+
+STEP_VOUT = '[[step]]\nname = "vo"\nquantity = "voltage(out)"\nclaim = "0.98 V /_ -11.3 deg"\n'
+
+
+def test_audit_of_gbw_over_noise_gain_reports_the_exact_relative_error():
+    # GBW*beta against wp*(1 + A0*beta): (GBW*beta)/(wp*(1 + A0*beta)) - 1
+    # = -1/(1 + A0*beta) at the nominal values (Sedra & Smith's relations, from memory).
+    text = worksheet(
+        NONINVERTING,
+        steps=(
+            f'[[formula]]\nname = "approx"\nquantity = "cutoff_frequency({H})"\nexpression = "1 MHz*Rg/(Rf + Rg)"\n'
+        ),
+    )
+    (finding,) = run_text(text).audit
+    assert finding.verdict == "differs"
+    assert_allclose(finding.nominal_error, -1 / (1 + A0 * float(BETA)), rtol=1e-9)
+
+
+def test_audit_with_the_gain_as_symbol_finds_the_rule_holds_as_the_gain_grows():
+    # The rule of thumb GBW/(noise gain) is the limit A0 -> oo of wp*(1 + A0*beta)
+    # (Sedra & Smith, from memory); over A0 in [50000, 200000] its error is
+    # -1/(1 + A0*beta), lowest at A0 = 50000.
+    parts = NONINVERTING.replace(f'opamp = "{A0}",', f'opamp = "{A0}", range = ["50000", "{A0}"],').replace(
+        ', tolerance = "1%"', ""
+    )
+    text = worksheet(
+        parts,
+        steps=(
+            '[audit]\nsymbols = ["U1"]\n[[formula]]\nname = "approx"\n'
+            f'quantity = "cutoff_frequency({H})"\nexpression = "1 MHz*Rg/(Rf + Rg)"\n'
+        ),
+    )
+    (finding,) = run_text(text).audit
+    assert finding.holds_when == ("U1 -> oo",)
+    assert finding.worst_case is not None
+    assert_allclose(finding.worst_case.low, -1 / (1 + 50_000 * float(BETA)), rtol=1e-9)
+    assert_allclose(finding.worst_case.high, -1 / (1 + A0 * float(BETA)), rtol=1e-9)
+
+
+# --------------------------------------------------------------------------
+# transients: follower step, closed form and the independent simulation
+# --------------------------------------------------------------------------
+
+A_F = 1000
+FOLLOWER = f"""
+Vin = {{ voltage = "1*step(t) V", nodes = ["in", "gnd"] }}
+U1 = {{ opamp = "{A_F}", gbw = "100 kHz", nodes = ["out", "in", "out"] }}
+RL = {{ resistor = "10 kohm", nodes = ["out", "gnd"] }}
+"""
+WP_F = 2 * sympy.pi * 100_000 / A_F
+TAU_F = 1 / (WP_F * (1 + A_F))  # follower: beta = 1
+
+
+def test_follower_time_constant_is_one_over_wp_times_one_plus_a0():
+    circuit = build(handcheck.loads(worksheet(FOLLOWER)))
+    tau = transient_solution(circuit).time_constant()
+    assert sympy.simplify(tau - TAU_F) == 0
+
+
+def test_follower_step_closed_form_and_simulation_against_scipy_step():
+    # Reference: the first-order step A0/(1 + A0)*(1 - exp(-t/tau)) (from memory),
+    # and scipy.signal.step of the closed loop A0*wp/(s + wp*(1 + A0)).
+    from scipy.signal import step
+
+    circuit = build(handcheck.loads(worksheet(FOLLOWER)))
+    wave = transient_solution(circuit).node_voltage("out").as_expr()
+    t = sympy.Symbol("t")
+    final = sympy.Rational(A_F, 1 + A_F)
+    closed = final * (1 - sympy.exp(-t / TAU_F))
+    for point in (sympy.Rational(1, 10**7), sympy.Rational(159, 10**8), sympy.Rational(1, 10**5)):
+        assert sympy.N(wave.subs(t, point) - closed.subs(t, point), 30) == pytest.approx(0, abs=1e-25)
+
+    steps = '[[step]]\nname = "tau"\nquantity = "time_constant"\nclaim = "1.59 us"\n'
+    result = run_text(worksheet(FOLLOWER, steps=steps), evidence=True)
+    assert result.evidence.ok
+    sim = result.evidence.simulation
+    times = np.asarray(sim.times)
+    simulated = np.asarray(sim.voltages["out"])
+    tau = float(TAU_F)
+    assert_allclose(simulated, float(final) * (1 - np.exp(-times / tau)), rtol=0, atol=1e-12)
+    wp = float(WP_F)
+    _, reference = step(([A_F * wp], [1.0, wp * (1 + A_F)]), T=times)
+    assert_allclose(simulated, reference, rtol=0, atol=1e-9)
+
+
+def test_follower_released_from_its_steady_state_starts_from_the_poles_state():
+    # start = "steady": before t = 0 the output sat at A0/(1 + A0) V; after the input
+    # drops to 0 it decays as exp(-t/tau) (first-order free response, from memory).
+    parts = FOLLOWER.replace('"1*step(t) V"', '"1 - step(t) V"')
+    circuit = build(handcheck.loads(worksheet(parts, head='[transient]\nstart = "steady"')))
+    wave = transient_solution(circuit).node_voltage("out").as_expr()
+    t = sympy.Symbol("t")
+    closed = sympy.Rational(A_F, 1 + A_F) * sympy.exp(-t / TAU_F)
+    for point in (sympy.Integer(0), sympy.Rational(159, 10**8), sympy.Rational(1, 10**5)):
+        assert sympy.N(wave.subs(t, point) - closed.subs(t, point), 30) == pytest.approx(0, abs=1e-25)
+    steps = '[[step]]\nname = "v0"\nquantity = "initial(voltage(out))"\nclaim = "0.999 V"\n'
+    result = run_text(worksheet(parts, head='[transient]\nstart = "steady"', steps=steps), evidence=True)
+    sim = result.evidence.simulation
+    times = np.asarray(sim.times)
+    assert_allclose(np.asarray(sim.voltages["out"]), float(A_F / (1 + A_F)) * np.exp(-times / float(TAU_F)), atol=1e-12)
