@@ -229,6 +229,31 @@ def test_audit_with_the_gain_as_symbol_finds_the_rule_holds_as_the_gain_grows():
     assert_allclose(finding.worst_case.high, -1 / (1 + A0 * float(BETA)), rtol=1e-9)
 
 
+LOSSLESS_LOOP = """
+Vs = { voltage = "1 V", frequency = "FREQ", nodes = ["src", "gnd"] }
+U1 = { opamp = "1.5625", gbw = "1 kHz", nodes = ["v1", "p1", "v2"] }
+Ra1 = { resistor = "562.5 ohm", nodes = ["v1", "p1"] }
+Rb1 = { resistor = "1 kohm", nodes = ["p1", "src"] }
+U2 = { opamp = "1.5625", gbw = "1 kHz", nodes = ["v2", "p2", "gnd"] }
+Rx = { resistor = "1600 ohm", nodes = ["v1", "p2"] }
+Ry = { resistor = "900 ohm", nodes = ["v2", "p2"] }
+"""
+
+
+def test_a_pole_on_the_axis_exactly_at_the_analysis_frequency_is_named_not_divided_by():
+    # Two one-pole op-amps (A0 = 25/16, G = 2*pi*1 kHz) whose 1/A0 losses are cancelled
+    # by positive feedback: v1*s/G = -v2 and v2*s/G = (9/25)*v1, so s^2 = -(9/25)*G^2 and
+    # the poles sit at +-j*0.6*G, i.e. at 600 Hz (derived here by hand from the op-amp
+    # equation of the docs). At 500 Hz the circuit solves; at 600 Hz it has no steady state.
+    solution = solve(build(handcheck.loads(worksheet(LOSSLESS_LOOP.replace("FREQ", "500 Hz")))))
+    poles = evaluate_quantity(solution, parse_quantity("poles(network_function(voltage(v1), voltage(src)))"))
+    assert_allclose(sorted(complex(p.expr).imag for p in poles), [-0.6 * 2 * math.pi * 1e3, 0.6 * 2 * math.pi * 1e3])
+    assert all(abs(complex(p.expr).real) < 1e-20 for p in poles)
+    with pytest.raises(CircuitError, match="singular at 600 Hz"):
+        solution = solve(build(handcheck.loads(worksheet(LOSSLESS_LOOP.replace("FREQ", "600 Hz")))))
+        evaluate_quantity(solution, parse_quantity("voltage(v1)"))
+
+
 # --------------------------------------------------------------------------
 # transients: follower step, closed form and the independent simulation
 # --------------------------------------------------------------------------

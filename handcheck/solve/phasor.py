@@ -21,6 +21,7 @@ from handcheck.circuit.mna import MnaSystem, stamp
 from handcheck.circuit.model import GROUND, Circuit, Part
 from handcheck.circuit.structure import check_dc
 from handcheck.errors import CircuitError, TimeLimitError
+from handcheck.solve.rational import pi_field
 
 if TYPE_CHECKING:  # pragma: no cover - typing only
     from handcheck.solve.network import NetworkFunctions
@@ -138,7 +139,7 @@ def solve_columns(
     if circuit.omega.is_algebraic:
         return list(_solve_direct(system, circuit, s, columns))
     functions = _network_functions(system, circuit, columns)
-    return [_weighted(system, [(sympy.Integer(1), f)], circuit.omega) for f in functions]
+    return [_weighted(system, [(sympy.Integer(1), f)], circuit) for f in functions]
 
 
 def _solve_direct(
@@ -194,9 +195,7 @@ def _network_functions(
     return prepared
 
 
-def _weighted(
-    system: MnaSystem, terms: list[tuple[sympy.Expr, NetworkFunctions | None]], omega: sympy.Expr
-) -> Unknowns:
+def _weighted(system: MnaSystem, terms: list[tuple[sympy.Expr, NetworkFunctions | None]], circuit: Circuit) -> Unknowns:
     """Unknowns ``sum(weight * x_k(jw))`` over the columns, each formed on first use.
 
     Horner-free: ``x_k(jw) = sum c_i (jw)^i / sum d_i (jw)^i`` is assembled from the
@@ -218,11 +217,26 @@ def _weighted(
             if functions is not None and weight != 0:
                 fn = functions.function(k)
                 if not fn.num.is_zero:
-                    total += weight * (at(fn.num) / at(fn.den))
+                    den = at(fn.den)
+                    if pi_field(fn.den.domain) and _vanishes(den):
+                        raise resonant()
+                    total += weight * (at(fn.num) / den)
         return total
 
-    s = sympy.I * omega
+    def resonant() -> CircuitError:
+        n = system.size
+        return _singular(system, circuit, [[system.G[r][c] + s * system.C[r][c] for c in range(n)] for r in range(n)])
+
+    s = sympy.I * circuit.omega
     return Unknowns(system.size, build)
+
+
+def _vanishes(value: sympy.Expr) -> bool:
+    """Whether a number of QQ(i)(pi) is exactly zero: pi is transcendental, so it is zero
+    only as a polynomial identity in pi (pi replaced by a symbol)."""
+    p = sympy.Dummy("p")
+    numerator, _ = sympy.fraction(sympy.together(sympy.expand(value.subs(sympy.pi, p))))
+    return sympy.expand(numerator) == 0
 
 
 @dataclass(frozen=True)
@@ -283,7 +297,7 @@ def solve(circuit: Circuit, system: MnaSystem | None = None) -> Solution:
         ]
         return Solution(circuit, system, tuple(x), u)
     functions = _network_functions(system, circuit, columns)
-    return Solution(circuit, system, _weighted(system, list(zip(weights, functions, strict=True)), circuit.omega), u)
+    return Solution(circuit, system, _weighted(system, list(zip(weights, functions, strict=True)), circuit), u)
 
 
 def part_voltage(solution: Solution, part: Part) -> sympy.Expr:
