@@ -315,3 +315,40 @@ def test_follower_released_from_its_steady_state_starts_from_the_poles_state():
     sim = result.evidence.simulation
     times = np.asarray(sim.times)
     assert_allclose(np.asarray(sim.voltages["out"]), float(A_F / (1 + A_F)) * np.exp(-times / float(TAU_F)), atol=1e-12)
+
+
+def _exact_and_simulated(parts: str, node: str) -> tuple[sympy.Expr, np.ndarray, np.ndarray]:
+    circuit = build(handcheck.loads(worksheet(parts)))
+    wave = transient_solution(circuit).node_voltage(node).as_expr()
+    steps = f'[[step]]\nname = "v0"\nquantity = "initial(voltage({node}))"\nclaim = "1 V"\n'
+    sim = run_text(worksheet(parts, steps=steps), evidence=True).evidence.simulation
+    return wave, np.asarray(sim.times), np.asarray(sim.voltages[node])
+
+
+def test_a_charged_capacitor_on_the_output_sets_the_poles_state():
+    # The capacitor from the output to ground and the pole share one state: the output
+    # starts at the capacitor's 1 V and, with the input at 0, decays as exp(-t/tau) with
+    # the follower's tau (first-order free response, from memory; the stiff output
+    # makes the capacitor irrelevant to the pole).
+    parts = FOLLOWER.replace('"1*step(t) V"', '"0 V"').replace(
+        'RL = { resistor = "10 kohm", nodes = ["out", "gnd"] }',
+        'CL = { capacitor = "1 nF", nodes = ["out", "gnd"], initial = "1 V" }',
+    )
+    wave, times, simulated = _exact_and_simulated(parts, "out")
+    t = sympy.Symbol("t")
+    assert sympy.simplify(wave - sympy.exp(-t / TAU_F)) == 0
+    assert_allclose(simulated, np.exp(-times / float(TAU_F)), atol=1e-12)
+
+
+def test_a_charged_series_capacitor_leaves_the_output_at_rest():
+    # Output held at 0 (pole at rest, input 0); the 1 nF capacitor charged to 1 V
+    # discharges through 1 kohm: v(n) = -exp(-t/(R*C)) (RC discharge, from memory).
+    parts = FOLLOWER.replace('"1*step(t) V"', '"0 V"').replace(
+        'RL = { resistor = "10 kohm", nodes = ["out", "gnd"] }',
+        'CL = { capacitor = "1 nF", nodes = ["out", "n"], initial = "1 V" }\n'
+        'RL = { resistor = "1 kohm", nodes = ["n", "gnd"] }',
+    )
+    wave, times, simulated = _exact_and_simulated(parts, "n")
+    t = sympy.Symbol("t")
+    assert sympy.simplify(wave + sympy.exp(-t * 10**6)) == 0
+    assert_allclose(simulated, -np.exp(-times * 1e6), atol=1e-12)

@@ -56,18 +56,26 @@ def steady_before(circuit: Circuit, exo: Exosystem) -> tuple[np.ndarray, list[st
 
 
 def rest_state(circuit: Circuit, eq: Equations) -> np.ndarray:
-    """Circuit unknowns with capacitors and inductors at their ``initial`` values."""
+    """Circuit unknowns with capacitors and inductors at their ``initial`` values (and
+    the output of an op-amp with a gbw at 0, or at a grounded capacitor's value)."""
     x = np.zeros(eq.size)
     initial = {p.id: float(p.initial) for p in circuit.parts if p.initial is not None}
     if eq.capacitors:
-        inc = np.zeros((len(eq.capacitors), len(eq.nodes)))
-        values = np.zeros(len(eq.capacitors))
+        # an op-amp's pole holds its output voltage: 0 at rest, unless a charged
+        # capacitor from that output to ground sets it (the two share the state)
+        grounded = {a if b is None else b for ident, a, b, _ in eq.capacitors if ident in initial and None in (a, b)}
+        outs = [eq.nodes.index(p.nodes[0]) for p in circuit.parts if p.kind == "opamp" and p.gbw is not None]
+        held = [k for k in outs if k not in grounded]
+        inc = np.zeros((len(eq.capacitors) + len(held), len(eq.nodes)))
+        values = np.zeros(len(eq.capacitors) + len(held))
         for k, (ident, a, b, _) in enumerate(eq.capacitors):
             if a is not None:
                 inc[k, a] = 1.0
             if b is not None:
                 inc[k, b] = -1.0
             values[k] = initial.get(ident, 0.0)
+        for k, node in enumerate(held):
+            inc[len(eq.capacitors) + k, node] = 1.0
         if np.any(values):
             x[: len(eq.nodes)] = np.linalg.lstsq(inc, values, rcond=None)[0]
     for ident, col, _ in eq.inductors:

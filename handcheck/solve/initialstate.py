@@ -1,7 +1,8 @@
 """The capacitor voltages and inductor currents at t = 0-, for both ways of starting.
 
 (And the output voltage of each op-amp with a gain-bandwidth product: its one pole
-holds a state, which starts at 0 at rest.)
+holds a state, which starts at rest at 0, or at the ``initial`` value of a capacitor
+from its output to ground, which shares that state.)
 
 ``start = "rest"``: each one's ``initial`` value (0 if none). ``start = "steady"``:
 the circuit before t = 0 (each switch in its earlier state) sat in its steady state,
@@ -15,7 +16,7 @@ from __future__ import annotations
 import dataclasses
 from typing import Any
 
-from handcheck.circuit.model import Circuit, Part, Source
+from handcheck.circuit.model import GROUND, Circuit, Part, Source
 from handcheck.errors import CircuitError
 from handcheck.solve.exact import compact
 from handcheck.worksheet.sourcefunction import SourceFunction, SourceTerm
@@ -36,7 +37,22 @@ def rest_state(circuit: Circuit) -> dict[str, Any]:
     """
     import sympy
 
-    return {p.id: (p.initial if p.initial is not None else sympy.Integer(0)) for p in circuit.parts if stores_state(p)}
+    state = {p.id: (p.initial if p.initial is not None else sympy.Integer(0)) for p in circuit.parts if stores_state(p)}
+    for part in circuit.parts:
+        if part.kind == "opamp" and part.id in state:
+            state[part.id] = _output_initial(circuit, part.nodes[0])
+    return state
+
+
+def _output_initial(circuit: Circuit, out: str) -> Any:
+    """A pole's state at rest: its output voltage, which a capacitor with an ``initial``
+    value from the output to ground fixes (they share that state); else 0."""
+    import sympy
+
+    for p in circuit.parts:
+        if p.kind == "capacitor" and p.initial is not None and set(p.nodes) == {out, GROUND}:
+            return p.initial if p.nodes[0] == out else -p.initial
+    return sympy.Integer(0)
 
 
 def stores_state(part: Part) -> bool:
