@@ -360,3 +360,53 @@ samples = 1000
     assert found.true_expression == str((r1 + r2) / (2 * sympy.pi * c * r1 * r2))
     # nominal: R_eq/R1 - 1 = 8000/10000 - 1 = -0.2, the formula's f is 1/(2 pi R1 C) = 0.8 f_c
     assert found.nominal_error == pytest.approx(-0.2, rel=1e-12)
+
+
+def _sallen_key_cutoff_errors(points: int) -> np.ndarray:
+    """The formula w0 against the closed-form -3 dB point above, on a dense grid."""
+    axes = [np.linspace(v * (1 - tol), v * (1 + tol), points) for v, tol in SK_TOLERANCES]
+    r1, r2, c1, c2 = (g.ravel() for g in np.meshgrid(*axes, indexing="ij"))
+    q = np.sqrt(r1 * r2 * c1 * c2) / (c2 * (r1 + r2))
+    a = 1 - 1 / (2 * q * q)
+    return 1 / np.sqrt(a + np.sqrt(a * a + 1)) - 1  # w0/wc - 1
+
+
+SK_TOLERANCES = ((10e3, 0.01), (15e3, 0.01), (22e-9, 0.05), (10e-9, 0.05))
+
+
+def test_sallen_key_cutoff_worst_case_bounds_are_certified() -> None:
+    # Brute force written here: a 25^4 grid of the closed form (Van Valkenburg, as above).
+    # The certified bounds enclose every grid value and lie within 1e-6 of the grid's extremes.
+    quantity = "cutoff_frequency(network_function(voltage(out), voltage(in)))"
+    worst = _audit(SALLEN_KEY + _formula("fc", quantity, "1/(2*pi*sqrt(R1*R2*C1*C2))"))["fc"].worst_case
+    assert "bounds certified" in worst.method
+    errors = _sallen_key_cutoff_errors(25)
+    low, high = worst.bounds
+    assert low <= errors.min() and high >= errors.max()
+    assert_allclose([low, high], [errors.min(), errors.max()], atol=1e-6)
+
+
+def test_root_bound_proof_widens_past_a_too_low_guess() -> None:
+    # Handed a sampled extreme 2 points too low (and too high), the proof must not confirm
+    # it: the bounds it proves still enclose the dense grid.
+    from handcheck.audit.network import symbolic_circuit
+    from handcheck.audit.rootbound import certified_bounds
+    from handcheck.audit.run import _ranges, _symbols
+    from handcheck.audit.truth import true_value
+
+    worksheet = loads(SALLEN_KEY + _formula("fc", "cutoff_frequency(network_function(voltage(out), voltage(in)))"))
+    circuit = build(worksheet)
+    symbols = _symbols(worksheet.audit, worksheet, circuit)
+    ranges = _ranges(worksheet.audit, circuit, symbols)[0]
+    sc = symbolic_circuit(circuit, symbols)
+    truth = true_value(sc, worksheet.audit.formulas[0].quantity)
+    import sympy
+
+    r1, r2, c1, c2 = (sympy.Symbol(n, positive=True) for n in ("R1", "R2", "C1", "C2"))
+    u_formula = sc.ring.fraction(1 / (r1 * r2 * c1 * c2))
+    errors = _sallen_key_cutoff_errors(25)
+    low, high = certified_bounds(
+        truth.poly, u_formula, ranges.names, ranges.box, (errors.min() + 0.02, errors.max() - 0.02)
+    )
+    assert low is not None and high is not None
+    assert low <= errors.min() and high >= errors.max()

@@ -6,7 +6,8 @@ reduced to one real rational function R of the audited parts (and pi) with e = R
 function at a frequency other than 0); e is increasing in R, so the extremes of e
 are those of R, found rigorously in ball arithmetic (:mod:`handcheck.audit.worst`).
 A frequency with no closed form ("root") is e = sqrt(u_F/u) - 1 with u the lowest
-positive root of its defining polynomial: its worst case is sampled and says so.
+positive root of its defining polynomial: its worst case is sampled on a grid and its
+bounds are then proved (:mod:`handcheck.audit.rootbound`), or said to be unproved.
 """
 
 from __future__ import annotations
@@ -23,6 +24,7 @@ import numpy as np
 
 from handcheck.audit.findings import WorstCase
 from handcheck.audit.ring import AuditError, RatFunc, Ring
+from handcheck.audit.rootbound import certified_bounds
 from handcheck.audit.sampling import MonteCarlo, draw, lowest_positive_root, poly_values, ratio_values, summarise
 from handcheck.audit.truth import coefficients_in_s
 from handcheck.audit.worst import PRECISION, extreme, ratio_ball
@@ -59,6 +61,7 @@ class ErrorModel:
     target: Callable[[dict[str, Any]], Any] | None = None  # root: u_F at samples (name -> array)
     in_s: RatFunc | None = None  # sqrt of |F/T|^2 at s = jw: F/T itself, for fast sampling
     s_value: complex = 0j
+    u_formula: RatFunc | None = None  # root: u_F as a rational function, for certified bounds
 
     def from_ratio(self, r: Any) -> Any:
         """e from R (numbers or arrays)."""
@@ -141,7 +144,7 @@ def _point(ranges: Ranges, point: Sequence[Fraction | float]) -> tuple[tuple[str
 def worst_case(model: ErrorModel, ranges: Ranges, check: Callable[[], None] | None = None) -> WorstCase:
     """The lowest and highest error over the ranges, and where the larger in size occurs."""
     if model.kind == "root":
-        return _sampled_worst(model, ranges)
+        return _sampled_worst(model, ranges, check)
     assert model.ratio is not None
     high = extreme(model.ratio, ranges.names, ranges.box, largest=True, check=check)
     low = extreme(model.ratio, ranges.names, ranges.box, largest=False, check=check)
@@ -157,7 +160,7 @@ def worst_case(model: ErrorModel, ranges: Ranges, check: Callable[[], None] | No
     return WorstCase(e_low, e_high, where, "ball arithmetic", bounds, low.complete and high.complete)
 
 
-def _sampled_worst(model: ErrorModel, ranges: Ranges) -> WorstCase:
+def _sampled_worst(model: ErrorModel, ranges: Ranges, check: Callable[[], None] | None = None) -> WorstCase:
     varying = [k for k, (lo, hi) in enumerate(ranges.box) if lo != hi]
     per = max(2, min(GRID, int(MAX_GRID ** (1 / max(len(varying), 1)))))
     axes = []
@@ -168,12 +171,15 @@ def _sampled_worst(model: ErrorModel, ranges: Ranges) -> WorstCase:
     errors = _root_errors(model, ranges, columns, len(points))
     k_low, k_high = int(np.nanargmin(errors)), int(np.nanargmax(errors))
     worst = k_high if abs(errors[k_high]) >= abs(errors[k_low]) else k_low
-    return WorstCase(
-        float(errors[k_low]),
-        float(errors[k_high]),
-        _point(ranges, points[worst]),
-        f"sampled on a grid of {len(points)} points, not certified",
-    )
+    low, high = float(errors[k_low]), float(errors[k_high])
+    method = f"sampled on a grid of {len(points)} points, not certified"
+    bounds: tuple[float, float] | None = None
+    if model.u_formula is not None:
+        proved = certified_bounds(model.poly, model.u_formula, ranges.names, ranges.box, (low, high), check)
+        if proved[0] is not None and proved[1] is not None:
+            bounds = (proved[0], proved[1])
+            method = f"sampled on a grid of {len(points)} points; bounds certified in ball arithmetic"
+    return WorstCase(low, high, _point(ranges, points[worst]), method, bounds)
 
 
 def monte_carlo(model: ErrorModel, ranges: Ranges, samples: int, seed: int, distribution: str) -> MonteCarlo:

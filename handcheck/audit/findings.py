@@ -19,7 +19,8 @@ class WorstCase:
     """The lowest and highest relative error over the ranges and where the larger one occurs.
 
     ``method`` is "ball arithmetic" (certified: ``bounds`` enclose the true extremes)
-    or "sampled" (the extremes of a grid and the Monte Carlo samples: no proof).
+    or "sampled ..." (the extremes of a grid), with ``bounds`` proved afterwards
+    ("bounds certified in ball arithmetic") or None ("not certified").
     """
 
     low: float

@@ -172,6 +172,7 @@ def _root_form(
         result["equivalent"] = None  # decided numerically below
         result["method"] = "numerical comparison at the nominal values and over the ranges (not a proof)"
         return result
+    result["model"] = dataclasses.replace(model, u_formula=u)
     residual = ring.fraction(sympy.Integer(0))
     for k, coefficient in enumerate(coefficients_in_s(ring, truth.poly)):
         residual = residual + RatFunc.make(ring, coefficient, ring.constant(1)) * u.power(k)
