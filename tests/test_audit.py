@@ -410,3 +410,34 @@ def test_root_bound_proof_widens_past_a_too_low_guess() -> None:
     )
     assert low is not None and high is not None
     assert low <= errors.min() and high >= errors.max()
+
+
+def test_sallen_key_cutoff_spread_bounds_are_certified() -> None:
+    # Without expression: the -3 dB point's own spread, wc/wc_nominal - 1, against the
+    # same 25^4 grid of the closed form (Van Valkenburg, as above).
+    quantity = "cutoff_frequency(network_function(voltage(out), voltage(in)))"
+    found = _audit(SALLEN_KEY + _formula("fc", quantity))["fc"]
+    axes = [np.linspace(v * (1 - tol), v * (1 + tol), 25) for v, tol in SK_TOLERANCES]
+    r1, r2, c1, c2 = (g.ravel() for g in np.meshgrid(*axes, indexing="ij"))
+
+    def cutoff(r1, r2, c1, c2):
+        w0 = 1 / np.sqrt(r1 * r2 * c1 * c2)
+        q = np.sqrt(r1 * r2 * c1 * c2) / (c2 * (r1 + r2))
+        a = 1 - 1 / (2 * q * q)
+        return w0 * np.sqrt(a + np.sqrt(a * a + 1))
+
+    spread = cutoff(r1, r2, c1, c2) / cutoff(10e3, 15e3, 22e-9, 10e-9) - 1
+    assert found.verdict == "spread" and "bounds certified" in found.worst_case.method
+    low, high = found.worst_case.bounds
+    assert low <= spread.min() and high >= spread.max()
+    assert_allclose([low, high], [spread.min(), spread.max()], atol=1e-6)
+    # and its Monte Carlo moments against numpy sampling (seed 3, uniform, [parts] order)
+    rng = np.random.default_rng(3)
+    draws = [rng.uniform(v * (1 - tol), v * (1 + tol), 20000) for v, tol in SK_TOLERANCES]
+    sampled = cutoff(*draws) / cutoff(10e3, 15e3, 22e-9, 10e-9) - 1
+    mc = found.monte_carlo
+    assert_allclose(
+        [mc.mean, mc.std, mc.p01, mc.p99],
+        [sampled.mean(), sampled.std(ddof=1), np.percentile(sampled, 1), np.percentile(sampled, 99)],
+        rtol=1e-7,
+    )

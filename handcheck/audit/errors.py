@@ -62,6 +62,8 @@ class ErrorModel:
     in_s: RatFunc | None = None  # sqrt of |F/T|^2 at s = jw: F/T itself, for fast sampling
     s_value: complex = 0j
     u_formula: RatFunc | None = None  # root: u_F as a rational function, for certified bounds
+    u_slack: float = 0.0  # root: how far u_formula may be from the exact target (relative), added to the bounds
+    spread: bool = False  # root: e = sqrt(u/target) - 1, the quantity against its nominal value
 
     def from_ratio(self, r: Any) -> Any:
         """e from R (numbers or arrays)."""
@@ -114,7 +116,13 @@ def _root_errors(model: ErrorModel, ranges: Ranges, columns: Sequence[Any], coun
     u = lowest_positive_root(coefficients, count)
     assert model.target is not None
     target = model.target(dict(zip(ranges.names, columns, strict=True)))
-    return np.sqrt(np.asarray(target, dtype=float) / u) - 1
+    ratio = np.asarray(target, dtype=float) / u
+    return np.sqrt(1 / ratio if model.spread else ratio) - 1
+
+
+def _flip(e: float, outward: float) -> float:
+    """1/(1 + e) - 1: an error of u_F/u turned into one of u/u_F, rounded towards ``outward``."""
+    return math.nextafter(1 / (1 + e) - 1, outward)
 
 
 def nominal_error(model: ErrorModel, ranges: Ranges, nominal_target: float | None = None) -> float:
@@ -175,9 +183,13 @@ def _sampled_worst(model: ErrorModel, ranges: Ranges, check: Callable[[], None] 
     method = f"sampled on a grid of {len(points)} points, not certified"
     bounds: tuple[float, float] | None = None
     if model.u_formula is not None:
-        proved = certified_bounds(model.poly, model.u_formula, ranges.names, ranges.box, (low, high), check)
-        if proved[0] is not None and proved[1] is not None:
-            bounds = (proved[0], proved[1])
+        # the proof is of u_F/u; a spread's errors are of u/u_F, the same bounds turned over
+        sampled = (_flip(high, -math.inf), _flip(low, math.inf)) if model.spread else (low, high)
+        below, above = certified_bounds(model.poly, model.u_formula, ranges.names, ranges.box, sampled, check)
+        if below is not None and above is not None:
+            if model.spread:
+                below, above = _flip(above, -math.inf), _flip(below, math.inf)
+            bounds = (below - model.u_slack, above + model.u_slack)
             method = f"sampled on a grid of {len(points)} points; bounds certified in ball arithmetic"
     return WorstCase(low, high, _point(ranges, points[worst]), method, bounds)
 

@@ -97,7 +97,11 @@ def _spread_model(sc: SymbolicCircuit, truth: Truth, ranges: Ranges) -> ErrorMod
     ring = sc.ring
     if truth.form == "root":
         nominal_u = _nominal_root(sc, truth, ranges)
-        return ErrorModel("root", ring, poly=truth.poly, target=lambda columns: nominal_u)
+        # the nominal root is a double from a certified ball: the proved bounds are widened by the rounding
+        fixed = ring.fraction(sympy.Rational(*Fraction(nominal_u).as_integer_ratio()))
+        return ErrorModel(
+            "root", ring, poly=truth.poly, target=lambda columns: nominal_u, u_formula=fixed, u_slack=1e-12, spread=True
+        )
     assert truth.value is not None
     value, kind = (truth.value, "sqrt") if truth.form == "square" else (truth.value, "ratio")
     if truth.in_s:
