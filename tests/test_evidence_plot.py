@@ -89,3 +89,49 @@ def test_dc_charging_draws_the_transient_against_the_settled_value() -> None:
     # value read at its end is within about 1e-6 of the true final value
     assert_allclose(line.get_ydata(), -final * np.exp(-t / tau), atol=3e-6 * final)
     plt.close("all")
+
+
+PHASORS = """
+[worksheet]
+format = 1
+title = "Coil and snubber, 24 V 50 Hz"
+[parts]
+Vs = { voltage = "24 V", frequency = "50 Hz", nodes = ["line", "gnd"] }
+Rc = { resistor = "33 ohm", nodes = ["line", "m"] }
+Lc = { inductor = "120 mH", nodes = ["m", "gnd"] }
+Rs = { resistor = "100 ohm", nodes = ["line", "k"] }
+Cs = { capacitor = "0.47 uF", nodes = ["k", "gnd"] }
+[[step]]
+name = "Ic"
+quantity = "current(Lc)"
+claim = "0.479 A /_ -48.8 deg"
+[[step]]
+name = "Isn"
+quantity = "current(Cs)"
+claim = "3.2 mA /_ 95 deg"
+"""
+
+
+def test_phasor_diagram_shows_a_coinciding_claim_and_magnifies_a_small_phasor() -> None:
+    import matplotlib.pyplot as plt
+
+    result = run_text(PHASORS, evidence=True)
+    figure = evidence_figure(result.report, result.evidence)
+    diagram = next(a for a in figure.axes if a.get_title().startswith("phasors [A"))
+    # the claim that agrees is still marked: an open circle at its tip
+    tips = [line for line in diagram.get_lines() if line.get_marker() == "o"]
+    ic = complex(0.479 * np.exp(-1j * np.radians(48.8)))
+    assert any(np.allclose([line.get_xdata()[0], line.get_ydata()[0]], [ic.real, ic.imag]) for line in tips)
+    # 3.5 mA beside 0.48 A: drawn at 100 times its size, and said so
+    isn = complex(3.2e-3 * np.exp(1j * np.radians(95)))
+    assert any(
+        np.allclose([line.get_xdata()[0], line.get_ydata()[0]], [100 * isn.real, 100 * isn.imag]) for line in tips
+    )
+    assert any("Isn (x100)" in t.get_text() for t in diagram.texts)
+    # the legends sit clear of the data: the waveforms' above their axes, the
+    # diagram's inside its frame
+    figure.canvas.draw()
+    waves = figure.axes[0]
+    assert waves.get_legend().get_window_extent().y0 >= waves.get_window_extent().y1
+    assert diagram.get_window_extent().contains(*diagram.get_legend().get_window_extent().p0)
+    plt.close("all")

@@ -75,14 +75,18 @@ def evidence_figure(report: Report, evidence: Evidence) -> Any:
     transient = figure.add_subplot(grid[1, 0], sharex=waves)
     omega = float(circuit.omega)
     fit = evidence.fit if omega > 0 and evidence.phasor_agreement is not None else None
+    units = {"V" if q.name == "voltage" else "A" for q in signals}
+    # currents on their own scale, so that milliamperes show beside volts
+    amps = waves.twinx() if units == {"V", "A"} else waves
     drawn: list[tuple[Any, Any]] = []
-    for q in signals:
+    for index, q in enumerate(signals):
         try:
             values = _numeric(sim, q)
         except KeyError:
             continue
         unit = "V" if q.name == "voltage" else "A"
-        (line,) = waves.plot(times_ms, values, lw=1.2, label=f"{q.text} [{unit}] (simulated)")
+        axis = amps if unit == "A" else waves
+        (line,) = axis.plot(times_ms, values, lw=1.2, color=f"C{index % 10}", label=f"{q.text} [{unit}] (simulated)")
         drawn.append((q, line))
         if fit is not None:
             steady = _steady(fit, q, np.asarray(sim.times), omega)
@@ -90,12 +94,14 @@ def evidence_figure(report: Report, evidence: Evidence) -> Any:
                 transient.plot(
                     times_ms, values - steady, lw=1.0, color=line.get_color(), label=f"{q.text} - steady state"
                 )
-    for name, unit, claimed, _ in phasor_rows:
+    for index, (name, unit, claimed, _) in enumerate(phasor_rows, start=len(signals)):
         if omega <= 0:
             break
         start = sim.times[-1] - 3 * 2 * math.pi / omega
         t = np.linspace(max(start, 0.0), sim.times[-1], 600)
-        waves.plot(t * 1e3, (claimed * np.exp(1j * omega * t)).real, "--", lw=1.4, label=f"{name} claimed [{unit}]")
+        axis = amps if unit == "A" else waves
+        wave = (claimed * np.exp(1j * omega * t)).real
+        axis.plot(t * 1e3, wave, "--", lw=1.4, color=f"C{index % 10}", label=f"{name} claimed [{unit}]")
     if fit is None and _settles_to_constant(circuit) and evidence.long_enough:
         for q, line in drawn:
             values = np.asarray(line.get_ydata())
@@ -112,9 +118,16 @@ def evidence_figure(report: Report, evidence: Evidence) -> Any:
             envelope = amplitude * np.exp(-slowest * np.clip(t - after, 0, None))
             transient.plot(times_ms, envelope, ":", color="black", lw=1, label="envelope of the slowest mode")
             transient.plot(times_ms, -envelope, ":", color="black", lw=1)
-    waves.set_ylabel("value")
-    waves.set_title(visible(" ".join(report.title.split())), fontsize=10)
-    waves.legend(fontsize=7, loc="upper right")
+    waves.set_ylabel("current [A]" if units == {"A"} else "voltage [V]")
+    if amps is not waves:
+        amps.set_ylabel("current [A]")
+    figure.suptitle(visible(" ".join(report.title.split())), fontsize=10)
+    handles, labels = waves.get_legend_handles_labels()
+    if amps is not waves:
+        more = amps.get_legend_handles_labels()
+        handles, labels = handles + more[0], labels + more[1]
+    # above the waveforms, not over them
+    waves.legend(handles, labels, fontsize=7, loc="lower left", bbox_to_anchor=(0, 1.01), ncol=2, frameon=False)
     waves.grid(alpha=0.3)
     transient.set_xlabel("t [ms]")
     transient.set_ylabel("transient")
@@ -192,24 +205,45 @@ def _slowest_rate(sim: Any) -> float | None:
     return min(rates) if rates else None
 
 
+#: A phasor shorter than this fraction of the largest in its diagram is drawn magnified.
+SMALL = 0.08
+
+
+def _magnified(size: float, largest: float) -> int:
+    """The power of ten a small phasor is drawn magnified by (0: drawn to scale)."""
+    if size <= 0 or size >= SMALL * largest:
+        return 0
+    return math.ceil(math.log10(0.3 * largest / size))
+
+
 def _phasor_diagram(axes: Any, rows: list[tuple[str, complex, complex]], unit: str) -> None:
+    """Exact phasors solid with a filled tip, claimed ones dashed with an open circle at
+    the tip (visible where the two coincide); a phasor much smaller than the largest is
+    drawn magnified by a power of ten, said in its label."""
+    from matplotlib.lines import Line2D
+
     largest = max([abs(v) for _, c, e in rows for v in (c, e)] + [1e-300])
     for index, (name, claimed, exact) in enumerate(rows):
         color = f"C{index % 10}"
+        power = _magnified(max(abs(claimed), abs(exact)), largest)
+        scale = 10.0**power
+        tip, said = exact * scale, claimed * scale
         axes.annotate(
-            "", xy=(exact.real, exact.imag), xytext=(0, 0), arrowprops={"arrowstyle": "->", "color": color, "lw": 2}
+            "", xy=(tip.real, tip.imag), xytext=(0, 0), arrowprops={"arrowstyle": "-|>", "color": color, "lw": 2}
         )
-        axes.annotate(
-            "",
-            xy=(claimed.real, claimed.imag),
-            xytext=(0, 0),
-            arrowprops={"arrowstyle": "->", "color": color, "lw": 1.2, "ls": "--"},
-        )
-        axes.text(exact.real, exact.imag, f" {name}", color=color, fontsize=8)
-    axes.set_xlim(-1.15 * largest, 1.15 * largest)
-    axes.set_ylim(-1.15 * largest, 1.15 * largest)
+        axes.plot([0, said.real], [0, said.imag], "--", color=color, lw=1.3)
+        axes.plot([said.real], [said.imag], "o", color=color, ms=7, mfc="none", mew=1.4)
+        label = f" {name}" + (f" (x{scale:g})" if power else "")
+        axes.text(tip.real, tip.imag, label, color=color, fontsize=8, clip_on=True)
+    axes.set_xlim(-1.2 * largest, 1.2 * largest)
+    axes.set_ylim(-1.2 * largest, 1.2 * largest)
     axes.set_aspect("equal")
     axes.axhline(0, color="grey", lw=0.5)
     axes.axvline(0, color="grey", lw=0.5)
-    axes.set_title(f"phasors [{unit}, peak]: exact solid, claimed dashed", fontsize=8)
+    axes.set_title(f"phasors [{unit}, peak]", fontsize=9)
+    key = [
+        Line2D([], [], color="black", lw=2, label="exact"),
+        Line2D([], [], color="black", lw=1.3, ls="--", marker="o", mfc="none", label="claimed"),
+    ]
+    axes.legend(handles=key, fontsize=7, loc="upper left", framealpha=0.8)
     axes.grid(alpha=0.3)
