@@ -5,6 +5,7 @@ from __future__ import annotations
 import pytest
 
 import handcheck
+from handcheck.errors import ParseError
 
 HEAD = '[worksheet]\nformat = 1\ntitle = "t"\n'
 
@@ -119,3 +120,65 @@ def test_a_purely_imaginary_claim_allows_a_rounded_real_part():
     claim = read_claim("-1592j ohm")
     assert agrees(claim, complex(0.3, -1592.2), Tolerance())
     assert not agrees(claim, complex(0.7, -1592.2), Tolerance())
+
+
+DIVIDER = (
+    HEAD
+    + """
+[parts]
+V1 = { voltage = "1 V", nodes = ["in", "gnd"] }
+R1 = { resistor = "2 kohm", nodes = ["in", "out"] }
+R2 = { resistor = "1 kohm", nodes = ["out", "gnd"] }
+[[step]]
+name = "V"
+quantity = "voltage(out)"
+claim = "CLAIM"
+"""
+)
+
+
+@pytest.mark.parametrize(
+    ("claim", "verdict"),
+    [
+        # v = 1 V * 1/(1 + 2) = 1/3 V exactly (voltage divider, from memory). Written to 14
+        # digits, 0.33333333333333 V is within half a unit of its last digit (5e-15 V);
+        # one wrong in its 14th digit is not (half a unit in the last digit written:
+        # common practice), however small the difference.
+        ("0.33333333333333 V", "agrees"),
+        ("0.33333333333334 V", "differs"),
+        ("0.33333333333332 V", "differs"),
+    ],
+)
+def test_a_claim_wrong_in_its_14th_digit_differs(claim, verdict):
+    report = handcheck.check_text(DIVIDER.replace("CLAIM", claim))
+    assert step(report, "V").verdict == verdict
+
+
+RC = (
+    HEAD
+    + """
+[parts]
+V1 = { voltage = "1 V", frequency = "1 kHz", nodes = ["in", "gnd"] }
+R1 = { resistor = "1 kohm", nodes = ["in", "out"] }
+C1 = { capacitor = "159.15494 nF", nodes = ["out", "gnd"] }
+[[step]]
+name = "V"
+quantity = "voltage(out)"
+claim = "CLAIM"
+"""
+)
+
+
+def test_an_angle_that_checks_nothing_is_refused():
+    # R = |Xc| at 1 kHz: the output is 1/sqrt(2) V at -45 deg (RC low-pass at its corner,
+    # from memory). "1e20 deg" is read to 0.5e20 deg, more than any phase can differ.
+    with pytest.raises(ParseError) as info:
+        handcheck.check_text(RC.replace("CLAIM", "0.7071 V /_ 1e20 deg"))
+    assert 'the angle "1e20 deg" is read to within 5e+19 deg' in str(info.value)
+
+
+@pytest.mark.parametrize(("angle", "verdict"), [("-45.0", "agrees"), ("-4e1", "agrees"), ("-44.0", "differs")])
+def test_an_angle_within_a_quarter_turn_is_judged_by_its_digits(angle, verdict):
+    # "-4e1 deg" is read from its mantissa: -40 deg within 5 deg, which -45 deg is.
+    report = handcheck.check_text(RC.replace("CLAIM", f"0.7071 V /_ {angle} deg"))
+    assert step(report, "V").verdict == verdict

@@ -32,8 +32,11 @@ __all__ = ["Claim", "Tolerance", "agrees", "read_claim", "read_tolerance", "to_c
 
 #: Working precision (decimal digits) of every numerical comparison.
 DIGITS = 30
-#: Relative slack for comparisons, far below any written digit.
-SLACK = 1e-12
+#: Relative slack for comparisons: a few units in the last place of a double, for the
+#: one rounding of each exact value to floating point (docs/worksheet.md, Tolerances).
+SLACK = 1e-15
+#: Widest angle resolution a polar claim may have (radians): a quarter turn.
+_WIDEST_ANGLE = math.pi / 2
 
 Form = Literal["real", "rect", "polar", "function", "laplace", "list"]
 
@@ -347,6 +350,14 @@ def _read_polar(text: str) -> Claim:
     _in_range(text, angle_tree, factor)
     angle = evaluate(angle_tree, {}, angle_body).expr * factor
     angle_res, _ = _component_resolutions(angle_tree)
+    if float(angle_res) * float(factor) > _WIDEST_ANGLE:
+        raise ParseError(
+            f'the angle "{angle_text.strip()}" is read to within {float(angle_res):g} {angle_unit} from its digits, '
+            "more than a quarter turn, so it checks nothing of the phase; write the angle with its digits "
+            'between -180 and 180 deg, like "57.9 deg"',
+            text,
+            None,
+        )
     return Claim(
         text=text,
         value=Value(magnitude.value.expr * sympy.exp(sympy.I * angle), magnitude.dim),
@@ -424,5 +435,5 @@ def agrees(claim: Claim, reference: complex, tolerance: Tolerance, *, value: com
         if abs(target) <= res_a or abs(value) == 0:
             return True  # an angle means nothing for a value that rounds to zero
         angle_error = abs(_wrap(mpmath.arg(target) - mpmath.arg(value)))
-        return bool(angle_error <= res_b + 1e-12)
+        return bool(angle_error <= res_b + SLACK * math.pi)
     return abs(value.real - target.real) <= res_a + slack and abs(value.imag - target.imag) <= res_b + slack
