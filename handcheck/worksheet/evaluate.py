@@ -74,7 +74,15 @@ def _parallel(a: sympy.Expr, b: sympy.Expr) -> sympy.Expr:
     return a * b / (a + b)
 
 
+#: Operations above which abs() of a number avoids splitting it into real and imaginary parts.
+_SMALL = 40
+
+
 def _abs(v: sympy.Expr) -> sympy.Expr:
+    if v.is_number and sympy.count_ops(v) > _SMALL:
+        # sqrt(v conj(v)) is exact too, and costs no splitting into real and imaginary
+        # parts (which grows with the size of v); the comparisons evaluate it certified.
+        return sympy.sqrt(sympy.expand_mul(v * sympy.conjugate(v), deep=False), evaluate=True)
     return sympy.sqrt(sympy.re(v) ** 2 + sympy.im(v) ** 2)
 
 
