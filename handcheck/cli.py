@@ -42,6 +42,13 @@ _LIMIT_HELP = (
 )
 
 
+def _time_limit(command: argparse.ArgumentParser, what: str) -> None:
+    """Give a command its --time-limit option; ``what`` names the work in the help."""
+    command.add_argument(
+        "--time-limit", type=_seconds, default=None, metavar="SECONDS", help=_LIMIT_HELP.format(what=what)
+    )
+
+
 def _parser() -> argparse.ArgumentParser:
     from handcheck import __version__
 
@@ -59,20 +66,12 @@ def _parser() -> argparse.ArgumentParser:
     check.add_argument(
         "--plot", metavar="OUT", help="write the evidence plots to OUT (.svg or .png); implies --evidence"
     )
-    check.add_argument(
-        "--time-limit",
-        type=_seconds,
-        default=None,
-        metavar="SECONDS",
-        help=_LIMIT_HELP.format(what="the check"),
-    )
+    _time_limit(check, "the check")
     simulate = commands.add_parser("simulate", help="solve a worksheet's circuit numerically in time and compare")
     simulate.add_argument("file", metavar="FILE", help="the worksheet (TOML, format 1)")
     simulate.add_argument("--plot", metavar="OUT", help="write the plots to OUT (.svg or .png)")
     simulate.add_argument("--json", action="store_true", help="print the evidence as JSON")
-    simulate.add_argument(
-        "--time-limit", type=_seconds, default=None, metavar="SECONDS", help=_LIMIT_HELP.format(what="the simulation")
-    )
+    _time_limit(simulate, "the simulation")
     record = commands.add_parser("record", help="check a worksheet and write its calculation record")
     record.add_argument(
         "paths", nargs="+", metavar="PATH", help="the worksheet (TOML, format 1), or several and folders"
@@ -88,21 +87,13 @@ def _parser() -> argparse.ArgumentParser:
     )
     record.add_argument("--no-evidence", action="store_true", help="leave out the numerical solution and its plots")
     record.add_argument("--jobs", type=_jobs, default=1, metavar="N", help="record N worksheets at once (default 1)")
-    record.add_argument(
-        "--time-limit",
-        type=_seconds,
-        default=None,
-        metavar="SECONDS",
-        help=_LIMIT_HELP.format(what="writing the record"),
-    )
+    _time_limit(record, "writing the record")
     reverify = commands.add_parser("reverify", help="re-run the worksheet embedded in a record and compare")
     reverify.add_argument(
         "paths", nargs="+", metavar="RECORD", help="a record written by handcheck record, or several and folders"
     )
     reverify.add_argument("--jobs", type=_jobs, default=1, metavar="N", help="re-verify N records at once (default 1)")
-    reverify.add_argument(
-        "--time-limit", type=_seconds, default=None, metavar="SECONDS", help=_LIMIT_HELP.format(what="reverifying")
-    )
+    _time_limit(reverify, "reverifying")
     return parser
 
 

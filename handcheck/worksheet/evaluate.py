@@ -82,7 +82,7 @@ def _abs(v: sympy.Expr) -> sympy.Expr:
     if v.is_number and sympy.count_ops(v) > _SMALL:
         # sqrt(v conj(v)) is exact too, and costs no splitting into real and imaginary
         # parts (which grows with the size of v); the comparisons evaluate it certified.
-        return sympy.sqrt(sympy.expand_mul(v * sympy.conjugate(v), deep=False), evaluate=True)
+        return sympy.sqrt(sympy.expand_mul(v * sympy.conjugate(v), deep=False))
     return sympy.sqrt(sympy.re(v) ** 2 + sympy.im(v) ** 2)
 
 
