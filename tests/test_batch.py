@@ -267,23 +267,25 @@ def test_jobs_2_gives_the_same_json_as_jobs_1(folder: Path, capsys) -> None:
 
 def _end_the_readers_of(pipe: Path, times: int) -> None:
     """Open ``pipe`` for writing and end (SIGKILL) the process that opened it to read,
-    ``times`` times over."""
+    ``times`` times over, a new process each time (one just ended may still hold it)."""
+    ended: set[int] = set()
     for _ in range(times):
         with open(pipe, "wb", buffering=0):  # waits until a worker opens the pipe
             deadline = time.monotonic() + 30
-            while time.monotonic() < deadline and not _kill_reader(pipe):
+            while time.monotonic() < deadline and not _kill_reader(pipe, ended):
                 time.sleep(0.05)
 
 
-def _kill_reader(pipe: Path) -> bool:
+def _kill_reader(pipe: Path, ended: set[int]) -> bool:
     for fd in Path("/proc").glob("[0-9]*/fd/*"):
         try:
             target = os.readlink(fd)
         except OSError:
             continue
         pid = int(fd.parts[2])
-        if target == str(pipe) and pid != os.getpid():
+        if target == str(pipe) and pid != os.getpid() and pid not in ended:
             os.kill(pid, signal.SIGKILL)
+            ended.add(pid)
             return True
     return False
 
