@@ -30,6 +30,7 @@ RANK = {
     "batch": 8,
     "cli": 9,
     "testing": 9,
+    "testing_items": 9,
     "__init__": 10,
 }
 

@@ -23,3 +23,67 @@ def test_a_wrong_worksheet_fails_with_the_divergence_and_diagnosis():
     assert "first divergence at XC" in text
     assert "likely hertz-as-angular" in text
     assert "Zp: carried (from XC)" in text
+
+
+# --- folders: one pytest item per worksheet ------------------------------------------
+
+pytest_plugins = ["pytester"]
+
+BROKEN = '[worksheet]\nformat = 1\ntitle = "no circuit"\n[[part]]\nid = "R1"\nkind = "resistor"\n'
+
+
+@pytest.fixture
+def notes(pytester):
+    """A repository-like folder: two worksheets (one right, one wrong), one broken
+    worksheet, and TOML files that are no worksheets."""
+    folder = pytester.mkdir("design-notes")
+    (folder / "snubber.toml").write_text((WORKSHEETS / "coil-snubber.toml").read_text())
+    (folder / "antialias.toml").write_text((WORKSHEETS / "adc-antialias.toml").read_text())
+    (folder / "broken.toml").write_text(BROKEN)
+    (folder / "settings.toml").write_text('[tool.other]\nworksheet = "no"\n')
+    pytester.makefile(".toml", pyproject='[project]\nname = "x"\n')
+    return folder
+
+
+def test_the_plugin_makes_one_item_per_worksheet(pytester, notes):
+    result = pytester.runpytest_inprocess("-p", "handcheck.testing", "-v", str(pytester.path))
+    result.assert_outcomes(passed=1, failed=2)
+    text = result.stdout.str()
+    assert "snubber.toml::check PASSED" in text
+    assert "antialias.toml::check FAILED" in text
+    assert "settings.toml" not in text and "pyproject.toml::" not in text
+    # the failures speak the check's words, not a traceback
+    assert "first divergence at XC" in text and "likely hertz-as-angular" in text
+    assert "broken.toml" in text and "Traceback" not in text
+
+
+def test_a_conftest_loads_the_plugin(pytester, notes):
+    pytester.makeconftest('pytest_plugins = ["handcheck.testing"]\n')
+    result = pytester.runpytest_inprocess(str(notes / "snubber.toml"))
+    result.assert_outcomes(passed=1)
+
+
+def test_worksheet_cases_parametrize_a_folder(pytester, notes):
+    (notes / "broken.toml").unlink()
+    pytester.makepyfile(
+        test_notes=f"""
+        import pytest
+        from handcheck.testing import assert_checks_out, worksheet_cases
+
+        @pytest.mark.parametrize("path", worksheet_cases({str(notes)!r}))
+        def test_worksheet(path):
+            assert_checks_out(path)
+        """
+    )
+    result = pytester.runpytest_inprocess("-v", "test_notes.py")
+    # settings.toml is a *.toml below the folder, as for `handcheck check FOLDER`: refused
+    result.assert_outcomes(passed=1, failed=2)
+    assert "snubber.toml] PASSED" in result.stdout.str()
+
+
+def test_worksheet_cases_of_an_empty_folder_is_refused(tmp_path):
+    from handcheck.errors import WorksheetError
+    from handcheck.testing import worksheet_cases
+
+    with pytest.raises(WorksheetError, match="holds no worksheet"):
+        worksheet_cases(tmp_path)

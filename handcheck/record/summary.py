@@ -19,6 +19,7 @@ from handcheck.record.visible import visible
 
 __all__ = [
     "PROGRESS_FROM",
+    "divergence_text",
     "print_summary_table",
     "progress",
     "stderr_is_terminal",
@@ -160,3 +161,26 @@ def progress(total: int) -> Any:
         return _Progress(total)
     except ImportError:  # rich is missing: check without a bar
         return _NoProgress()
+
+
+def divergence_text(report: Any) -> str:
+    """What a failing test says of a worksheet that does not check out.
+
+    Parameters
+    ----------
+    report
+        A :class:`~handcheck.verify.findings.Report` that is not ``ok``.
+
+    Returns
+    -------
+    str
+        The first divergence, then each step that does not agree (or is unchecked) with
+        its claimed and exact values and its likely mistakes, one per line.
+    """
+    lines = [f"{report.path}: first divergence at {report.first_divergence}"]
+    for step in report.steps:
+        if step.verdict not in ("agrees", "unchecked"):
+            cause = f" (from {step.caused_by})" if step.caused_by else ""
+            lines.append(f"  {step.name}: {step.verdict}{cause}: claimed {step.claimed}, exact {step.expected}")
+            lines.extend(f"    likely {d.mistake}: {d.detail}" for d in step.diagnosis)
+    return "\n".join(lines)
