@@ -45,6 +45,7 @@ from handcheck.verify.claims import (
     relative_error,
     to_complex,
 )
+from handcheck.verify.cycles import in_claimed_convention
 from handcheck.verify.findings import Diagnosis, Report, Shown, StepBase, StepFinding, Verdict
 from handcheck.verify.mistakes import Context, diagnose, worksheet_frequencies
 from handcheck.verify.present import describe_frequency, describe_function, format_number, format_value
@@ -149,7 +150,10 @@ class _Checker:
     def check_response(self, base: StepBase, claim: Claim, quantity: Quantity, tolerance: Tolerance) -> StepFinding:
         """A claimed network function (in s) or a claimed list (poles, zeros, band edges)."""
         if quantity.name in LIST_QUANTITIES:
-            truths = evaluate_values(self.solution, quantity)
+            unit = (claim.items or (claim,))[0].unit_text
+            truths = tuple(
+                in_claimed_convention(t, quantity.name, unit) for t in evaluate_values(self.solution, quantity)
+            )
             return check_list(base, claim, truths, tolerance)
         if claim.form == "list":
             return StepFinding(**base, verdict="differs", message=f"a list is claimed, but {quantity} is one value")
@@ -314,6 +318,7 @@ class _Checker:
                         truth = Value(abs(truth.expr), truth.dim)
                 else:
                     truth = evaluate_quantity(self.solution, quantity)
+                truth = in_claimed_convention(truth, quantity.name, claim.unit_text)
             except HandcheckError as exc:
                 raise self.located(exc, step, "quantity") from None
             if truth is not None and claim.unit_text == "dB":
@@ -349,7 +354,7 @@ class _Checker:
         except HandcheckError as exc:
             raise self.located(exc, step, "quantity" if step.quantity else "formula") from None
         shown: Shown = {
-            "expected": self.expected_text(truth, claim, quantity),
+            "expected": format_value(truth, claim),
             "expected_si": (reference.real, reference.imag),
             "exact": truth.expr,
         }
@@ -504,15 +509,6 @@ class _Checker:
         if follows:
             return None
         return f"the claim is right, but the formula as written gives {format_value(recomputed, claim)}"
-
-    @staticmethod
-    def expected_text(truth: Value, claim: Claim, quantity: Quantity | None) -> str:
-        """The true value in the claim's unit; an angular frequency claimed in hertz is
-        shown in rad/s with its value in hertz beside it, so the two are not confused."""
-        if quantity is not None and quantity.name == "natural_frequency" and "Hz" in claim.unit_text:
-            w = float(to_complex(truth.expr).real)
-            return f"{format_number(w, 6)} rad/s (= {format_number(w / (2 * math.pi), 6)} Hz)"
-        return format_value(truth, claim)
 
     def notes(self) -> tuple[str, ...]:
         """Remarks on the analysis an engineer should not miss."""

@@ -18,6 +18,7 @@ from handcheck.errors import HandcheckError, TimeLimitError
 from handcheck.solve.phasor import solve
 from handcheck.solve.quantities import Quantity, evaluate_quantity
 from handcheck.verify.claims import Claim, Tolerance, agrees, to_complex
+from handcheck.verify.cycles import in_claimed_convention
 from handcheck.verify.present import format_value
 from handcheck.verify.screen import cannot_match
 from handcheck.worksheet.evaluate import Value, evaluate
@@ -87,7 +88,8 @@ def requantify(ctx: Context, circuit: Circuit) -> sympy.Expr | None:
     if ctx.screen and cannot_match(circuit, ctx.quantity, ctx.claim, ctx.tolerance):
         return None
     try:
-        return evaluate_quantity(solve(circuit), ctx.quantity).expr
+        value = evaluate_quantity(solve(circuit), ctx.quantity)
+        return in_claimed_convention(value, ctx.quantity.name, ctx.claim.unit_text).expr
     except TimeLimitError:
         raise
     except (HandcheckError, NotImplementedError, ZeroDivisionError):
