@@ -113,6 +113,226 @@ def _needs_branch(part: Part, controls: set[str]) -> bool:
     return part.kind in _BRANCH or part.id in controls
 
 
+@dataclass(frozen=True)
+class _Stamps:
+    """The arrays being filled while the equations are stamped, with their index maps.
+
+    Only :func:`assemble` makes one and only its helpers below write into it; what
+    leaves the module is the frozen :class:`Equations`.
+    """
+
+    node_index: Mapping[str, int]
+    branch: Mapping[str, int]
+    source_index: Mapping[str, int]
+    key_index: Mapping[str, int]
+    E: np.ndarray
+    G: np.ndarray
+    B: np.ndarray
+    Jx: np.ndarray
+    Jdx: np.ndarray
+    Ju: np.ndarray
+
+    def idx(self, node: str) -> int | None:
+        """Index of a node's voltage unknown (None for ground)."""
+        return None if node == GROUND else self.node_index[node]
+
+
+def _add(matrix: np.ndarray, row: int | None, col: int | None, value: float) -> None:
+    if row is not None and col is not None:
+        matrix[row, col] += value
+
+
+def _kcl_branch(G: np.ndarray, a: int | None, b: int | None, col: int) -> None:
+    """A current unknown ``col`` leaves node a and enters node b."""
+    _add(G, a, col, 1.0)
+    _add(G, b, col, -1.0)
+
+
+def _voltage_row(matrix: np.ndarray, row: int | None, a: int | None, b: int | None, scale: float) -> None:
+    """Add ``scale * (v_a - v_b)`` to a row."""
+    _add(matrix, row, a, scale)
+    _add(matrix, row, b, -scale)
+
+
+def _between(matrix: np.ndarray, a: int | None, b: int | None, c: int | None, d: int | None, value: float) -> None:
+    """A current ``value * (v_c - v_d)`` leaving node a and entering node b."""
+    _voltage_row(matrix, a, c, d, value)
+    _voltage_row(matrix, b, c, d, -value)
+
+
+def _unknowns(circuit: Circuit) -> tuple[list[str], dict[str, int]]:
+    """Labels of the unknowns and the index of each branch-current unknown."""
+    controls = {str(p.control) for p in circuit.parts if p.kind in ("cccs", "ccvs")}
+    labels = [f"v({name})" for name in circuit.nodes]
+    branch: dict[str, int] = {}
+    for part in circuit.parts:
+        if part.kind == "transformer":
+            for name in current_keys(part):
+                branch[name] = len(labels)
+                labels.append(f"i({name})")
+        elif part.kind != "coupling" and _needs_branch(part, controls):
+            branch[part.id] = len(labels)
+            labels.append(f"i({part.id})")
+    return labels, branch
+
+
+def _stamp_opamp(s: _Stamps, part: Part) -> None:
+    """An op-amp: ideal, finite gain A0, or one pole set by its gain-bandwidth product."""
+    out, plus, minus = (s.idx(node) for node in part.nodes)
+    io = s.branch[part.id]
+    _add(s.G, out, io, 1.0)  # the output current enters the op-amp from the output node
+    _voltage_row(s.G, io, plus, minus, 1.0)
+    if part.value != 0:  # finite open-loop gain A: v(+) - v(-) - v(out)/A = 0
+        _add(s.G, io, out, -1.0 / float(part.value))
+    if part.gbw is not None:  # one pole, A(s) = A0/(1 + s A0/gbw): ... - v(out)'/gbw = 0
+        _add(s.E, io, out, -1.0 / float(part.gbw))
+    s.Jx[s.key_index[part.id], io] = 1.0
+
+
+def _stamp_transformer(s: _Stamps, part: Part) -> None:
+    """An ideal transformer: ``v_s = n v_p`` and ``i_p + n i_s = 0``."""
+    p1, p2, s1, s2 = (s.idx(node) for node in part.nodes)
+    ratio = float(part.value)
+    ip, is_ = s.branch[f"{part.id}.primary"], s.branch[f"{part.id}.secondary"]
+    _kcl_branch(s.G, p1, p2, ip)
+    _kcl_branch(s.G, s1, s2, is_)
+    _voltage_row(s.G, ip, s1, s2, 1.0)  # v_s - n v_p = 0
+    _voltage_row(s.G, ip, p1, p2, -ratio)
+    s.G[is_, ip] += 1.0  # i_p + n i_s = 0
+    s.G[is_, is_] += ratio
+    s.Jx[s.key_index[f"{part.id}.primary"], ip] = 1.0
+    s.Jx[s.key_index[f"{part.id}.secondary"], is_] = 1.0
+
+
+def _unknown_kind(circuit: Circuit, part: Part) -> CircuitError:
+    where: Where = {"file": circuit.path, "line": part.line}
+    return CircuitError(f"{part.id} is a {part.kind}, which the time-domain solver does not know", (part.id,), **where)
+
+
+def _stamp_inductor(s: _Stamps, circuit: Circuit, part: Part, row: int, couplings: Mapping[frozenset, Part]) -> None:
+    """An inductor's row ``L i' + sum M i_other' - (v_a - v_b) = 0``."""
+    a, b = s.idx(part.nodes[0]), s.idx(part.nodes[1])
+    value = float(part.value)
+    s.E[row, row] += value
+    _voltage_row(s.G, row, a, b, -1.0)
+    for other in circuit.parts:
+        if other.kind == "inductor" and other.id != part.id:
+            coupling = couplings.get(frozenset((part.id, other.id)))
+            if coupling is not None:
+                mutual = float(coupling.value) * math.sqrt(value * float(other.value))
+                s.E[row, s.branch[other.id]] += mutual
+
+
+def _stamp_with_current(
+    s: _Stamps,
+    circuit: Circuit,
+    part: Part,
+    switches: Literal["after", "before"],
+    couplings: Mapping[frozenset, Part],
+) -> bool | None:
+    """A two-terminal part whose current is an unknown of its own, row ``col``.
+
+    Returns whether a switch is closed (None for any other part).
+    """
+    kind = part.kind
+    a, b = s.idx(part.nodes[0]), s.idx(part.nodes[1])
+    value = float(part.value)
+    col = row = s.branch[part.id]
+    G = s.G
+    _kcl_branch(G, a, b, col)
+    s.Jx[s.key_index[part.id], col] = 1.0
+    if kind == "resistor":
+        _voltage_row(G, row, a, b, 1.0)
+        G[row, col] -= value
+    elif kind == "capacitor":
+        _voltage_row(s.E, row, a, b, value)
+        G[row, col] -= 1.0
+    elif kind == "inductor":
+        _stamp_inductor(s, circuit, part, row, couplings)
+    elif kind == "voltage":
+        _voltage_row(G, row, a, b, 1.0)
+        s.B[row, s.source_index[part.id]] = 1.0
+    elif kind == "current":
+        G[row, col] += 1.0
+        s.B[row, s.source_index[part.id]] = 1.0
+    elif kind in ("vcvs", "vccs"):
+        c, d = (s.idx(node) for node in part.control)  # type: ignore[union-attr]
+        if kind == "vcvs":
+            _voltage_row(G, row, a, b, 1.0)
+        else:
+            G[row, col] += 1.0
+        _voltage_row(G, row, c, d, -value)
+    elif kind in ("cccs", "ccvs"):
+        if kind == "cccs":
+            G[row, col] += 1.0
+        else:
+            _voltage_row(G, row, a, b, 1.0)
+        G[row, s.branch[str(part.control)]] -= value
+    elif kind == "switch":
+        is_closed = (part.value == 1) == (switches == "after")
+        if is_closed:
+            _voltage_row(G, row, a, b, 1.0)
+        else:
+            G[row, col] += 1.0
+        return is_closed
+    else:
+        raise _unknown_kind(circuit, part)
+    return None
+
+
+def _stamp_by_voltage(s: _Stamps, circuit: Circuit, part: Part) -> None:
+    """A part whose current follows from the node voltages, their derivatives or the sources."""
+    kind = part.kind
+    a, b = s.idx(part.nodes[0]), s.idx(part.nodes[1])
+    value = float(part.value)
+    key = s.key_index[part.id]
+    if kind == "resistor":
+        conductance = 1.0 / value
+        _between(s.G, a, b, a, b, conductance)
+        _voltage_row(s.Jx, key, a, b, conductance)
+    elif kind == "capacitor":
+        _between(s.E, a, b, a, b, value)
+        _voltage_row(s.Jdx, key, a, b, value)
+    elif kind == "current":
+        k = s.source_index[part.id]
+        _add(s.B, a, k, -1.0)
+        _add(s.B, b, k, 1.0)
+        s.Ju[key, k] = 1.0
+    elif kind == "vccs":
+        c, d = (s.idx(node) for node in part.control)  # type: ignore[union-attr]
+        _between(s.G, a, b, c, d, value)
+        _voltage_row(s.Jx, key, c, d, value)
+    elif kind == "cccs":
+        control = s.branch[str(part.control)]
+        _add(s.G, a, control, value)
+        _add(s.G, b, control, -value)
+        s.Jx[key, control] = value
+    else:
+        raise _unknown_kind(circuit, part)
+
+
+def _empty_stamps(circuit: Circuit) -> tuple[list[str], tuple[str, ...], tuple[str, ...], _Stamps]:
+    """Labels, sources, current keys and zeroed arrays of the circuit's equations."""
+    labels, branch = _unknowns(circuit)
+    n = len(labels)
+    sources = tuple(p.id for p in circuit.parts if p.kind in ("voltage", "current"))
+    m = len(sources)
+    keys = tuple(key for p in circuit.parts for key in current_keys(p))
+    stamps = _Stamps(
+        node_index={name: k for k, name in enumerate(circuit.nodes)},
+        branch=branch,
+        source_index={ident: k for k, ident in enumerate(sources)},
+        key_index={key: k for k, key in enumerate(keys)},
+        E=np.zeros((n, n)),
+        G=np.zeros((n, n)),
+        B=np.zeros((n, m)),
+        Jx=np.zeros((len(keys), n)),
+        Jdx=np.zeros((len(keys), n)),
+        Ju=np.zeros((len(keys), m)),
+    )
+    return labels, sources, keys, stamps
+
+
 def assemble(circuit: Circuit, *, switches: Literal["after", "before"] = "after") -> Equations:
     """Stamp the circuit's equations numerically.
 
@@ -140,187 +360,39 @@ def assemble(circuit: Circuit, *, switches: Literal["after", "before"] = "after"
     ``v_s = n v_p`` and ``i_p + n i_s = 0`` with both currents entering the dotted
     ends (textbook ideal-transformer relations, from memory).
     """
-    parts = circuit.parts
-    nodes = tuple(circuit.nodes)
-    node_index = {name: k for k, name in enumerate(nodes)}
-    controls = {str(p.control) for p in parts if p.kind in ("cccs", "ccvs")}
-
-    labels = [f"v({name})" for name in nodes]
-    branch: dict[str, int] = {}
-    for part in parts:
-        if part.kind == "transformer":
-            for name in current_keys(part):
-                branch[name] = len(labels)
-                labels.append(f"i({name})")
-        elif part.kind != "coupling" and _needs_branch(part, controls):
-            branch[part.id] = len(labels)
-            labels.append(f"i({part.id})")
-    n = len(labels)
-    sources = tuple(p.id for p in parts if p.kind in ("voltage", "current"))
-    source_index = {ident: k for k, ident in enumerate(sources)}
-    m = len(sources)
-
-    E = np.zeros((n, n))
-    G = np.zeros((n, n))
-    B = np.zeros((n, m))
-    keys = [key for p in parts for key in current_keys(p)]
-    key_index = {key: k for k, key in enumerate(keys)}
-    Jx = np.zeros((len(keys), n))
-    Jdx = np.zeros((len(keys), n))
-    Ju = np.zeros((len(keys), m))
-
-    def idx(node: str) -> int | None:
-        return None if node == GROUND else node_index[node]
-
-    def add(matrix: np.ndarray, row: int | None, col: int | None, value: float) -> None:
-        if row is not None and col is not None:
-            matrix[row, col] += value
-
-    def kcl_branch(a: int | None, b: int | None, col: int) -> None:
-        """A current unknown ``col`` leaves node a and enters node b."""
-        add(G, a, col, 1.0)
-        add(G, b, col, -1.0)
-
-    def voltage_row(matrix: np.ndarray, row: int | None, a: int | None, b: int | None, scale: float) -> None:
-        """Add ``scale * (v_a - v_b)`` to a row."""
-        add(matrix, row, a, scale)
-        add(matrix, row, b, -scale)
-
-    def between(matrix: np.ndarray, a: int | None, b: int | None, c: int | None, d: int | None, value: float) -> None:
-        """A current ``value * (v_c - v_d)`` leaving node a and entering node b."""
-        voltage_row(matrix, a, c, d, value)
-        voltage_row(matrix, b, c, d, -value)
-
+    labels, sources, keys, s = _empty_stamps(circuit)
     closed: dict[str, bool] = {}
-    couplings = {frozenset(p.inductors): p for p in parts if p.kind == "coupling"}
-
-    for part in parts:
-        kind = part.kind
-        where: Where = {"file": circuit.path, "line": part.line}
-        if kind in ("coupling",):
+    couplings = {frozenset(p.inductors): p for p in circuit.parts if p.kind == "coupling"}
+    for part in circuit.parts:
+        if part.kind == "coupling":
             continue
-        if kind == "opamp":
-            out, plus, minus = (idx(node) for node in part.nodes)
-            io = branch[part.id]
-            add(G, out, io, 1.0)  # the output current enters the op-amp from the output node
-            voltage_row(G, io, plus, minus, 1.0)
-            if part.value != 0:  # finite open-loop gain A: v(+) - v(-) - v(out)/A = 0
-                add(G, io, out, -1.0 / float(part.value))
-            if part.gbw is not None:  # one pole, A(s) = A0/(1 + s A0/gbw): ... - v(out)'/gbw = 0
-                add(E, io, out, -1.0 / float(part.gbw))
-            Jx[key_index[part.id], io] = 1.0
-            continue
-        if kind == "transformer":
-            p1, p2, s1, s2 = (idx(node) for node in part.nodes)
-            ratio = float(part.value)
-            ip, is_ = branch[f"{part.id}.primary"], branch[f"{part.id}.secondary"]
-            kcl_branch(p1, p2, ip)
-            kcl_branch(s1, s2, is_)
-            voltage_row(G, ip, s1, s2, 1.0)  # v_s - n v_p = 0
-            voltage_row(G, ip, p1, p2, -ratio)
-            G[is_, ip] += 1.0  # i_p + n i_s = 0
-            G[is_, is_] += ratio
-            Jx[key_index[f"{part.id}.primary"], ip] = 1.0
-            Jx[key_index[f"{part.id}.secondary"], is_] = 1.0
-            continue
-
-        a, b = idx(part.nodes[0]), idx(part.nodes[1])
-        value = float(part.value)
-        key = key_index[part.id]
-        col = branch.get(part.id)
-
-        if col is not None:
-            kcl_branch(a, b, col)
-            Jx[key, col] = 1.0
-            row = col
-            if kind == "resistor":
-                voltage_row(G, row, a, b, 1.0)
-                G[row, col] -= value
-            elif kind == "capacitor":
-                voltage_row(E, row, a, b, value)
-                G[row, col] -= 1.0
-            elif kind == "inductor":
-                E[row, col] += value
-                voltage_row(G, row, a, b, -1.0)
-                for other in parts:
-                    if other.kind == "inductor" and other.id != part.id:
-                        coupling = couplings.get(frozenset((part.id, other.id)))
-                        if coupling is not None:
-                            mutual = float(coupling.value) * math.sqrt(value * float(other.value))
-                            E[row, branch[other.id]] += mutual
-            elif kind == "voltage":
-                voltage_row(G, row, a, b, 1.0)
-                B[row, source_index[part.id]] = 1.0
-            elif kind == "current":
-                G[row, col] += 1.0
-                B[row, source_index[part.id]] = 1.0
-            elif kind == "vcvs":
-                c, d = (idx(node) for node in part.control)  # type: ignore[union-attr]
-                voltage_row(G, row, a, b, 1.0)
-                voltage_row(G, row, c, d, -value)
-            elif kind == "vccs":
-                c, d = (idx(node) for node in part.control)  # type: ignore[union-attr]
-                G[row, col] += 1.0
-                voltage_row(G, row, c, d, -value)
-            elif kind == "cccs":
-                G[row, col] += 1.0
-                G[row, branch[str(part.control)]] -= value
-            elif kind == "ccvs":
-                voltage_row(G, row, a, b, 1.0)
-                G[row, branch[str(part.control)]] -= value
-            elif kind == "switch":
-                is_closed = (part.value == 1) == (switches == "after")
+        if part.kind == "opamp":
+            _stamp_opamp(s, part)
+        elif part.kind == "transformer":
+            _stamp_transformer(s, part)
+        elif part.id in s.branch:
+            is_closed = _stamp_with_current(s, circuit, part, switches, couplings)
+            if is_closed is not None:
                 closed[part.id] = is_closed
-                if is_closed:
-                    voltage_row(G, row, a, b, 1.0)
-                else:
-                    G[row, col] += 1.0
-            else:
-                raise CircuitError(
-                    f"{part.id} is a {kind}, which the time-domain solver does not know", (part.id,), **where
-                )
-            continue
-
-        # parts whose current follows from the node voltages, their derivatives or the sources
-        if kind == "resistor":
-            conductance = 1.0 / value
-            between(G, a, b, a, b, conductance)
-            voltage_row(Jx, key, a, b, conductance)
-        elif kind == "capacitor":
-            between(E, a, b, a, b, value)
-            voltage_row(Jdx, key, a, b, value)
-        elif kind == "current":
-            k = source_index[part.id]
-            add(B, a, k, -1.0)
-            add(B, b, k, 1.0)
-            Ju[key, k] = 1.0
-        elif kind == "vccs":
-            c, d = (idx(node) for node in part.control)  # type: ignore[union-attr]
-            between(G, a, b, c, d, value)
-            voltage_row(Jx, key, c, d, value)
-        elif kind == "cccs":
-            control = branch[str(part.control)]
-            add(G, a, control, value)
-            add(G, b, control, -value)
-            Jx[key, control] = value
         else:
-            raise CircuitError(
-                f"{part.id} is a {kind}, which the time-domain solver does not know", (part.id,), **where
-            )
+            _stamp_by_voltage(s, circuit, part)
 
-    capacitors = tuple((p.id, idx(p.nodes[0]), idx(p.nodes[1]), float(p.value)) for p in parts if p.kind == "capacitor")
-    inductors = tuple((p.id, branch[p.id], float(p.value)) for p in parts if p.kind == "inductor")
+    parts = circuit.parts
+    capacitors = tuple(
+        (p.id, s.idx(p.nodes[0]), s.idx(p.nodes[1]), float(p.value)) for p in parts if p.kind == "capacitor"
+    )
+    inductors = tuple((p.id, s.branch[p.id], float(p.value)) for p in parts if p.kind == "inductor")
     return Equations(
         labels=tuple(labels),
-        nodes=nodes,
-        E=_frozen(E),
-        G=_frozen(G),
-        B=_frozen(B),
+        nodes=tuple(circuit.nodes),
+        E=_frozen(s.E),
+        G=_frozen(s.G),
+        B=_frozen(s.B),
         sources=sources,
-        current_keys=tuple(keys),
-        Jx=_frozen(Jx),
-        Jdx=_frozen(Jdx),
-        Ju=_frozen(Ju),
+        current_keys=keys,
+        Jx=_frozen(s.Jx),
+        Jdx=_frozen(s.Jdx),
+        Ju=_frozen(s.Ju),
         capacitors=capacitors,
         inductors=inductors,
         switches=MappingProxyType(closed),
