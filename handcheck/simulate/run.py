@@ -43,7 +43,7 @@ from handcheck.circuit.model import Circuit
 from handcheck.errors import LimitError
 from handcheck.simulate.generators import Breakpoint, Exosystem, breakpoints
 from handcheck.simulate.march import march, rest_state, steady_before
-from handcheck.simulate.statemodel import readonly, slowest_rate, state_model
+from handcheck.simulate.statemodel import StateModel, readonly, slowest_rate, state_model
 
 __all__ = [
     "FIT_PERIODS",
@@ -184,7 +184,44 @@ def simulate(
     sinusoid or pulse train; at least 20 per period of the fastest ringing natural
     mode; an integration step no larger than the sample interval (here: equal).
     """
-    # Long by design: the span, sampling and note rules trade against each other and read best in one place.
+    _check_arguments(span, tolerance, samples_per_period, min_samples, max_samples)
+    model = state_model(circuit)
+    omega = float(circuit.omega)
+    scale = _time_scale(circuit, model, tolerance)
+    grid = _sampling(circuit, scale, span, samples_per_period, min_samples, max_samples)
+    notes = _sampling_notes(scale, grid, samples_per_period, max_samples)
+    times, points, Q, more = _march_from_start(circuit, model, grid)
+    notes += more
+    voltages, currents = _outputs(model, Q)
+    rules = _rules_text(grid, scale, model, points, notes, min_samples=min_samples, asked=samples_per_period)
+    return Simulation(
+        circuit=circuit,
+        times=readonly(times),
+        voltages=MappingProxyType(voltages),
+        currents=MappingProxyType(currents),
+        step=grid.step,
+        span=grid.span,
+        omega=omega,
+        modes=model.modes,
+        rules=rules,
+        settles_from=scale.settles_from,
+        breakpoints=tuple(p.time for p in points),
+        index=model.index,
+        samples_per_period=_per_period(scale, grid),
+        tolerance=tolerance,
+        notes=tuple(notes),
+    )
+
+
+def _per_period(scale: _TimeScale, grid: _Grid) -> float:
+    """Samples per period of the fastest source sinusoid or pulse train (inf when none)."""
+    return scale.fastest / grid.step if math.isfinite(scale.fastest) else math.inf
+
+
+def _check_arguments(
+    span: float | None, tolerance: float, samples_per_period: float, min_samples: int, max_samples: int
+) -> None:
+    """Refuse arguments of :func:`simulate` that no run can meet."""
     if not 0 < tolerance < 1:
         raise ValueError(f"tolerance must lie between 0 and 1, not {tolerance}")
     if samples_per_period < MIN_PER_PERIOD:
@@ -196,12 +233,42 @@ def simulate(
     if span is not None and not span > 0:
         raise ValueError(f"span must be a positive time in seconds, not {span}")
 
-    model = state_model(circuit)
-    eq, exo = model.equations, model.exo
-    omega = float(circuit.omega)
-    notes: list[str] = []
 
-    # ---- time scale, span and sample interval -----------------------------------
+@dataclass(frozen=True)
+class _TimeScale:
+    """The circuit's times that set a run's span and sample interval.
+
+    Attributes
+    ----------
+    unit, unit_name
+        The unit a default span is counted in (a period, a pulse period, a time
+        constant, ...) and its name.
+    settle
+        Time for the slowest mode to decay below the tolerance (s; inf if it never does).
+    settles_from
+        The last isolated breakpoint (s).
+    fastest
+        Period of the fastest source sinusoid or pulse train (s; inf when none).
+    ring_period
+        Period of the fastest ringing natural mode (s; inf when none).
+    held, lasting
+        Natural modes at s = 0, and modes that never die out.
+    """
+
+    unit: float
+    unit_name: str
+    settle: float
+    settles_from: float
+    fastest: float
+    ring_period: float
+    held: list[complex]
+    lasting: list[complex]
+
+
+def _time_scale(circuit: Circuit, model: StateModel, tolerance: float) -> _TimeScale:
+    """The unit of a default span, the settling time and the fastest periods."""
+    exo = model.exo
+    omega = float(circuit.omega)
     damping = [d for plan in exo.plans for d in plan.decays]
     rate, _, held, lasting = slowest_rate(model.modes, omega, damping)
     settles_from = max((plan.settles_from for plan in exo.plans), default=0.0)
@@ -220,48 +287,89 @@ def simulate(
         ring = [2 * math.pi / abs(m.imag) for m in lasting if m.imag != 0]
         unit = max(ring) if ring else (settles_from or 1.0)
         unit_name = "period of the slowest undamped mode" if ring else "second" if unit == 1.0 else "delay"
-    fastest = min(periods) if periods else math.inf
     ringing = [abs(m.imag) for m in model.modes if abs(m.imag) > 1e-9 * abs(m)]
-    ring_period = 2 * math.pi / max(ringing) if ringing else math.inf
+    return _TimeScale(
+        unit=unit,
+        unit_name=unit_name,
+        settle=settle,
+        settles_from=settles_from,
+        fastest=min(periods) if periods else math.inf,
+        ring_period=2 * math.pi / max(ringing) if ringing else math.inf,
+        held=held,
+        lasting=lasting,
+    )
 
+
+@dataclass(frozen=True)
+class _Grid:
+    """The run's span (s), its number of sample intervals and the step (s).
+
+    ``count`` is the number of units of a default span (0 for a span given), and
+    ``short`` says the default span was cut to stay within the sample limit.
+    """
+
+    span: float
+    total: int
+    step: float
+    count: int = 0
+    short: bool = False
+
+
+def _sampling(
+    circuit: Circuit,
+    scale: _TimeScale,
+    span: float | None,
+    samples_per_period: float,
+    min_samples: int,
+    max_samples: int,
+) -> _Grid:
+    """The span and sample interval that meet the sampling rules within the sample limit."""
+    fastest, ring_period = scale.fastest, scale.ring_period
     # samples per unit of time needed by each rule
-    want = {
-        "asked": 1 / (fastest / samples_per_period) if math.isfinite(fastest) else 0.0,
-        "least": 1 / (fastest / MIN_PER_PERIOD) if math.isfinite(fastest) else 0.0,
-        "ring": 1 / (ring_period / RING_PER_PERIOD) if math.isfinite(ring_period) else 0.0,
-    }
-    short = False
-    target = max(want["asked"], want["ring"])
-    floor = want["least"]
+    target = max(
+        1 / (fastest / samples_per_period) if math.isfinite(fastest) else 0.0,
+        1 / (ring_period / RING_PER_PERIOD) if math.isfinite(ring_period) else 0.0,
+    )
+    floor = 1 / (fastest / MIN_PER_PERIOD) if math.isfinite(fastest) else 0.0
     if span is None:
-        if math.isfinite(settle):
-            count = math.ceil((settles_from + settle) / unit - 1e-9) + FIT_PERIODS
-        else:
-            count = (math.ceil(settles_from / unit - 1e-9) if settles_from else 0) + UNSETTLED_UNITS
-        per_unit = max(math.ceil(unit * target - 1e-9), 1)
-        if count * per_unit > max_samples:
-            least = max(math.ceil(unit * floor - 1e-9), 1)
-            per_unit = max(max_samples // count, least)
-            if count * per_unit > max_samples:
-                count = max(max_samples // per_unit, FIT_PERIODS + 1)
-                short = True
-        if count * per_unit < min_samples:
-            per_unit = math.ceil(min_samples / count)
-        total = count * per_unit
-        span = count * unit
-        step = unit / per_unit
+        return _default_grid(scale, target, floor, min_samples, max_samples)
+    total = max(min_samples, math.ceil(span * target - 1e-9))
+    if total > max_samples:
+        least = max(min_samples, math.ceil(span * floor - 1e-9))
+        if least > max_samples:
+            raise LimitError(
+                f"a span of {span:g} s needs {least} samples at {MIN_PER_PERIOD} per period of the fastest "
+                f"source; the limit is {max_samples}: shorten [transient] span",
+                file=circuit.path,
+            )
+        total = max_samples
+    return _Grid(span=span, total=total, step=span / total)
+
+
+def _default_grid(scale: _TimeScale, target: float, floor: float, min_samples: int, max_samples: int) -> _Grid:
+    """Whole units until the transient is gone plus ``FIT_PERIODS``, sampled at ``target`` per second."""
+    unit, settles_from = scale.unit, scale.settles_from
+    short = False
+    if math.isfinite(scale.settle):
+        count = math.ceil((settles_from + scale.settle) / unit - 1e-9) + FIT_PERIODS
     else:
-        total = max(min_samples, math.ceil(span * target - 1e-9))
-        if total > max_samples:
-            least = max(min_samples, math.ceil(span * floor - 1e-9))
-            if least > max_samples:
-                raise LimitError(
-                    f"a span of {span:g} s needs {least} samples at {MIN_PER_PERIOD} per period of the fastest "
-                    f"source; the limit is {max_samples}: shorten [transient] span",
-                    file=circuit.path,
-                )
-            total = max_samples
-        step = span / total
+        count = (math.ceil(settles_from / unit - 1e-9) if settles_from else 0) + UNSETTLED_UNITS
+    per_unit = max(math.ceil(unit * target - 1e-9), 1)
+    if count * per_unit > max_samples:
+        least = max(math.ceil(unit * floor - 1e-9), 1)
+        per_unit = max(max_samples // count, least)
+        if count * per_unit > max_samples:
+            count = max(max_samples // per_unit, FIT_PERIODS + 1)
+            short = True
+    if count * per_unit < min_samples:
+        per_unit = math.ceil(min_samples / count)
+    return _Grid(span=count * unit, total=count * per_unit, step=unit / per_unit, count=count, short=short)
+
+
+def _sampling_notes(scale: _TimeScale, grid: _Grid, samples_per_period: float, max_samples: int) -> list[str]:
+    """Notes on what the sample limit cost and on modes that do not decay."""
+    notes: list[str] = []
+    fastest, ring_period, step = scale.fastest, scale.ring_period, grid.step
     if math.isfinite(fastest) and fastest / step < samples_per_period * (1 - 1e-9):
         notes.append(
             f"the sample density was lowered to {fastest / step:.4g} per period of the fastest source "
@@ -273,36 +381,44 @@ def simulate(
             f"but drawn with {ring_period / step:.3g} samples per period (fewer than {RING_PER_PERIOD}), "
             f"to stay within {max_samples} samples"
         )
-    if short:
+    if grid.short:
         notes.append(
-            f"the run was cut to {count} {unit_name}s to stay within {max_samples} samples: "
+            f"the run was cut to {grid.count} {scale.unit_name}s to stay within {max_samples} samples: "
             "it is shorter than the transient needs"
         )
-    if held:
+    if scale.held:
         notes.append(
-            f"{len(held)} natural mode(s) at s = 0 (a charge or flux with no path to decay): "
+            f"{len(scale.held)} natural mode(s) at s = 0 (a charge or flux with no path to decay): "
             "their part of the response holds a constant (or ramps under a constant drive)"
         )
-    if lasting:
-        worst = max(lasting, key=lambda m: m.real)
+    if scale.lasting:
+        worst = max(scale.lasting, key=lambda m: m.real)
         kind = "grows" if worst.real > 1e-9 * abs(worst) else "never dies out"
         notes.append(f"the natural mode s = {worst:.6g} 1/s {kind}: the circuit does not settle")
+    return notes
 
-    # ---- initial state --------------------------------------------------------
+
+def _march_from_start(
+    circuit: Circuit, model: StateModel, grid: _Grid
+) -> tuple[np.ndarray, tuple[Breakpoint, ...], np.ndarray, list[str]]:
+    """Sample times, source breakpoints, the state at each sample, and notes on the start."""
+    eq, exo = model.equations, model.exo
+    notes: list[str] = []
     if exo.start == "steady":
-        x0, more = steady_before(circuit, exo)
-        notes += more
+        x0, notes = steady_before(circuit, exo)
     else:
         x0 = rest_state(circuit, eq)
     q = model.consistent(x0, exo.initial)
+    times = grid.step * np.arange(grid.total + 1)
+    times[-1] = grid.span
+    points = breakpoints(exo, grid.span, merge=1e-12 * grid.span)
+    Q = march(model, q, step=grid.step, total=grid.total, points=points, times=times)
+    return times, points, Q, notes
 
-    # ---- march ----------------------------------------------------------------
-    times = step * np.arange(total + 1)
-    times[-1] = span
-    points = breakpoints(exo, span, merge=1e-12 * span)
-    Q = march(model, q, step=step, total=total, points=points, times=times)
 
-    # ---- outputs --------------------------------------------------------------
+def _outputs(model: StateModel, Q: np.ndarray) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
+    """Every node voltage and part current at the samples of the state ``Q``."""
+    eq, exo = model.equations, model.exo
     d, dc = model.A.shape[0], model.circuit_states
     Wsel = np.zeros((exo.size, d))
     Wsel[:, dc:] = np.eye(exo.size)
@@ -312,54 +428,23 @@ def simulate(
     currents_all = Y_i @ Q
     voltages = {name: readonly(V[k]) for k, name in enumerate(eq.nodes)}
     currents = {key: readonly(currents_all[k]) for k, key in enumerate(eq.current_keys)}
-
-    per_period = fastest / step if math.isfinite(fastest) else math.inf
-    rules = _rules_text(
-        total=total,
-        span=span,
-        step=step,
-        min_samples=min_samples,
-        per_period=per_period,
-        asked=samples_per_period,
-        ring_period=ring_period,
-        points=points,
-        index=model.index,
-        states=model.circuit_states,
-        notes=notes,
-    )
-    return Simulation(
-        circuit=circuit,
-        times=readonly(times),
-        voltages=MappingProxyType(voltages),
-        currents=MappingProxyType(currents),
-        step=step,
-        span=span,
-        omega=omega,
-        modes=model.modes,
-        rules=rules,
-        settles_from=settles_from,
-        breakpoints=tuple(p.time for p in points),
-        index=model.index,
-        samples_per_period=per_period,
-        tolerance=tolerance,
-        notes=tuple(notes),
-    )
+    return voltages, currents
 
 
 def _rules_text(
-    *,
-    total: int,
-    span: float,
-    step: float,
-    min_samples: int,
-    per_period: float,
-    asked: float,
-    ring_period: float,
+    grid: _Grid,
+    scale: _TimeScale,
+    model: StateModel,
     points: tuple[Breakpoint, ...],
-    index: int,
-    states: int,
     notes: list[str],
+    *,
+    min_samples: int,
+    asked: float,
 ) -> str:
+    """What the run did and which sampling rules it met, one sentence a line."""
+    total, span, step = grid.total, grid.span, grid.step
+    index, states = model.index, model.circuit_states
+    per_period, ring_period = _per_period(scale, grid), scale.ring_period
     lines = [
         f"Method: exact discretisation x(t + h) = expm(A h) x(t) of {states} circuit state(s) "
         "augmented with the sources' own generators (oscillators for sinusoids, level and slope for "
