@@ -209,3 +209,25 @@ def test_sallen_key_against_scipy_signal() -> None:
 def test_questions_a_response_cannot_answer(quantity: str, message: str) -> None:
     with pytest.raises(handcheck.HandcheckError, match=message):
         run(ladder(("1", "2", "1")), [("x", quantity, "1 Hz")])
+
+
+def test_a_network_function_is_shown_in_the_authors_form_with_scipy_normalised_coefficients():
+    # Series RLC, output across C: H = 1/(LC) / (s^2 + (R/L) s + 1/(LC)) (Alexander &
+    # Sadiku, 5th ed., section 14.4, from memory); scipy.signal.normalize makes the
+    # denominator monic, as the expected value is shown.
+    from scipy import signal
+
+    r, l, c = 100.0, 0.1, 10e-6
+    b, a = signal.normalize([2.0 / (l * c)], [2.0, 2.0 * r / l, 2.0 / (l * c)])
+    parts = "\n".join(
+        [
+            'Vin = { voltage = "1 V", frequency = "100 Hz", nodes = ["in", "gnd"] }',
+            'Rs = { resistor = "100 ohm", nodes = ["in", "m"] }',
+            'Ls = { inductor = "100 mH", nodes = ["m", "out"] }',
+            'Cs = { capacitor = "10 uF", nodes = ["out", "gnd"] }',
+        ]
+    )
+    steps = run(parts, [("H", "network_function(voltage(out), voltage(in))", "1e6/(s^2 + 1000*s + 1e6)")])
+    shown = f"{round(b[0])}/(s^2 + {round(a[1])}*s + {round(a[2])})"
+    assert steps["H"].expected == shown == "1000000/(s^2 + 1000*s + 1000000)"
+    assert steps["H"].verdict == "agrees"

@@ -12,7 +12,7 @@ from handcheck.verify.claims import Claim, to_complex
 from handcheck.worksheet.evaluate import Value
 from handcheck.worksheet.units import dim_name
 
-__all__ = ["describe_frequency", "format_number", "format_value"]
+__all__ = ["describe_frequency", "describe_rational", "format_number", "format_value"]
 
 _NUMBER = re.compile(r"(\d+\.?\d*|\.\d+)")
 
@@ -85,3 +85,70 @@ def describe_function(wave: object, claim: Claim) -> str:
         expr = expr / claim.unit_factor
     text = sympy.sstr(sympy.N(expr, 5))
     return f"{text} {claim.unit_text}".strip()
+
+
+def describe_rational(expr: sympy.Expr, digits: int = 6) -> str:
+    """A rational function of one variable as an author writes it: the denominator's
+    leading coefficient 1, descending powers, ``^`` for powers, numbers to ``digits``
+    significant digits (an integer of up to seven digits as it is).
+
+    Parameters
+    ----------
+    expr
+        An exact rational function, like a network function of s.
+    digits
+        Significant digits of a coefficient that is no short integer.
+
+    Returns
+    -------
+    str
+
+    Examples
+    --------
+    >>> s = sympy.Symbol("s")
+    >>> describe_rational(2000000 / (2 * s**2 + 2000 * s + 2000000))
+    '1000000/(s^2 + 1000*s + 1000000)'
+    >>> describe_rational(s / (s + 1000 * sympy.pi))
+    's/(s + 3141.59)'
+    """
+    variables = sorted(expr.free_symbols, key=str)
+    if len(variables) != 1:
+        return sympy.sstr(sympy.N(expr, digits)).replace("**", "^")
+    var = variables[0]
+    num, den = sympy.fraction(sympy.cancel(sympy.together(expr)))
+    top = sympy.Poly(num, var).all_coeffs()
+    bottom = sympy.Poly(den, var).all_coeffs()
+    lead = bottom[0]
+    top, bottom = [c / lead for c in top], [c / lead for c in bottom]
+    numerator = _polynomial_text(top, str(var), digits)
+    if len(bottom) == 1:
+        return numerator
+    if sum(1 for c in top if c != 0) > 1:
+        numerator = f"({numerator})"
+    return f"{numerator}/({_polynomial_text(bottom, str(var), digits)})"
+
+
+def _polynomial_text(coefficients: list[sympy.Expr], var: str, digits: int) -> str:
+    """``c0*s^n + c1*s^(n-1) + ...`` with zero terms left out and unit coefficients implied."""
+    degree = len(coefficients) - 1
+    text = ""
+    for k, c in enumerate(coefficients):
+        power = degree - k
+        if c == 0:
+            continue
+        value = complex(sympy.N(c, 20))
+        negative = value.real < 0 if value.real != 0 else value.imag < 0
+        size = -c if negative else c
+        if size.is_Integer and abs(int(size)) < 10**7:
+            number = str(size)
+        elif value.imag == 0:
+            number = format_number(abs(value.real), digits)
+        else:
+            z = -value if negative else value
+            sign_j = "-" if z.imag < 0 else "+"
+            number = f"({format_number(z.real, digits)} {sign_j} {format_number(abs(z.imag), digits)}j)"
+        monomial = "" if power == 0 else var if power == 1 else f"{var}^{power}"
+        term = number if not monomial else monomial if number == "1" else f"{number}*{monomial}"
+        sign = "-" if negative else "+"
+        text = (f"-{term}" if negative else term) if not text else f"{text} {sign} {term}"
+    return text or "0"

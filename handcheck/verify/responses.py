@@ -20,7 +20,7 @@ import sympy
 
 from handcheck.verify.claims import LAPLACE, Claim, Tolerance, agrees, relative_error, to_complex
 from handcheck.verify.findings import Expected, StepBase, StepFinding, Verdict
-from handcheck.verify.present import format_number, format_value
+from handcheck.verify.present import describe_rational, format_number, format_value
 from handcheck.worksheet.evaluate import Value
 
 __all__ = ["check_function_of_s", "check_list"]
@@ -57,7 +57,7 @@ def _at(expr: sympy.Expr, w: float) -> complex:
 def check_function_of_s(base: StepBase, claim: Claim, truth: Value, tolerance: Tolerance) -> StepFinding:
     """The verdict on a claimed network function against the exact one."""
     shown: Expected = {
-        "expected": f"{sympy.sstr(sympy.N(truth.expr, 6))} {claim.unit_text}".strip(),
+        "expected": f"{describe_rational(truth.expr)} {claim.unit_text}".strip(),
         "exact": truth.expr,
         "expected_si": None,
     }
