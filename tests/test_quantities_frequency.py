@@ -217,8 +217,8 @@ def test_a_network_function_is_shown_in_the_authors_form_with_scipy_normalised_c
     # denominator monic, as the expected value is shown.
     from scipy import signal
 
-    r, l, c = 100.0, 0.1, 10e-6
-    b, a = signal.normalize([2.0 / (l * c)], [2.0, 2.0 * r / l, 2.0 / (l * c)])
+    r, ind, c = 100.0, 0.1, 10e-6
+    b, a = signal.normalize([2.0 / (ind * c)], [2.0, 2.0 * r / ind, 2.0 / (ind * c)])
     parts = "\n".join(
         [
             'Vin = { voltage = "1 V", frequency = "100 Hz", nodes = ["in", "gnd"] }',
@@ -231,3 +231,27 @@ def test_a_network_function_is_shown_in_the_authors_form_with_scipy_normalised_c
     shown = f"{round(b[0])}/(s^2 + {round(a[1])}*s + {round(a[2])})"
     assert steps["H"].expected == shown == "1000000/(s^2 + 1000*s + 1000000)"
     assert steps["H"].verdict == "agrees"
+
+
+@pytest.mark.parametrize(
+    "quantity",
+    [
+        "magnitude(network_function(voltage(out), voltage(in)))",
+        "phase(network_function(voltage(out), voltage(in)))",
+        'at_frequency(network_function(voltage(out), voltage(in)), "1 kHz")',
+    ],
+)
+def test_a_phasor_function_of_a_network_function_says_what_to_write(quantity):
+    # Common practice: a function of s has no single magnitude; the message names transfer().
+    parts = "\n".join(
+        [
+            'Vin = { voltage = "1 V", frequency = "100 Hz", nodes = ["in", "gnd"] }',
+            'R1 = { resistor = "1 kohm", nodes = ["in", "out"] }',
+            'C1 = { capacitor = "1 uF", nodes = ["out", "gnd"] }',
+        ]
+    )
+    with pytest.raises(
+        handcheck.HandcheckError, match=r"network_function\(\.\.\.\) is a function of s|transfer\("
+    ) as info:
+        run(parts, [("H", quantity, "0.5")])
+    assert "transfer(" in str(info.value) and "not a finite number" not in str(info.value)

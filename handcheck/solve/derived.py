@@ -292,6 +292,15 @@ def evaluate_derived(solution: Solution, q: object, evaluate: Evaluate) -> Value
         shorted = solve(_shorted(circuit, a, b, text))
         return Value(part_current(shorted, shorted.circuit.part(_SHORT_ID)), dim_of("A"))
     inner = _inner(q, text, name)
+    if name in ("magnitude", "phase", "at_frequency") and getattr(inner, "name", None) == "network_function":
+        raise _fail(
+            f"{name}() takes a phasor quantity, and network_function(...) is a function of s; write "
+            f'{name}(transfer(...)) for its value at the analysis frequency, or {name}(at_frequency(transfer(...), "1 kHz"))'
+            if name != "at_frequency"
+            else 'at_frequency() takes a phasor quantity; write at_frequency(transfer(...), "1 kHz") for a network '
+            "function's value at 1 kHz",
+            text,
+        )
     if name in ("magnitude", "phase"):
         if len(args) != 1:
             raise _fail(f"{name}() takes one quantity, like {name}(voltage(out))", text)
