@@ -20,7 +20,6 @@ earlier step, named in ``caused_by``); ``differs`` (no formula, wrong claim);
 from __future__ import annotations
 
 import dataclasses
-import math
 from typing import Any
 
 import sympy
@@ -33,10 +32,9 @@ from handcheck.solve.frequency import LIST_QUANTITIES
 from handcheck.solve.phasor import Solution
 from handcheck.solve.quantities import TIME_DOMAIN, Quantity, evaluate_quantity, evaluate_values, parse_quantity
 from handcheck.solve.solutions import ExactSolutions
-from handcheck.solve.timequantities import evaluate_time_quantity, waveform_of
+from handcheck.solve.timequantities import evaluate_time_quantity
 from handcheck.verify.basis import matching_quantities, settle, unit_kind
 from handcheck.verify.claims import (
-    TIME,
     Claim,
     Tolerance,
     agrees,
@@ -46,17 +44,17 @@ from handcheck.verify.claims import (
     to_complex,
 )
 from handcheck.verify.cycles import in_claimed_convention
-from handcheck.verify.findings import Diagnosis, Report, Shown, StepBase, StepFinding, Verdict
+from handcheck.verify.findings import Diagnosis, Report, Shown, StepBase, StepFinding
 from handcheck.verify.mistakes import Context, diagnose, worksheet_frequencies
-from handcheck.verify.present import describe_frequency, describe_function, format_number, format_value
+from handcheck.verify.present import describe_frequency, format_number, format_value
 from handcheck.verify.responses import check_function_of_s, check_list
 from handcheck.verify.rounding import Written, by_size, describe, inside_claim, propagate, widened, within
 from handcheck.verify.safety import cautions
+from handcheck.verify.waveform import check_waveform, comparison_span
 from handcheck.worksheet.evaluate import Value, evaluate
 from handcheck.worksheet.expr import Node, names_in, parse
 from handcheck.worksheet.model import StepSpec, Worksheet
 from handcheck.worksheet.units import DIMENSIONLESS, dim_of
-from handcheck.worksheet.values import read_span
 
 __all__ = ["check", "part_environment"]
 
@@ -76,6 +74,31 @@ def part_environment(circuit: Circuit) -> dict[str, Value]:
         elif part.kind in ("vcvs", "cccs", "coupling", "transformer"):
             env[part.id] = Value(part.value, DIMENSIONLESS)
     return env
+
+
+@dataclasses.dataclass(frozen=True)
+class _Read:
+    """A step as read: its spec, the fields every finding of it carries, its claim,
+    tolerance and parsed formula (None without one)."""
+
+    step: StepSpec
+    base: StepBase
+    claim: Claim
+    tolerance: Tolerance
+    tree: Node | None
+
+
+def _unit_finding(read: _Read, shown: Shown, truth: Value, formula_true: Value | None) -> StepFinding | None:
+    """The finding of a claim, or a formula, in other units than the truth (None when they match)."""
+    claim, step = read.claim, read.step
+    if claim.dim != truth.dim:
+        what = "the quantity is in" if step.quantity else "the formula gives"
+        message = f"the claim is in {claim.dim or 'no unit'}, but {what} {truth.dim or 'no unit'}"
+        return StepFinding(**read.base, **shown, verdict="unit", message=message)
+    if formula_true is not None and formula_true.dim != truth.dim:
+        message = f"the formula gives {formula_true.dim or 'no unit'}, but the quantity is in {truth.dim or 'no unit'}"
+        return StepFinding(**read.base, **shown, verdict="unit", message=message)
+    return None
 
 
 class _Checker:
@@ -118,35 +141,6 @@ class _Checker:
         """The closed-form complete response (computed on first use)."""
         return self.exact.transient
 
-    def check_function(self, base: StepBase, claim: Claim, quantity: Quantity, tolerance: Tolerance) -> StepFinding:
-        """Compare a claimed time function with the true waveform over a span of time.
-
-        The error is the largest difference over the span relative to the waveform's
-        largest value; the tolerance is the step's percentage, or 1 % under "digits".
-        """
-        wave, dim = waveform_of(self.transient, quantity)
-        if claim.dim != dim:
-            return StepFinding(
-                **base,
-                verdict="unit",
-                message=f"the claim is in {claim.dim or 'no unit'}, but the quantity is in {dim}",
-            )
-        span = self.span()
-        times = [span * k / 400 for k in range(401)]
-        truth = [complex(wave.value(t)) for t in times]
-        claimed = [complex(sympy.N(claim.value.expr.subs(TIME, t), 20)) for t in times]
-        scale = max(abs(v) for v in truth) or 1.0
-        error = max(abs(a - b) for a, b in zip(claimed, truth, strict=True)) / scale
-        limit = tolerance.relative if tolerance.relative is not None else 0.01
-        message = (
-            f"compared at 401 times from 0 to {format_number(span, 4)} s; largest difference "
-            f"{error:.3g} of the waveform's largest value (allowed {limit:.3g})"
-        )
-        verdict: Verdict = "agrees" if error <= limit else "differs"
-        return StepFinding(
-            **base, error=error, expected=describe_function(wave, claim), message=message, verdict=verdict
-        )
-
     def check_response(self, base: StepBase, claim: Claim, quantity: Quantity, tolerance: Tolerance) -> StepFinding:
         """A claimed network function (in s) or a claimed list (poles, zeros, band edges)."""
         if quantity.name in LIST_QUANTITIES:
@@ -175,26 +169,6 @@ class _Checker:
                 **base, verdict="unit", message=f"a function of s is claimed, but {quantity} is no network function"
             )
         return check_function_of_s(base, claim, truth, tolerance)
-
-    def span(self) -> float:
-        """The time span a claimed waveform is compared over: five of the slowest time
-        constants, and at least three periods of any sinusoidal source ([transient] span if set)."""
-        written = read_span(self.worksheet)
-        if written is not None:
-            return written
-        candidates = []
-        for pole in self.transient.natural_modes():
-            rate = abs(complex(pole).real)
-            if rate > 0:
-                candidates.append(5 / rate)
-        for part in self.circuit.parts:
-            if part.source is not None:
-                function = part.source.function
-                candidates += [3 * 2 * math.pi / float(w) for w in part.source.frequencies]
-                candidates += [float(function.last_start) + 3 * float(r.period) for r in function.repeats]
-                if function.last_start > 0:
-                    candidates.append(2 * float(function.last_start))
-        return max(candidates, default=1e-3)
 
     @property
     def solution(self) -> Solution:
@@ -269,6 +243,7 @@ class _Checker:
         )
 
     def check_step(self, step: StepSpec) -> StepFinding:
+        """The finding of one step: its claim against the circuit's truth and its formula."""
         path = self.worksheet.path
         try:
             claim = read_claim(step.claim, file=path, line=step.line_of("claim"))
@@ -291,48 +266,58 @@ class _Checker:
             "formula": step.formula,
             "line": step.line,
         }
-
-        truth: Value | None = None
-        quantity = None
+        read = _Read(step, base, claim, tolerance, tree)
         if step.quantity:
-            try:
-                quantity = parse_quantity(step.quantity)
-                if claim.form == "function":
-                    self.function_steps.add(step.name)
-                    return self.check_function(base, claim, quantity, tolerance)
-                if (
-                    claim.form in ("laplace", "list")
-                    or quantity.name in LIST_QUANTITIES
-                    or quantity.name == "network_function"
-                ):
-                    self.function_steps.add(step.name)
-                    self.true_env[step.name] = claim.value
-                    return self.check_response(base, claim, quantity, tolerance)
-                if quantity.name in TIME_DOMAIN:
-                    truth = evaluate_time_quantity(
-                        self.transient, quantity, lambda q: evaluate_quantity(self.solution, q)
-                    )
-                    if quantity.name == "peak" and not to_complex(claim.value.expr).real < 0:
-                        # the largest absolute value (worksheet format 1); a claim written
-                        # negative is read as the signed extreme
-                        truth = Value(abs(truth.expr), truth.dim)
-                else:
-                    truth = evaluate_quantity(self.solution, quantity)
-                truth = in_claimed_convention(truth, quantity.name, claim.unit_text)
-            except HandcheckError as exc:
-                raise self.located(exc, step, "quantity") from None
-            if truth is not None and claim.unit_text == "dB":
-                truth = Value(sympy.Abs(truth.expr), truth.dim)  # a level claims the ratio's size
-        elif claim.form == "function":
+            quantity, truth = self.from_quantity(read)
+            if isinstance(truth, StepFinding):
+                return truth
+            return self.against_truth(read, truth, quantity)
+        if claim.form == "function":
             self.function_steps.add(step.name)
             return StepFinding(
                 **base, verdict="unchecked", message="a claimed time function needs a quantity, like voltage(out)"
             )
+        return self.against_truth(read, None, None)
 
+    def from_quantity(self, read: _Read) -> tuple[Quantity, StepFinding | Value | None]:
+        """The step's quantity, and its true value (or the finding of a function or response claim)."""
+        step, claim, tolerance, base = read.step, read.claim, read.tolerance, read.base
+        try:
+            quantity = parse_quantity(str(step.quantity))
+            if claim.form == "function":
+                self.function_steps.add(step.name)
+                span = lambda: comparison_span(self.worksheet, self.circuit, self.transient)  # noqa: E731
+                return quantity, check_waveform(base, claim, quantity, tolerance, self.transient, span)
+            if (
+                claim.form in ("laplace", "list")
+                or quantity.name in LIST_QUANTITIES
+                or quantity.name == "network_function"
+            ):
+                self.function_steps.add(step.name)
+                self.true_env[step.name] = claim.value
+                return quantity, self.check_response(base, claim, quantity, tolerance)
+            if quantity.name in TIME_DOMAIN:
+                truth = evaluate_time_quantity(self.transient, quantity, lambda q: evaluate_quantity(self.solution, q))
+                if quantity.name == "peak" and not to_complex(claim.value.expr).real < 0:
+                    # the largest absolute value (worksheet format 1); a claim written
+                    # negative is read as the signed extreme
+                    truth = Value(abs(truth.expr), truth.dim)
+            else:
+                truth = evaluate_quantity(self.solution, quantity)
+            truth = in_claimed_convention(truth, quantity.name, claim.unit_text)
+        except HandcheckError as exc:
+            raise self.located(exc, step, "quantity") from None
+        if truth is not None and claim.unit_text == "dB":
+            truth = Value(sympy.Abs(truth.expr), truth.dim)  # a level claims the ratio's size
+        return quantity, truth
+
+    def against_truth(self, read: _Read, truth: Value | None, quantity: Quantity | None) -> StepFinding:
+        """The step judged against the quantity's truth, or its formula's where it names none."""
+        step, claim, base = read.step, read.claim, read.base
         formula_true: Value | None = None
-        if tree is not None:
+        if read.tree is not None:
             try:
-                formula_true = evaluate(tree, self.true_env, step.formula or "")
+                formula_true = evaluate(read.tree, self.true_env, step.formula or "")
             except UnitError as exc:
                 self.true_env[step.name] = truth or claim.value
                 return StepFinding(
@@ -348,7 +333,6 @@ class _Checker:
                 **base, verdict="unchecked", message="no quantity and no formula: nothing to check the claim against"
             )
         self.true_env[step.name] = truth
-
         try:
             reference = to_complex(truth.expr)
         except HandcheckError as exc:
@@ -361,10 +345,10 @@ class _Checker:
         context = Context(
             circuit=self.circuit,
             claim=claim,
-            tolerance=tolerance,
+            tolerance=read.tolerance,
             truth=truth,
             formula=step.formula,
-            tree=tree,
+            tree=read.tree,
             quantity=quantity,
             claimed_env=dict(self.claimed_env),
             true_env=dict(self.true_env),
@@ -372,35 +356,27 @@ class _Checker:
             budget=self.budget,
             frequencies=self.frequencies,
         )
-        if claim.dim != truth.dim:
-            what = "the quantity is in" if step.quantity else "the formula gives"
-            finding = StepFinding(
-                **base,
-                **shown,
-                verdict="unit",
-                message=f"the claim is in {claim.dim or 'no unit'}, but {what} {truth.dim or 'no unit'}",
-            )
-            if claim.dim == DIMENSIONLESS / truth.dim:
+        unit = _unit_finding(read, shown, truth, formula_true)
+        if unit is not None:
+            if claim.dim == DIMENSIONLESS / truth.dim and claim.dim != truth.dim:
                 reciprocal = dataclasses.replace(context, truth=Value(truth.expr, claim.dim))
-                return self.diagnosed(finding, reciprocal, only=("impedance-as-admittance",))
-            return finding
-        if formula_true is not None and formula_true.dim != truth.dim:
+                return self.diagnosed(unit, reciprocal, only=("impedance-as-admittance",))
+            return unit
+        shown["error"] = relative_error(claim, reference)
+        if agrees(claim, reference, read.tolerance):
             return StepFinding(
-                **base,
-                **shown,
-                verdict="unit",
-                message=f"the formula gives {formula_true.dim or 'no unit'}, but the quantity is in {truth.dim or 'no unit'}",
+                **base, **shown, verdict="agrees", message=self.formula_remark(read.tree, step, claim, read.tolerance)
             )
-        error = relative_error(claim, reference)
-        shown["error"] = error
-        if agrees(claim, reference, tolerance):
-            return StepFinding(
-                **base, **shown, verdict="agrees", message=self.formula_remark(tree, step, claim, tolerance)
-            )
+        return self.differing(read, shown, context, (truth, reference), formula_true)
 
+    def differing(
+        self, read: _Read, shown: Shown, context: Context, true: tuple[Value, complex], formula_true: Value | None
+    ) -> StepFinding:
+        """A claim off the truth: a slip in its arithmetic, a wrong formula, an earlier error, or rounding."""
+        step, claim, tree, base, tolerance = read.step, read.claim, read.tree, read.base, read.tolerance
+        truth, reference = true
         if tree is None:
             return self.diagnosed(StepFinding(**base, **shown, verdict="differs"), context)
-
         try:
             recomputed, follows = self.follows(claim, tree, step.formula or "", tolerance)
         except HandcheckError as exc:
