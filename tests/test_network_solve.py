@@ -348,3 +348,66 @@ def test_rational_function_invariants_and_evaluation():
     with pytest.raises(ValueError):
         RationalFunction(num, den)  # not monic
     assert laplace_symbol() == s
+
+
+# ------------------------------------------- sparse characteristic polynomial
+
+
+def _permuted_hessenberg(r, band, seed):
+    """A random upper Hessenberg rational matrix of upper bandwidth ``band``, its rows
+    and columns renumbered at random (a similarity): ``{row: {col: fmpq}}``."""
+    import random
+
+    flint = pytest.importorskip("flint")
+    rnd = random.Random(seed)
+    perm = list(range(r))
+    rnd.shuffle(perm)
+    dense = [[Fr(0)] * r for _ in range(r)]
+    for i in range(r):
+        for j in range(max(i - 1, 0), min(i + band, r - 1) + 1):
+            if rnd.random() < 0.8:
+                dense[i][j] = Fr(rnd.randint(-9, 9), rnd.randint(1, 5))
+    entries: dict = {}
+    for i in range(r):
+        for j in range(r):
+            if dense[i][j]:
+                entries.setdefault(perm[i], {})[perm[j]] = flint.fmpq(dense[i][j].numerator, dense[i][j].denominator)
+    return dense, entries
+
+
+@pytest.mark.parametrize(("r", "band", "seed"), [(1, 1, 0), (6, 1, 1), (12, 1, 2), (9, 3, 3), (15, 2, 4)])
+def test_sparse_charpoly_equals_sympy_berkowitz(r, band, seed):
+    # reference library: sympy Matrix.charpoly (Berkowitz) of the matrix before renumbering
+    from handcheck.solve.network import _hessenberg_charpoly
+
+    dense, entries = _permuted_hessenberg(r, band, seed)
+    got = _hessenberg_charpoly(entries, r)
+    if got is None:  # the search found no Hessenberg numbering: allowed, but not for a path
+        assert band > 1
+        return
+    want = sym_matrix(dense).charpoly(s).all_coeffs()[::-1]
+    assert [sympy.Rational(int(c.p), int(c.q)) for c in got] == want
+
+
+def test_sparse_charpoly_declines_a_dense_matrix():
+    # a full 5 x 5 matrix has no Hessenberg numbering: the dense charpoly is used instead
+    flint = pytest.importorskip("flint")
+    from handcheck.solve.network import _hessenberg_charpoly
+
+    entries = {i: {j: flint.fmpq(i + 2 * j + 1) for j in range(5)} for i in range(5)}
+    assert _hessenberg_charpoly(entries, 5) is None
+
+
+def test_long_ladder_against_numpy_at_imaginary_frequency():
+    # reference library: numpy.linalg.solve in complex128 at s = 7j/10; 24 sections take
+    # the sparse characteristic polynomial and the sparse adjugate recursion
+    np = pytest.importorskip("numpy")
+    G, C, b, out = ladder(24)
+    A = np.array(
+        [[float(g) + 0.7j * float(c) for g, c in zip(rg, rc, strict=True)] for rg, rc in zip(G, C, strict=True)]
+    )
+    x = np.linalg.solve(A, np.array([float(v) for v in b], dtype=complex))
+    sv = sympy.Rational(7, 10) * sympy.I
+    for k, rf in zip([out, 3], solve_rational(G, C, b, unknowns=[out, 3]), strict=True):
+        assert complex(rf(sv)) == pytest.approx(x[k], rel=1e-9, abs=1e-14)
+    assert solve_rational(G, C, b, unknowns=[out])[0].den.degree() == 48

@@ -128,7 +128,7 @@ def _domain_entries(G: Any, C: Any, b: Any) -> tuple[Any, int, dict, dict, dict]
         are dicts ``{row: {col: element}}`` of nonzero entries (``b`` as an
         ``n x 1`` matrix).
     """
-    from sympy import QQ
+    from sympy import QQ, Rational, S
 
     Gr, Cr, br = _rows(G, "G"), _rows(C, "C"), _vector(b)
     n = len(Gr)
@@ -147,7 +147,11 @@ def _domain_entries(G: Any, C: Any, b: Any) -> tuple[Any, int, dict, dict, dict]
         for i, row in enumerate(rows):
             for j, e in enumerate(row):
                 t = type(e)
-                if t is int:  # exact type test: bool is refused below
+                if e is S.Zero:  # most entries of a large circuit's matrices
+                    continue
+                if isinstance(e, Rational):
+                    dod.setdefault(i, {})[j] = QQ(int(e.p), int(e.q))
+                elif t is int:  # exact type test: bool is refused below
                     if e:
                         dod.setdefault(i, {})[j] = QQ(e)
                 elif t is Fraction:
@@ -312,18 +316,14 @@ def _reduce_pencil(
         # x[piv] = (I + F Y1) y1 - F y2c ; x[nonpiv] = -Y1 y1 + y2c
         Wp = DomainMatrix.eye(r, K) + F * Y1
         Fy = F * y2c
-        rows = []
-        cs = []
-        for k in sel:
-            if k in pivset:
-                i = cpiv.index(k)
-                rows.append(Wp[i : i + 1, :])
-                cs.append(-Fy[i, 0].element)
-            else:
-                a = nonpiv.index(k)
-                rows.append(-Y1[a : a + 1, :])
-                cs.append(y2c[a, 0].element)
-        Wsel = DomainMatrix.vstack(*rows) if rows else DomainMatrix.zeros((0, r), K)
+        # every selected row in one extraction from [Wp; -Y1], the constants from
+        # one list each (a row sliced at a time cost 1 ms per unknown in conversions)
+        where = {k: i for i, k in enumerate(cpiv)} | {k: r + a for a, k in enumerate(nonpiv)}
+        order = [where[k] for k in sel]
+        both = DomainMatrix.vstack(Wp, -Y1)
+        Wsel = both.extract(order, list(range(r))) if order else DomainMatrix.zeros((0, r), K)
+        fy, yc = [row[0] for row in Fy.to_list()], [row[0] for row in y2c.to_list()]
+        cs = [-fy[i] if i < r else yc[i - r] for i in order]
         return _StateSpace(Kmat, g, Wsel, tuple(cs), None, "schur")
 
     # ---- reversal route: s = s0 + 1/t ------------------------------------
@@ -368,6 +368,10 @@ def _det_shifted(Km: DomainMatrix, use_flint: bool) -> list:
     if use_flint and dom.is_QQ:
         import flint
 
+        if dom.dtype is flint.fmpq:
+            banded = _hessenberg_charpoly(negK.to_dod(), r)
+            if banded is not None:
+                return banded
         ent = negK.to_list()
         if dom.dtype is flint.fmpq:
             fm = flint.fmpq_mat(ent)
@@ -378,6 +382,86 @@ def _det_shifted(Km: DomainMatrix, use_flint: bool) -> list:
             return list(cf)
         return [dom(int(c.p), int(c.q)) for c in cf]
     return list(reversed(negK.charpoly()))
+
+
+#: Largest distance above the diagonal for the Hessenberg recurrence (else flint's dense charpoly).
+_BAND = 8
+
+
+def _path_order(entries: dict, r: int) -> list[int]:
+    """An ordering of ``0..r-1`` by breadth-first search over the pattern of ``entries``.
+
+    Each component is searched from a vertex of least degree, neighbours taken by
+    increasing degree (the Cuthill-McKee ordering: Cuthill and McKee, "Reducing the
+    bandwidth of sparse symmetric matrices", Proc. ACM National Conference, 1969,
+    from memory). A ladder's state matrix, whose pattern is a path, comes out
+    tridiagonal.
+    """
+    neighbours: list[set[int]] = [set() for _ in range(r)]
+    for i, row in entries.items():
+        for j in row:
+            if i != j:
+                neighbours[i].add(j)
+                neighbours[j].add(i)
+    seen = [False] * r
+    order: list[int] = []
+    for start in sorted(range(r), key=lambda v: len(neighbours[v])):
+        if seen[start]:
+            continue
+        seen[start] = True
+        queue = [start]
+        while queue:
+            order += queue
+            nxt = []
+            for v in queue:
+                for w in sorted(neighbours[v], key=lambda u: len(neighbours[u])):
+                    if not seen[w]:
+                        seen[w] = True
+                        nxt.append(w)
+            queue = nxt
+    return order
+
+
+def _hessenberg_charpoly(entries: dict, r: int) -> list | None:
+    """``det(x I - H)`` low to high for a sparse ``H`` (``{row: {col: fmpq}}``), or None.
+
+    The rows and columns are renumbered by :func:`_path_order` (a similarity, so
+    the characteristic polynomial is the same). When the result is upper Hessenberg
+    with every entry at most ``_BAND`` above the diagonal, the recurrence
+
+        p_0 = 1,  p_m = (x - h_mm) p_{m-1} - sum_{i<m} h_im (h_{i+1,i} ... h_{m,m-1}) p_{i-1}
+
+    gives it exactly in ``O(r * _BAND)`` polynomial operations (H. Cohen, *A Course
+    in Computational Algebraic Number Theory*, Springer 1993, sec. 2.2.4, from
+    memory), where a dense method costs ``O(r^3)`` operations on large rationals.
+    None when the renumbered matrix is not of that shape.
+    """
+    import flint
+
+    order = _path_order(entries, r)
+    place = {v: k for k, v in enumerate(order)}
+    H: dict[tuple[int, int], Any] = {}
+    for i, row in entries.items():
+        for j, value in row.items():
+            a, b = place[i], place[j]
+            if a - b > 1 or b - a > _BAND:
+                return None
+            H[a, b] = value
+    zero = flint.fmpq(0)
+    polys = [flint.fmpq_poly([1])]
+    for m in range(r):
+        p = flint.fmpq_poly([-H.get((m, m), zero), 1]) * polys[m]
+        product = flint.fmpq(1)
+        for i in range(m - 1, max(m - _BAND, 0) - 1, -1):
+            product *= H.get((i + 1, i), zero)
+            if product == 0:
+                break
+            above = H.get((i, m))
+            if above is not None:
+                p -= polys[i] * (above * product)
+        polys.append(p)
+    coeffs = polys[r].coeffs()
+    return [*coeffs, *([flint.fmpq(0)] * (r + 1 - len(coeffs)))]
 
 
 def _adjugate_columns(ss: _StateSpace, d: list, deadline: float | None) -> DomainMatrix:
@@ -394,6 +478,8 @@ def _adjugate_columns(ss: _StateSpace, d: list, deadline: float | None) -> Domai
 
     Km, g = ss.K, ss.g
     r = Km.shape[0]
+    if getattr(Km.rep, "is_DFM", False) and getattr(g.rep, "is_DFM", False):
+        return _adjugate_flint(Km.to_dfm().rep, g.to_dfm().rep, d, deadline)
     cols = [None] * r
     u = g
     cols[r - 1] = u
@@ -405,6 +491,34 @@ def _adjugate_columns(ss: _StateSpace, d: list, deadline: float | None) -> Domai
     if not (Km * u - g.mul(d[0])).is_zero_matrix:
         raise ArithmeticError("characteristic polynomial failed its check K u0 = d0 g")
     return DomainMatrix.hstack(*cols)
+
+
+def _adjugate_flint(Kf: Any, gf: Any, d: list, deadline: float | None) -> Any:
+    """:func:`_adjugate_columns` on python-flint's ``fmpq_mat`` directly: the same
+    recursion and certificate, the columns written into one ``fmpq_mat`` (joining
+    them as sympy matrices cost more than the recursion itself)."""
+    import flint
+
+    r = Kf.nrows()
+    entries = Kf.entries()
+    rows = [[(c, entries[i * r + c]) for c in range(r) if entries[i * r + c] != 0] for i in range(r)]
+    g = [gf[i, 0] for i in range(r)]
+
+    def times_k(u: list) -> list:
+        return [sum((v * u[c] for c, v in row), flint.fmpq(0)) for row in rows]
+
+    out = flint.fmpq_mat(r, r)
+    u = g
+    for j in range(r - 1, -1, -1):
+        if j < r - 1:
+            u = [d[j + 1] * gi - ki for gi, ki in zip(g, times_k(u), strict=True)]
+        for i in range(r):
+            out[i, j] = u[i]
+        if j % 8 == 0:
+            _check_deadline(deadline, "adjugate recursion")
+    if times_k(u) != [d[0] * gi for gi in g]:
+        raise ArithmeticError("characteristic polynomial failed its check K u0 = d0 g")
+    return out
 
 
 class NetworkFunctions:
@@ -434,7 +548,12 @@ class NetworkFunctions:
         ck = ss.c[k]
         low = [ck * dj for dj in d]  # c_k D(sigma)
         if self._umat is not None:
-            for j, w in enumerate((ss.W[k : k + 1, :] * self._umat).to_list()[0]):
+            row = ss.W[k : k + 1, :]
+            if isinstance(self._umat, type(row)):
+                products = (row * self._umat).to_list()[0]
+            else:  # an fmpq_mat from _adjugate_flint
+                products = (row.to_dfm().rep * self._umat).entries()
+            for j, w in enumerate(products):
                 low[j] = low[j] + w
         s = laplace_symbol()
         if ss.shift is None:
