@@ -18,7 +18,7 @@ from scipy import signal
 
 import handcheck
 
-R, L, C = 10.0, 10e-3, 100e-6  # w0 = 1000 rad/s, zeta = 0.05
+R, L, C = 10.0, 10e-3, 100e-6  # w0 = 1000 rad/s, zeta = 0.5
 
 RLC = {
     "Vs": {"voltage": "1 V", "frequency": "50 Hz", "nodes": ["a", "gnd"]},
@@ -51,7 +51,7 @@ def test_a_natural_frequency_in_hertz_is_w0_over_2pi(make_worksheet):
     )
     assert steps["w0"].verdict == "agrees"
     assert steps["f0"].verdict == "agrees"
-    assert steps["f0"].expected_si[0] == pytest.approx(w0 / (2 * math.pi), rel=1e-12)
+    assert steps["f0"].expected_si[0] == pytest.approx(w0, rel=1e-12)  # SI: the quantity, in rad/s
     assert steps["wrong"].verdict == "differs"
     assert [d.mistake for d in steps["wrong"].diagnosis] == ["angular-as-hertz"]
 
@@ -91,3 +91,23 @@ def test_prefixed_units_keep_their_measure(make_worksheet):
     steps = steps_of(make_worksheet, RLC, "natural_frequency", {"w0": "1000 rad/s", "f0": "0.15915 kHz"})
     assert steps["w0"].verdict == steps["f0"].verdict == "agrees"
     assert steps["f0"].expected == "0.159155 kHz"
+
+
+def test_expected_si_stays_the_quantity_in_its_own_measure(make_worksheet):
+    # DESIGN (second edition, readings the tests rely on): expected_si is always the
+    # quantity in coherent SI units, whatever unit the claim is written in.
+    w0 = 1 / math.sqrt(L * C)
+    steps = steps_of(make_worksheet, RLC, "natural_frequency", {"w0": "1000 rad/s", "f0": "159.15 Hz"})
+    assert steps["w0"].expected_si[0] == pytest.approx(w0, rel=1e-12)
+    assert steps["f0"].expected_si[0] == pytest.approx(w0, rel=1e-12)
+    cutoff = steps_of(make_worksheet, RC, "cutoff_frequency(transfer(voltage(out), voltage(in)))", {"w0": "1000 rad/s"})
+    assert cutoff["w0"].expected_si[0] == pytest.approx(1000 / (2 * math.pi), rel=1e-12)
+    _, poles, _ = signal.tf2zpk([1 / (L * C)], [1, R / L, 1 / (L * C)])
+    listed = steps_of(
+        make_worksheet,
+        RLC,
+        "poles(network_function(voltage(c), voltage(a)))",
+        {"p": "-79.577 + 137.83j, -79.577 - 137.83j Hz"},
+    )
+    assert listed["p"].verdict == "agrees"
+    assert abs(complex(*listed["p"].expected_si)) == pytest.approx(abs(poles[0]), rel=1e-12)

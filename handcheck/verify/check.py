@@ -43,7 +43,7 @@ from handcheck.verify.claims import (
     relative_error,
     to_complex,
 )
-from handcheck.verify.cycles import in_claimed_convention
+from handcheck.verify.cycles import in_claimed_convention, measure_factor
 from handcheck.verify.findings import Diagnosis, Report, Shown, StepBase, StepFinding
 from handcheck.verify.mistakes import Context, diagnose, worksheet_frequencies
 from handcheck.verify.present import describe_frequency, format_number, format_value
@@ -145,10 +145,13 @@ class _Checker:
         """A claimed network function (in s) or a claimed list (poles, zeros, band edges)."""
         if quantity.name in LIST_QUANTITIES:
             unit = (claim.items or (claim,))[0].unit_text
-            truths = tuple(
-                in_claimed_convention(t, quantity.name, unit) for t in evaluate_values(self.solution, quantity)
-            )
-            return check_list(base, claim, truths, tolerance)
+            own = evaluate_values(self.solution, quantity)
+            truths = tuple(in_claimed_convention(t, quantity.name, unit) for t in own)
+            finding = check_list(base, claim, truths, tolerance)
+            if not own or finding.expected_si is None:
+                return finding
+            first = to_complex(own[0].expr)  # expected_si: in the quantity's own measure
+            return dataclasses.replace(finding, expected_si=(first.real, first.imag))
         if claim.form == "list":
             return StepFinding(**base, verdict="differs", message=f"a list is claimed, but {quantity} is one value")
         if claim.form != "laplace":
@@ -337,9 +340,13 @@ class _Checker:
             reference = to_complex(truth.expr)
         except HandcheckError as exc:
             raise self.located(exc, step, "quantity" if step.quantity else "formula") from None
+        if quantity is not None and truth.dim == dim_of("Hz"):
+            own = reference / complex(measure_factor(quantity.name, claim.unit_text))
+        else:
+            own = reference  # expected_si: the quantity in its own measure, whatever the claim's
         shown: Shown = {
             "expected": format_value(truth, claim),
-            "expected_si": (reference.real, reference.imag),
+            "expected_si": (own.real, own.imag),
             "exact": truth.expr,
         }
         context = Context(

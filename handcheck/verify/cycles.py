@@ -7,7 +7,7 @@ that writes its unit says which of the two it means: a natural frequency of 1000
 claimed as ``"159.15 Hz"`` is right, and ``"1000 Hz"`` is wrong. Before the claim is
 judged, the true value is put into the claim's convention (times or over 2*pi, exactly),
 so that the verdict, the value shown and the value later steps use all mean what the
-author wrote.
+author wrote; ``expected_si`` stays the quantity in its own coherent SI measure.
 
 >>> import sympy
 >>> from handcheck.worksheet.evaluate import Value
@@ -29,7 +29,7 @@ from handcheck.solve.frequency import FREQUENCY_QUANTITIES
 from handcheck.worksheet.evaluate import Value
 from handcheck.worksheet.units import dim_of
 
-__all__ = ["Convention", "cycles_of", "in_claimed_convention", "quantity_cycles"]
+__all__ = ["Convention", "cycles_of", "in_claimed_convention", "measure_factor", "quantity_cycles"]
 
 Convention = Literal["cyclic", "angular"]
 
@@ -99,8 +99,27 @@ def in_claimed_convention(truth: Value, name: str, unit_text: str) -> Value:
         ``truth`` times 2*pi when a cyclic frequency is claimed in rad/s, over 2*pi when
         an angular one is claimed in Hz; ``truth`` itself otherwise.
     """
-    own, claimed = quantity_cycles(name), cycles_of(unit_text)
-    if own is None or claimed is None or own == claimed or truth.dim != dim_of("Hz"):
+    if truth.dim != dim_of("Hz"):
         return truth
-    factor = 2 * sympy.pi if claimed == "angular" else 1 / (2 * sympy.pi)
-    return Value(truth.expr * factor, truth.dim)
+    return Value(truth.expr * measure_factor(name, unit_text), truth.dim)
+
+
+def measure_factor(name: str, unit_text: str) -> sympy.Expr:
+    """The exact factor from quantity ``name``'s own measure to the claim's: 2*pi for a
+    cyclic frequency claimed in rad/s, 1/(2*pi) for an angular one claimed in Hz, else 1.
+
+    Parameters
+    ----------
+    name
+        The quantity's name.
+    unit_text
+        The claim's unit.
+
+    Returns
+    -------
+    sympy.Expr
+    """
+    own, claimed = quantity_cycles(name), cycles_of(unit_text)
+    if own is None or claimed is None or own == claimed:
+        return sympy.Integer(1)
+    return 2 * sympy.pi if claimed == "angular" else 1 / (2 * sympy.pi)
