@@ -64,6 +64,12 @@ def test_sallen_key_figures_are_equivalent() -> None:
         assert found[name].holds_when == ()
         assert found[name].nominal_error == 0
     assert found["w0"].worst_case.low == found["w0"].worst_case.high == 0
+    # Shown as one row, not as errors of 0 % (worst case 0 % to 0 %, Monte Carlo 0 %).
+    from handcheck.record.audit import audit_rows
+
+    rows = dict(audit_rows(found["w0"]))
+    assert rows["error"].startswith("none: the formula is the quantity exactly")
+    assert not {"error at nominal", "worst case", "Monte Carlo"} & set(rows)
 
 
 def test_sallen_key_q_for_equal_resistors_holds_only_when_they_are_equal() -> None:

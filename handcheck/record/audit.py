@@ -106,6 +106,10 @@ def audit_rows(finding: AuditFinding) -> list[tuple[str, str]]:
     rows.append(("how", f.method))
     if f.verdict == "differs":
         rows.append(("holds when", ", ".join(f.holds_when) if f.holds_when else "no single condition found"))
+    if f.verdict == "equivalent" and _exactly_zero(f):
+        rows.append(("error", "none: the formula is the quantity exactly, at every value of the symbols"))
+        rows.extend(("note", note) for note in f.notes)
+        return rows
     what = "spread" if f.verdict == "spread" else "error"
     if f.error_frequency is not None and f.nominal_error is not None:
         rows.append((f"{what} of", error_subject(f)))
@@ -132,8 +136,20 @@ def audit_rows(finding: AuditFinding) -> list[tuple[str, str]]:
     return rows
 
 
+def _exactly_zero(f: AuditFinding) -> bool:
+    """Whether every error the audit found is exactly 0 (the nominal one, both ends of the
+    worst case, and every Monte Carlo figure), so that rows of zeros would say nothing."""
+    figures = [f.nominal_error]
+    if f.worst_case is not None:
+        figures += [f.worst_case.low, f.worst_case.high]
+    if f.monte_carlo is not None:
+        m = f.monte_carlo
+        figures += [m.mean, m.std, m.p01, m.p99]
+    return all(x == 0 for x in figures)
+
+
 def _terminal_row(label: str, text: str) -> str:
-    if label in ("formula", "exact", "how"):
+    if label in ("formula", "exact", "how", "error"):
         return f"{label:<8} {text}"
     if label == "note":
         return f"note: {text}"
