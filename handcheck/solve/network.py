@@ -251,10 +251,13 @@ def _reduce_pencil(
 
     K = Gm.domain
     n = Gm.shape[0]
-    eye = DomainMatrix.eye(n, K)
-    if Cm.rep.fmt == "sparse":
-        eye = eye.to_sparse()
-    R, pivots = DomainMatrix.hstack(Cm, eye).rref()
+    # the echelon form of [C | I] on sparse matrices (C of a circuit is mostly zeros);
+    # the blocks taken from it are made dense when C came dense
+    R, pivots = DomainMatrix.hstack(Cm.to_sparse(), DomainMatrix.eye(n, K).to_sparse()).rref()
+
+    def like_c(M: DomainMatrix) -> DomainMatrix:
+        return M if Cm.rep.fmt == "sparse" else M.to_dense()
+
     cpiv = [p for p in pivots if p < n]
     r = len(cpiv)
     pivset = set(cpiv)
@@ -263,11 +266,11 @@ def _reduce_pencil(
     _check_deadline(deadline, "echelon form of C")
 
     # ---- Schur route: P C Q = diag(I_r, 0) --------------------------------
-    P = R[:, n:]
+    P = like_c(R[:, n:])
     f = P * bm
     Gp = Gm.extract(list(range(n)), cpiv) if r else None
     Gn = Gm.extract(list(range(n)), nonpiv) if m else None
-    F = R.extract(list(range(r)), nonpiv) if (r and m) else None
+    F = like_c(R.extract(list(range(r)), nonpiv)) if (r and m) else None
     if m == 0:
         Kmat = P * Gp
         W = DomainMatrix.eye(r, K)
@@ -330,7 +333,7 @@ def _reduce_pencil(
     if r == 0:
         raise ValueError("det(G + sC) is identically zero: C = 0 and G is singular")
     U = Cm.extract(list(range(n)), cpiv)
-    Rt = R[:r, :n]
+    Rt = like_c(R[:r, :n])
     rhs = DomainMatrix.hstack(U, bm)
     Z = None
     s0 = 0
