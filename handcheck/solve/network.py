@@ -199,6 +199,13 @@ class _StateSpace:
     c: tuple
     shift: Any
     route: str
+    #: Row of ``W`` for each selected unknown (None: row k is unknown k's).
+    rows: tuple[int, ...] | None = None
+
+    def w_row(self, k: int) -> DomainMatrix:
+        """``W``'s row of the k-th selected unknown, as a 1 x r matrix."""
+        i = k if self.rows is None else self.rows[k]
+        return self.W[i : i + 1, :]
 
 
 def _check_deadline(deadline: float | None, stage: str) -> None:
@@ -319,15 +326,15 @@ def _reduce_pencil(
         # x[piv] = (I + F Y1) y1 - F y2c ; x[nonpiv] = -Y1 y1 + y2c
         Wp = DomainMatrix.eye(r, K) + F * Y1
         Fy = F * y2c
-        # every selected row in one extraction from [Wp; -Y1], the constants from
-        # one list each (a row sliced at a time cost 1 ms per unknown in conversions)
+        # the selected rows are looked up in [Wp; -Y1] through `order` when asked for,
+        # the constants read from one list each (slicing a row per unknown here cost
+        # 1 ms each in conversions)
         where = {k: i for i, k in enumerate(cpiv)} | {k: r + a for a, k in enumerate(nonpiv)}
         order = [where[k] for k in sel]
-        both = DomainMatrix.vstack(Wp, -Y1)
-        Wsel = both.extract(order, list(range(r))) if order else DomainMatrix.zeros((0, r), K)
+        both = DomainMatrix.vstack(Wp, -Y1)  # rows looked up through `order`, never copied
         fy, yc = [row[0] for row in Fy.to_list()], [row[0] for row in y2c.to_list()]
         cs = [-fy[i] if i < r else yc[i - r] for i in order]
-        return _StateSpace(Kmat, g, Wsel, tuple(cs), None, "schur")
+        return _StateSpace(Kmat, g, both, tuple(cs), None, "schur", tuple(order))
 
     # ---- reversal route: s = s0 + 1/t ------------------------------------
     if r == 0:
@@ -500,28 +507,32 @@ def _adjugate_flint(Kf: Any, gf: Any, d: list, deadline: float | None) -> Any:
     """:func:`_adjugate_columns` on python-flint's ``fmpq_mat`` directly: the same
     recursion and certificate, the columns written into one ``fmpq_mat`` (joining
     them as sympy matrices cost more than the recursion itself)."""
+    from operator import mul
+
     import flint
 
     r = Kf.nrows()
     entries = Kf.entries()
-    rows = [[(c, entries[i * r + c]) for c in range(r) if entries[i * r + c] != 0] for i in range(r)]
+    zero = flint.fmpq(0)
+    rows = []
+    for i in range(r):
+        cols = [c for c in range(r) if entries[i * r + c] != 0]
+        rows.append((cols, [entries[i * r + c] for c in cols]))
     g = [gf[i, 0] for i in range(r)]
 
     def times_k(u: list) -> list:
-        return [sum((v * u[c] for c, v in row), flint.fmpq(0)) for row in rows]
+        return [sum(map(mul, vals, [u[c] for c in cols]), zero) for cols, vals in rows]
 
-    out = flint.fmpq_mat(r, r)
-    u = g
-    for j in range(r - 1, -1, -1):
-        if j < r - 1:
-            u = [d[j + 1] * gi - ki for gi, ki in zip(g, times_k(u), strict=True)]
-        for i in range(r):
-            out[i, j] = u[i]
+    vectors = [g]
+    for j in range(r - 1, 0, -1):
+        dj = d[j]
+        vectors.append([dj * gi - ku if gi else -ku for gi, ku in zip(g, times_k(vectors[-1]), strict=True)])
         if j % 8 == 0:
             _check_deadline(deadline, "adjugate recursion")
-    if times_k(u) != [d[0] * gi for gi in g]:
+    if times_k(vectors[-1]) != [d[0] * gi for gi in g]:
         raise ArithmeticError("characteristic polynomial failed its check K u0 = d0 g")
-    return out
+    vectors.reverse()  # column j holds the coefficient of sigma**j
+    return flint.fmpq_mat(r, r, [vectors[j][i] for i in range(r) for j in range(r)])
 
 
 class NetworkFunctions:
@@ -551,7 +562,7 @@ class NetworkFunctions:
         ck = ss.c[k]
         low = [ck * dj for dj in d]  # c_k D(sigma)
         if self._umat is not None:
-            row = ss.W[k : k + 1, :]
+            row = ss.w_row(k)
             if isinstance(self._umat, type(row)):
                 products = (row * self._umat).to_list()[0]
             else:  # an fmpq_mat from _adjugate_flint
