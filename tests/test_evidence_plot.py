@@ -135,3 +135,78 @@ def test_phasor_diagram_shows_a_coinciding_claim_and_magnifies_a_small_phasor() 
     assert waves.get_legend().get_window_extent().y0 >= waves.get_window_extent().y1
     assert diagram.get_window_extent().contains(*diagram.get_legend().get_window_extent().p0)
     plt.close("all")
+
+
+BOTH = (
+    PHASORS
+    + """
+[[step]]
+name = "Vm"
+quantity = "voltage(m)"
+claim = "18.1 V /_ 41.2 deg"
+"""
+)
+
+
+def test_voltages_and_currents_have_axes_of_their_own_with_units() -> None:
+    import matplotlib.pyplot as plt
+
+    result = run_text(BOTH, evidence=True)
+    figure = evidence_figure(result.report, result.evidence)
+    timed = [a for a in figure.axes if not a.get_title().startswith("phasors")]
+    by_label = {a.get_ylabel(): a for a in timed}
+    assert {"voltage [V]", "current [A]", "transient [V]", "transient [A]"} <= set(by_label)
+    # no axis carries both kinds, and none is a twin drawn over another
+    for axis in timed:
+        names = [line.get_label() for line in axis.get_lines() if not line.get_label().startswith("_")]
+        assert not (any("voltage(" in n or n.startswith("Vm") for n in names) and any("current(" in n for n in names))
+    assert len({a.get_position().bounds for a in timed}) == len(timed)
+    volts = [line.get_label() for line in by_label["voltage [V]"].get_lines()]
+    amps = [line.get_label() for line in by_label["current [A]"].get_lines()]
+    assert "voltage(m) (simulated)" in volts and "Vm claimed" in volts
+    assert "current(Lc) (simulated)" in amps and "Ic claimed" in amps
+    plt.close("all")
+
+
+# A 50 Hz supply with a small 3rd harmonic into an RC load (R = 100 ohm, C = 10 uF):
+# each harmonic is a phasor problem of its own by superposition, V_out = V/(1 + jwRC)
+# (Alexander & Sadiku, Fundamentals of Electric Circuits, 5th ed., section 10.6, from memory).
+HARMONIC = """
+[worksheet]
+format = 1
+title = "RC load on a supply with a 3rd harmonic"
+frequency = "50 Hz"
+[parts]
+Vs = { voltage = "10*cos(2*pi*50*t) + 0.3*cos(2*pi*150*t) V", nodes = ["in", "gnd"] }
+R1 = { resistor = "100 ohm", nodes = ["in", "out"] }
+C1 = { capacitor = "10 uF", nodes = ["out", "gnd"] }
+[[step]]
+name = "Vo"
+quantity = "voltage(out)"
+claim = "9.54 V /_ -17.4 deg"
+[[step]]
+name = "Vo3"
+quantity = 'at_frequency(voltage(out), "150 Hz")'
+claim = "0.218 V /_ -43.3 deg"
+"""
+
+
+def test_a_harmonic_gets_a_phasor_diagram_of_its_own_at_its_scale() -> None:
+    import matplotlib.pyplot as plt
+
+    result = run_text(HARMONIC, evidence=True)
+    figure = evidence_figure(result.report, result.evidence)
+    diagrams = {a.get_title(): a for a in figure.axes if a.get_title().startswith("phasors")}
+    assert set(diagrams) == {"phasors [V, peak] at 50 Hz", "phasors [V, peak] at 150 Hz"}
+    third = diagrams["phasors [V, peak] at 150 Hz"]
+    tips = [line for line in third.get_lines() if line.get_marker() == "o"]
+    w = 2 * np.pi * 150
+    exact = 0.3 / (1 + 1j * w * 100 * 10e-6)
+    # drawn to its own scale: its tip at its size, the axes fitted to it
+    claimed = 0.218 * np.exp(-1j * np.radians(43.3))
+    assert len(tips) == 1
+    assert_allclose([tips[0].get_xdata()[0], tips[0].get_ydata()[0]], [claimed.real, claimed.imag])
+    assert_allclose(third.get_xlim(), (-1.2 * abs(exact), 1.2 * abs(exact)), rtol=2e-3)
+    fundamental = diagrams["phasors [V, peak] at 50 Hz"]
+    assert len([line for line in fundamental.get_lines() if line.get_marker() == "o"]) == 1
+    plt.close("all")

@@ -1,14 +1,17 @@
 """Plots of the evidence (matplotlib, SVG or PNG by the file's extension).
 
-One figure: the waveforms the steps name on one set of axes, with each claimed
-steady-state sinusoid drawn dashed over the simulated one; the transient (simulated
-minus steady state) with the envelope of the slowest natural mode; and phasor
-diagrams with the claimed and exact phasors side by side.
+One figure: the waveforms the steps name, voltages and currents each on their own axes
+with their unit, with each claimed steady-state sinusoid drawn dashed over the
+simulated one; the transient of each kind (simulated minus steady state) with the
+envelope of the slowest natural mode; and phasor diagrams with the claimed and exact
+phasors side by side, one per kind and frequency (the analysis frequency and each
+frequency an ``at_frequency(...)`` step names).
 """
 
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -19,15 +22,39 @@ from handcheck.solve.quantities import parse_quantity
 from handcheck.verify.claims import read_claim, to_complex
 from handcheck.verify.evidence import Evidence, _numeric, _signals
 from handcheck.verify.findings import Report
+from handcheck.worksheet.values import read_frequency
 
-__all__ = ["evidence_figure", "plot_evidence"]
+__all__ = ["PhasorRow", "evidence_figure", "plot_evidence"]
 
 _MAX_SIGNALS = 6
+#: The figure's width in inches: fits the text width of an A4 or Letter page.
+WIDTH_IN = 7.0
+#: Phasor diagrams side by side in one row of the figure.
+PHASORS_PER_ROW = 3
+_KIND = {"V": "voltage", "A": "current"}
 
 
-def _claimed_phasors(report: Report, circuit: Any) -> list[tuple[str, str, complex, complex]]:
-    """(step, unit, claimed peak phasor, exact peak phasor) for phasor claims of voltages and currents."""
+@dataclass(frozen=True)
+class PhasorRow:
+    """A claimed phasor of a voltage or current beside the exact one (peak values).
+
+    ``hz`` is the frequency it is read at; ``analysis`` whether that is the worksheet's
+    analysis frequency (its claimed sinusoid is then drawn over the waveforms).
+    """
+
+    step: str
+    unit: str
+    hz: float
+    claimed: complex
+    exact: complex
+    analysis: bool
+
+
+def _claimed_phasors(report: Report, circuit: Any) -> list[PhasorRow]:
+    """The phasor claims of voltages and currents, at the analysis frequency or at the
+    frequency an ``at_frequency(...)`` step names."""
     to_peak = 1.0 if circuit.phasors == "peak" else math.sqrt(2)
+    analysis_hz = float(circuit.omega) / (2 * math.pi)
     rows = []
     for step in report.steps:
         if not step.quantity or step.exact is None:
@@ -35,13 +62,24 @@ def _claimed_phasors(report: Report, circuit: Any) -> list[tuple[str, str, compl
         try:
             quantity = parse_quantity(step.quantity)
             claim = read_claim(step.claimed)
+            hz, quantity = _frequency_of(quantity, analysis_hz)
         except HandcheckError:
             continue
         if quantity.name not in ("voltage", "current") or claim.form not in ("polar", "rect"):
             continue
         unit = "V" if quantity.name == "voltage" else "A"
-        rows.append((step.name, unit, to_complex(claim.value.expr) * to_peak, to_complex(step.exact) * to_peak))
+        claimed, exact = to_complex(claim.value.expr) * to_peak, to_complex(step.exact) * to_peak
+        rows.append(PhasorRow(step.name, unit, hz, claimed, exact, math.isclose(hz, analysis_hz, rel_tol=1e-9)))
     return rows
+
+
+def _frequency_of(quantity: Any, analysis_hz: float) -> tuple[float, Any]:
+    """(frequency in Hz, the quantity read there) for a quantity or ``at_frequency(Q, f)``."""
+    args = quantity.args
+    if quantity.name == "at_frequency" and len(args) == 2 and isinstance(args[1], str):
+        omega = read_frequency(args[1], f"the frequency in {quantity.text}")
+        return float(omega) / (2 * math.pi), args[0]
+    return analysis_hz, quantity
 
 
 def plot_evidence(report: Report, evidence: Evidence, path: str | Path) -> Path:
@@ -53,92 +91,136 @@ def plot_evidence(report: Report, evidence: Evidence, path: str | Path) -> Path:
 
 
 def evidence_figure(report: Report, evidence: Evidence) -> Any:
-    """The evidence figure: waveforms above, the transient below, phasor diagrams beside."""
+    """The evidence figure: one panel of waveforms per kind (voltages, currents), the
+    transient of each kind below them, and a phasor diagram per kind and frequency in a
+    row beneath (a small harmonic gets its own scale instead of vanishing beside the
+    fundamental)."""
     import matplotlib
 
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
+
+    sim = evidence.simulation
+    circuit = sim.circuit
+    signals = _signals(report.steps)[:_MAX_SIGNALS]
+    if not signals:
+        signals = [parse_quantity(f"voltage({n})") for n in circuit.nodes[:_MAX_SIGNALS]]
+    rows = _claimed_phasors(report, circuit)
+    units = [
+        u for u in ("V", "A") if any(_unit(q) == u for q in signals) or any(r.unit == u and r.analysis for r in rows)
+    ]
+    groups = _phasor_groups(rows)
+    columns = max(1, min(PHASORS_PER_ROW, len(groups)))
+    phasor_rows = math.ceil(len(groups) / columns)
+    heights = [1.0] * (2 * len(units)) + [1.45] * phasor_rows
+    figure = plt.figure(figsize=(WIDTH_IN, 0.7 + 2.0 * sum(heights)), layout="constrained")
+    grid = figure.add_gridspec(len(heights), columns, height_ratios=heights)
+    waves = {u: figure.add_subplot(grid[k, :]) for k, u in enumerate(units)}
+    first = waves[units[0]]
+    for axis in list(waves.values())[1:]:
+        axis.sharex(first)
+    transients = {u: figure.add_subplot(grid[len(units) + k, :], sharex=first) for k, u in enumerate(units)}
+    _draw_waves(evidence, signals, rows, waves, transients)
+    for unit in units:
+        waves[unit].set_ylabel(f"{_KIND[unit]} [{unit}]")
+        transients[unit].set_ylabel(f"transient [{unit}]")
+        for axis in (waves[unit], transients[unit]):
+            axis.grid(alpha=0.3)
+        # above the waveforms, not over them
+        waves[unit].legend(fontsize=7, loc="lower left", bbox_to_anchor=(0, 1.01), ncol=2, frameon=False)
+        if transients[unit].get_lines():
+            transients[unit].legend(fontsize=7, loc="upper right")
+    for axis in list(waves.values()) + list(transients.values())[:-1]:
+        axis.tick_params(labelbottom=False)
+    # the run's step under the time axis, clear of the phasor diagrams' ticks
+    transients[units[-1]].set_xlabel(f"t [ms]  (simulated with a step of {sim.step:.3g} s, {sim.samples} samples)")
+    figure.suptitle(visible(" ".join(report.title.split())), fontsize=10)
+    several = len({hz for hz, _ in groups}) > 1
+    for index, ((hz, unit), members) in enumerate(groups.items()):
+        axes = figure.add_subplot(grid[2 * len(units) + index // columns, index % columns])
+        at = f" at {_hz_text(hz)}" if several or hz != float(circuit.omega) / (2 * math.pi) else ""
+        _phasor_diagram(axes, [(r.step, r.claimed, r.exact) for r in members], unit, at)
+    return figure
+
+
+def _unit(q: Any) -> str:
+    return "V" if q.name == "voltage" else "A"
+
+
+def _phasor_groups(rows: list[PhasorRow]) -> dict[tuple[float, str], list[PhasorRow]]:
+    """The phasor rows by (frequency, unit): the analysis frequency first, then upwards."""
+    groups: dict[tuple[float, str], list[PhasorRow]] = {}
+    for row in sorted(rows, key=lambda r: (not r.analysis, r.hz, r.unit != "V")):
+        key = next((k for k in groups if k[1] == row.unit and math.isclose(k[0], row.hz, rel_tol=1e-9)), None)
+        groups.setdefault(key or (row.hz, row.unit), []).append(row)
+    return groups
+
+
+def _hz_text(hz: float) -> str:
+    """A frequency with an SI prefix: 150 Hz, 16.07 kHz."""
+    for factor, prefix in ((1e9, "G"), (1e6, "M"), (1e3, "k")):
+        if abs(hz) >= factor:
+            return f"{hz / factor:.4g} {prefix}Hz"
+    return f"{hz:.4g} Hz"
+
+
+def _draw_waves(
+    evidence: Evidence, signals: list[Any], rows: list[PhasorRow], waves: dict[str, Any], transients: dict[str, Any]
+) -> None:
+    """The simulated waveforms, the claimed sinusoids over them and the transients."""
     import numpy as np
 
     sim = evidence.simulation
     circuit = sim.circuit
     times_ms = np.asarray(sim.times) * 1e3
-    signals = _signals(report.steps)[:_MAX_SIGNALS]
-    if not signals:
-        signals = [parse_quantity(f"voltage({n})") for n in circuit.nodes[:_MAX_SIGNALS]]
-    phasor_rows = _claimed_phasors(report, circuit)
-    kinds = sorted({unit for _, unit, _, _ in phasor_rows})
-    columns = 1 + len(kinds)
-    figure = plt.figure(figsize=(6 + 3.2 * len(kinds), 6.4), layout="constrained")
-    grid = figure.add_gridspec(2, columns, width_ratios=[2.2] + [1] * len(kinds))
-    waves = figure.add_subplot(grid[0, 0])
-    transient = figure.add_subplot(grid[1, 0], sharex=waves)
     omega = float(circuit.omega)
     fit = evidence.fit if omega > 0 and evidence.phasor_agreement is not None else None
-    units = {"V" if q.name == "voltage" else "A" for q in signals}
-    # currents on their own scale, so that milliamperes show beside volts
-    amps = waves.twinx() if units == {"V", "A"} else waves
     drawn: list[tuple[Any, Any]] = []
     for index, q in enumerate(signals):
         try:
             values = _numeric(sim, q)
         except KeyError:
             continue
-        unit = "V" if q.name == "voltage" else "A"
-        axis = amps if unit == "A" else waves
-        (line,) = axis.plot(times_ms, values, lw=1.2, color=f"C{index % 10}", label=f"{q.text} [{unit}] (simulated)")
+        unit = _unit(q)
+        (line,) = waves[unit].plot(times_ms, values, lw=1.2, color=f"C{index % 10}", label=f"{q.text} (simulated)")
         drawn.append((q, line))
-        if fit is not None:
-            steady = _steady(fit, q, np.asarray(sim.times), omega)
-            if steady is not None:
-                transient.plot(
-                    times_ms, values - steady, lw=1.0, color=line.get_color(), label=f"{q.text} - steady state"
-                )
-    for index, (name, unit, claimed, _) in enumerate(phasor_rows, start=len(signals)):
+        steady = _steady(fit, q, np.asarray(sim.times), omega) if fit is not None else None
+        if steady is not None:
+            transients[unit].plot(
+                times_ms, values - steady, lw=1.0, color=line.get_color(), label=f"{q.text} - steady state"
+            )
+    for index, row in enumerate((r for r in rows if r.analysis), start=len(signals)):
         if omega <= 0:
             break
         start = sim.times[-1] - 3 * 2 * math.pi / omega
         t = np.linspace(max(start, 0.0), sim.times[-1], 600)
-        axis = amps if unit == "A" else waves
-        wave = (claimed * np.exp(1j * omega * t)).real
-        axis.plot(t * 1e3, wave, "--", lw=1.4, color=f"C{index % 10}", label=f"{name} claimed [{unit}]")
+        wave = (row.claimed * np.exp(1j * omega * t)).real
+        waves[row.unit].plot(t * 1e3, wave, "--", lw=1.4, color=f"C{index % 10}", label=f"{row.step} claimed")
     if fit is None and _settles_to_constant(circuit) and evidence.long_enough:
         for q, line in drawn:
             values = np.asarray(line.get_ydata())
             label = f"{q.text} - settled value (at the end of the run)"
-            transient.plot(times_ms, values - values[-1], lw=1.0, color=line.get_color(), label=label)
+            transients[_unit(q)].plot(times_ms, values - values[-1], lw=1.0, color=line.get_color(), label=label)
     slowest = _slowest_rate(sim)
-    _quiet_transient(transient, waves, slowest)
-    if slowest and transient.get_lines():
-        lines = transient.get_lines()
-        amplitude = max((float(np.max(np.abs(line.get_ydata()))) for line in lines), default=0.0)
-        if amplitude > 0:
-            after = float(getattr(sim, "settles_from", 0.0))
-            t = np.asarray(sim.times)
-            envelope = amplitude * np.exp(-slowest * np.clip(t - after, 0, None))
-            transient.plot(times_ms, envelope, ":", color="black", lw=1, label="envelope of the slowest mode")
-            transient.plot(times_ms, -envelope, ":", color="black", lw=1)
-    waves.set_ylabel("current [A]" if units == {"A"} else "voltage [V]")
-    if amps is not waves:
-        amps.set_ylabel("current [A]")
-    figure.suptitle(visible(" ".join(report.title.split())), fontsize=10)
-    handles, labels = waves.get_legend_handles_labels()
-    if amps is not waves:
-        more = amps.get_legend_handles_labels()
-        handles, labels = handles + more[0], labels + more[1]
-    # above the waveforms, not over them
-    waves.legend(handles, labels, fontsize=7, loc="lower left", bbox_to_anchor=(0, 1.01), ncol=2, frameon=False)
-    waves.grid(alpha=0.3)
-    transient.set_xlabel("t [ms]")
-    transient.set_ylabel("transient")
-    transient.grid(alpha=0.3)
-    if transient.get_lines():
-        transient.legend(fontsize=7, loc="upper right")
-    for column, unit in enumerate(kinds, start=1):
-        axes = figure.add_subplot(grid[:, column])
-        _phasor_diagram(axes, [(n, c, e) for n, u, c, e in phasor_rows if u == unit], unit)
-    figure.text(0.01, 0.005, f"step {sim.step:.3g} s, {sim.samples} samples", fontsize=7)
-    return figure
+    for unit, transient in transients.items():
+        _quiet_transient(transient, waves[unit], slowest)
+        _envelope(transient, sim, slowest)
+
+
+def _envelope(transient: Any, sim: Any, slowest: float | None) -> None:
+    """The envelope of the slowest natural mode, at the size of the largest transient."""
+    import numpy as np
+
+    lines = transient.get_lines()
+    if not slowest or not lines:
+        return
+    amplitude = max((float(np.max(np.abs(line.get_ydata()))) for line in lines), default=0.0)
+    if amplitude > 0:
+        after = float(getattr(sim, "settles_from", 0.0))
+        t = np.asarray(sim.times)
+        envelope = amplitude * np.exp(-slowest * np.clip(t - after, 0, None))
+        transient.plot(t * 1e3, envelope, ":", color="black", lw=1, label="envelope of the slowest mode")
+        transient.plot(t * 1e3, -envelope, ":", color="black", lw=1)
 
 
 def _steady(fit: Any, q: Any, times: Any, omega: float) -> Any:
@@ -216,7 +298,7 @@ def _magnified(size: float, largest: float) -> int:
     return math.ceil(math.log10(0.3 * largest / size))
 
 
-def _phasor_diagram(axes: Any, rows: list[tuple[str, complex, complex]], unit: str) -> None:
+def _phasor_diagram(axes: Any, rows: list[tuple[str, complex, complex]], unit: str, at: str = "") -> None:
     """Exact phasors solid with a filled tip, claimed ones dashed with an open circle at
     the tip (visible where the two coincide); a phasor much smaller than the largest is
     drawn magnified by a power of ten, said in its label."""
@@ -240,7 +322,7 @@ def _phasor_diagram(axes: Any, rows: list[tuple[str, complex, complex]], unit: s
     axes.set_aspect("equal")
     axes.axhline(0, color="grey", lw=0.5)
     axes.axvline(0, color="grey", lw=0.5)
-    axes.set_title(f"phasors [{unit}, peak]", fontsize=9)
+    axes.set_title(f"phasors [{unit}, peak]{at}", fontsize=9)
     key = [
         Line2D([], [], color="black", lw=2, label="exact"),
         Line2D([], [], color="black", lw=1.3, ls="--", marker="o", mfc="none", label="claimed"),
