@@ -199,3 +199,62 @@ def test_check_plot_writes_the_bode_plot_and_the_record_carries_it(tmp_path: Pat
     html = (tmp_path / "lead.html").read_text(encoding="utf-8")
     assert "Frequency response of the exact network functions" in html
     assert html.count("<svg") == 1
+
+
+# A parallel tank seen from node a: (R1 + sL1) in parallel with 1/(sC1), so
+# Z(s) = (s L1 + R1) / (s^2 L1 C1 + s R1 C1 + 1) (series and parallel impedances,
+# Alexander & Sadiku, Fundamentals of Electric Circuits, 5th ed., section 9.7, from
+# memory); Rs and the zeroed source Vs (a short) sit outside the node pair a-gnd only
+# through Rs, which is in parallel: Z_a = Rs || Z_tank.
+TANK = """
+[worksheet]
+format = 1
+title = "Input impedance of a tank behind a resistor"
+[parts]
+Vs = { voltage = "1 V", frequency = "1 kHz", nodes = ["in", "gnd"] }
+Rs = { resistor = "50 ohm", nodes = ["in", "a"] }
+R1 = { resistor = "10 ohm", nodes = ["a", "b"] }
+L1 = { inductor = "1 mH", nodes = ["b", "gnd"] }
+C1 = { capacitor = "1 uF", nodes = ["a", "gnd"] }
+[[step]]
+name = "Za"
+quantity = "impedance(a, gnd)"
+claim = "10.5 + 7j ohm"
+[[step]]
+name = "f0"
+quantity = "resonant_frequency(impedance(a))"
+claim = "5 kHz"
+[[step]]
+name = "XL"
+quantity = "impedance(L1)"
+claim = "6.28j ohm"
+"""
+
+
+def test_an_impedance_is_plotted_in_ohm_not_as_a_gain() -> None:
+    from scipy.signal import freqs
+
+    report, curves = _curves(TANK)
+    # impedance(a, gnd) and impedance(a) are one Z; a part's own impedance draws no curve
+    assert len(curves) == 1 and curves[0].unit == "ohm"
+    r1, l1, c1, rs = 10.0, 1e-3, 1e-6, 50.0
+    tank_num, tank_den = np.array([l1, r1]), np.array([l1 * c1, r1 * c1, 1.0])
+    # Z = Rs*Zt/(Rs + Zt) = Rs*N / (Rs*D + N)
+    num, den = rs * tank_num, np.polyadd(rs * tank_den, tank_num)
+    figure = bode_figure(report, curves)
+    magnitude, phase = figure.axes[0], figure.axes[1]
+    assert magnitude.get_ylabel() == "abs(Z) [ohm]" and magnitude.get_yscale() == "log"
+    assert "dB" not in magnitude.get_title() + magnitude.get_ylabel()
+    exact = next(line for line in _lines(magnitude) if line.get_label() == "exact")
+    hz = np.asarray(exact.get_xdata())
+    _, reference = freqs(num, den, worN=2 * np.pi * hz)
+    assert_allclose(exact.get_ydata(), np.abs(reference), rtol=1e-9)
+    # the claimed phasor at the analysis frequency, at its size in ohm
+    assert _has_point(magnitude, 1000.0, abs(10.5 + 7j))
+    assert _has_point(phase, 1000.0, math.degrees(math.atan2(7, 10.5)))
+    found = {(m.step, m.kind) for m in marks(report, curves[0])}
+    assert found == {("Za", "point"), ("f0", "frequency"), ("f0", "exact-frequency")}
+    assert _has_vertical(magnitude, 5000.0)
+    import matplotlib.pyplot as plt
+
+    plt.close(figure)

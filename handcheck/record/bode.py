@@ -1,7 +1,8 @@
 """Bode plots of the network functions the steps name, with the claims marked.
 
-For each :class:`~handcheck.solve.curves.Curve`: abs(H(jw)) in dB and its phase in
-degrees against frequency in Hz on a logarithmic axis, H evaluated with numpy from its
+For each :class:`~handcheck.solve.curves.Curve`: abs(H(jw)) in dB (an impedance or
+admittance: abs(Z(jw)) in ohm or abs(Y(jw)) in S on a logarithmic axis, since it is no
+gain) and its phase in degrees against frequency in Hz on a logarithmic axis, H evaluated with numpy from its
 exact coefficients (H(s) = N(s)/D(s), s = j*2*pi*f; the usual Bode diagram, e.g.
 Franklin, Powell & Emami-Naeini, *Feedback Control of Dynamic Systems*, 6th ed.,
 section 6.1, from memory). The frequency axis spans every pole and zero and every
@@ -162,7 +163,7 @@ def _marks_of(name: str, kind: str, claim: Any, hz: float | None, exact: Any = N
             for item in items
             if abs(to_complex(item.value.expr)) > 0
         ]
-    if kind in ("cutoff_frequency", "peak_frequency", "band_edges"):
+    if kind in ("cutoff_frequency", "peak_frequency", "band_edges", "resonant_frequency"):
         items = claim.items or (claim,)
         found = [Mark(name, "frequency", f"{name} claimed", hz=_hz_of(claim, item.value.expr)) for item in items]
         if isinstance(exact, sympy.Expr) and exact.is_number:
@@ -189,6 +190,18 @@ def _db(values: Any) -> Any:
         return 20 * np.log10(np.maximum(np.abs(values), 1e-300))
 
 
+def _size(values: Any) -> Any:
+    """abs() of an impedance or admittance, in its unit (drawn on a logarithmic axis)."""
+    import numpy as np
+
+    return np.maximum(np.abs(values), 1e-300)
+
+
+#: What the magnitude axis shows, by the curve's unit: a ratio in dB, an impedance or
+#: admittance as its size in ohm or S.
+_MAGNITUDE = {"": "magnitude [dB]", "ohm": "abs(Z) [ohm]", "S": "abs(Y) [S]"}
+
+
 def _near_branch(angle_deg: float, reference_deg: float) -> float:
     """``angle_deg`` moved by whole turns to lie nearest the drawn (unwrapped) phase."""
     return angle_deg + 360.0 * round((reference_deg - angle_deg) / 360.0)
@@ -204,11 +217,12 @@ def _draw(axes: tuple[Any, Any], curve: Curve, found: list[Mark]) -> None:
     import numpy as np
 
     magnitude, phase = axes
+    level = _size if curve.unit else _db
     num, den = _floats(curve.num), _floats(curve.den)
     grid = frequency_grid(num, den, [m.hz for m in found if m.hz])
     h = response_at(num, den, 2 * np.pi * grid)
     drawn_phase = np.degrees(np.unwrap(np.angle(h)))
-    magnitude.semilogx(grid, _db(h), color=_EXACT, lw=1.8, label="exact")
+    magnitude.semilogx(grid, level(h), color=_EXACT, lw=1.8, label="exact")
     phase.semilogx(grid, drawn_phase, color=_EXACT, lw=1.8, label="exact")
 
     def phase_at(hz: float) -> float:
@@ -218,13 +232,13 @@ def _draw(axes: tuple[Any, Any], curve: Curve, found: list[Mark]) -> None:
         if mark.kind == "function":
             claimed = response_at(mark.num, mark.den, 2 * np.pi * grid)
             shift = 360.0 * round((drawn_phase[0] - math.degrees(np.angle(claimed[0]))) / 360.0)
-            magnitude.semilogx(grid, _db(claimed), "--", color=_CLAIMED, lw=1.3, label=mark.label)
+            magnitude.semilogx(grid, level(claimed), "--", color=_CLAIMED, lw=1.3, label=mark.label)
             phase.semilogx(
                 grid, np.degrees(np.unwrap(np.angle(claimed))) + shift, "--", color=_CLAIMED, lw=1.3, label=mark.label
             )
         elif mark.kind in ("point", "magnitude", "phase") and mark.hz and mark.value is not None:
             if mark.kind in ("point", "magnitude"):
-                _point(magnitude, mark, float(_db(np.array([mark.value]))[0]))
+                _point(magnitude, mark, float(level(np.array([mark.value]))[0]))
             if mark.kind in ("point", "phase"):
                 angle = math.degrees(np.angle(mark.value)) if mark.kind == "point" else math.degrees(mark.value.real)
                 _point(phase, mark, _near_branch(angle, phase_at(mark.hz)))
@@ -245,7 +259,7 @@ def _draw(axes: tuple[Any, Any], curve: Curve, found: list[Mark]) -> None:
             first = not any(m.kind == mark.kind and m.step == mark.step for m in found[:index])
             magnitude.plot(
                 [mark.hz],
-                _db(at),
+                level(at),
                 "x" if mark.kind == "pole" else "s",
                 color=_FREQUENCY,
                 ms=8,
@@ -254,7 +268,16 @@ def _draw(axes: tuple[Any, Any], curve: Curve, found: list[Mark]) -> None:
                 label=mark.label if first else None,
             )
         elif mark.kind == "gain" and mark.value is not None:
-            magnitude.axhline(float(_db(np.array([mark.value]))[0]), color=_CLAIMED, ls=":", lw=1.2, label=mark.label)
+            magnitude.axhline(float(level(np.array([mark.value]))[0]), color=_CLAIMED, ls=":", lw=1.2, label=mark.label)
+
+
+def _log_size_axis(axis: Any) -> None:
+    """A logarithmic axis for a size in ohm or S, its ticks as plain numbers (30, 0.002)."""
+    from matplotlib.ticker import LogFormatter
+
+    axis.set_yscale("log")
+    axis.yaxis.set_major_formatter(LogFormatter())
+    axis.yaxis.set_minor_formatter(LogFormatter(labelOnlyBase=False, minor_thresholds=(1.5, 0.6)))
 
 
 def bode_figure(report: Report, curves: tuple[Curve, ...]) -> Any:
@@ -270,8 +293,10 @@ def bode_figure(report: Report, curves: tuple[Curve, ...]) -> Any:
     for column, curve in enumerate(curves):
         magnitude, phase = axes[0, column], axes[1, column]
         _draw((magnitude, phase), curve, marks(report, curve))
-        magnitude.set_title(visible(f"H = {curve.text}"), fontsize=9)
-        magnitude.set_ylabel("magnitude [dB]")
+        magnitude.set_title(visible(f"{curve.text} [{curve.unit}]" if curve.unit else f"H = {curve.text}"), fontsize=9)
+        magnitude.set_ylabel(_MAGNITUDE.get(curve.unit, f"abs [{curve.unit}]"))
+        if curve.unit:
+            _log_size_axis(magnitude)
         phase.set_ylabel("phase [deg]")
         phase.set_xlabel("frequency [Hz]")
         for axis in (magnitude, phase):

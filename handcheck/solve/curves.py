@@ -4,7 +4,9 @@ A step names a network function H when its quantity is ``network_function(Q1, Q2
 ``transfer(Q1, Q2)``, or holds one: ``magnitude(H)``, ``phase(H)``,
 ``at_frequency(H, "10 kHz")`` (and the two nested), ``cutoff_frequency(H)``,
 ``peak_frequency(H)``, ``band_edges(H)``, ``poles(H)``, ``zeros(H)``, ``dc_gain(H)``,
-``hf_gain(H)``. Two steps that name the same pair (Q1, Q2) share one H (a
+``hf_gain(H)``; an ``impedance(...)`` or ``admittance(...)`` is such an H too (Z(s)
+with independent sources zeroed, in ohm; read at the analysis frequency, at another
+with ``at_frequency``, or by ``resonant_frequency(Z)``). Two steps that name the same pair (Q1, Q2) share one H (a
 ``transfer`` and a ``network_function`` of the same quantities are the same function
 of s). Each :class:`Curve` keeps H's exact coefficients and, per step, where on H the
 step reads (:class:`Reading`); the claims themselves are read by the plot.
@@ -18,6 +20,7 @@ from dataclasses import dataclass
 import sympy
 
 from handcheck.errors import HandcheckError
+from handcheck.solve.frequency import network_function
 from handcheck.solve.network import laplace_symbol
 from handcheck.solve.phasor import Solution
 from handcheck.solve.quantities import Quantity, evaluate_quantity, parse_quantity
@@ -27,7 +30,9 @@ __all__ = ["MAX_CURVES", "Curve", "Reading", "named_curves", "names_function"]
 #: At most this many network functions are drawn.
 MAX_CURVES = 4
 #: Readings of H that give a frequency (Hz) or a list of them.
-_FREQUENCIES = frozenset({"cutoff_frequency", "peak_frequency", "band_edges", "poles", "zeros"})
+_FREQUENCIES = frozenset({"cutoff_frequency", "peak_frequency", "band_edges", "poles", "zeros", "resonant_frequency"})
+#: Network functions that are an impedance or admittance of the circuit, with their unit.
+_IMMITTANCES = {"impedance": "ohm", "admittance": "S"}
 _GAINS = frozenset({"dc_gain", "hf_gain"})
 
 
@@ -57,9 +62,13 @@ class Curve:
     num: tuple[sympy.Expr, ...]
     den: tuple[sympy.Expr, ...]
     readings: tuple[Reading, ...]
+    #: ``"ohm"`` for an impedance Z(s), ``"S"`` for an admittance, ``""`` for a ratio.
+    unit: str = ""
 
 
 def _is_function(q: object) -> bool:
+    if isinstance(q, Quantity) and q.name in _IMMITTANCES:
+        return 1 <= len(q.args) <= 2 and all(isinstance(a, str) for a in q.args)
     return (
         isinstance(q, Quantity)
         and q.name in ("network_function", "transfer")
@@ -102,8 +111,29 @@ def names_function(text: str | None) -> bool:
         return False
 
 
-def _key(h: Quantity) -> tuple[str, str]:
-    return (str(h.args[0]), str(h.args[1]))
+def _key(h: Quantity) -> tuple[str, ...]:
+    if h.name in _IMMITTANCES:
+        # impedance(a) looks into node a against ground: the same Z as impedance(a, gnd)
+        return (h.name, *(str(a) for a in h.args), *(("gnd",) if len(h.args) == 1 else ()))
+    return ("ratio", *(str(a) for a in h.args))
+
+
+def _part_of_its_own(h: Quantity, solution: Solution) -> bool:
+    """Whether ``h`` is one part's own impedance (R, sL, 1/(sC)): a formula, no network's."""
+    circuit = solution.circuit
+    if h.name not in _IMMITTANCES or len(h.args) != 1:
+        return False
+    name = str(h.args[0])
+    return circuit.has_part(name) and name not in circuit.nodes
+
+
+def _solved(solution: Solution, h: Quantity) -> tuple[str, sympy.Expr, str]:
+    """(how the plot names H, H(s) exactly, H's unit)."""
+    if h.name in _IMMITTANCES:
+        response = network_function(solution, h, evaluate_quantity)
+        return h.text, response.expr, _IMMITTANCES[h.name]
+    value = evaluate_quantity(solution, Quantity("network_function", h.args, h.text))
+    return f"{h.args[0]} / {h.args[1]}", value.expr, ""
 
 
 def _coefficients(expr: sympy.Expr) -> tuple[tuple[sympy.Expr, ...], tuple[sympy.Expr, ...]]:
@@ -130,7 +160,7 @@ def named_curves(steps: Iterable[tuple[str, str | None]], solution: Solution) ->
         left out: its steps' verdicts already say why.
     """
     omega = solution.circuit.omega
-    found: dict[tuple[str, str], tuple[Quantity, list[Reading]]] = {}
+    found: dict[tuple[str, ...], tuple[Quantity, list[Reading]]] = {}
     for name, text in steps:
         if not text:
             continue
@@ -141,6 +171,8 @@ def named_curves(steps: Iterable[tuple[str, str | None]], solution: Solution) ->
         if located is None:
             continue
         h, kind, at = located
+        if _part_of_its_own(h, solution):
+            continue
         key = _key(h)
         if key not in found:
             if len(found) == MAX_CURVES:
@@ -150,9 +182,9 @@ def named_curves(steps: Iterable[tuple[str, str | None]], solution: Solution) ->
     curves = []
     for h, readings in found.values():
         try:
-            value = evaluate_quantity(solution, Quantity("network_function", h.args, h.text))
-            num, den = _coefficients(value.expr)
+            text, expr, unit = _solved(solution, h)
+            num, den = _coefficients(expr)
         except (HandcheckError, sympy.PolynomialError):
             continue
-        curves.append(Curve(f"{h.args[0]} / {h.args[1]}", num, den, tuple(readings)))
+        curves.append(Curve(text, num, den, tuple(readings), unit))
     return tuple(curves)
