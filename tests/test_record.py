@@ -293,8 +293,10 @@ def test_payloads_are_escaped_in_html_and_markdown(tmp_path: Path, make_workshee
     assert "<script" not in html and "<img" not in html
     assert "&lt;script&gt;" in html
     md = make_record(inputs, ".md")[0].decode("utf-8")
-    prose = [line for line in md.split("<!-- handcheck-record-data")[0].splitlines() if not line.startswith("    ")]
-    assert not any("<script" in line or "<img" in line for line in prose)  # outside the verbatim code block
+    body = md.split("<!-- handcheck-record-data")[0]
+    # outside the verbatim code block (fenced by a run of backticks of its own length)
+    prose = re.sub(r"^( *`{3,})toml\n.*?^\1$", "", body, flags=re.DOTALL | re.MULTILINE).splitlines()
+    assert not any("<script" in line or "<img" in line for line in prose)
     assert "&lt;script&gt;" in "\n".join(prose)
     path = tmp_path / "p.md"
     path.write_text(md, encoding="utf-8")

@@ -18,6 +18,9 @@ from handcheck.record.visible import visible
 
 __all__ = ["environment", "render_html", "render_json", "render_markdown"]
 
+#: Spaces before the fence and each line of the worksheet's verbatim block (at most 3,
+#: or the fence would be an indented code block).
+VERBATIM_INDENT = 3
 _MD_SPECIAL = re.compile(r"([\\`*_\[\]|#!{}$~])")
 
 
@@ -35,7 +38,7 @@ def environment(autoescape: bool) -> Any:
     )
     env.filters["md"] = _markdown_text
     env.filters["visible"] = lambda value: visible(" ".join(str(value).split()))
-    env.filters["fence"] = _fence
+    env.filters["verbatim"] = _verbatim
     env.filters["number"] = _number
     return env
 
@@ -51,6 +54,21 @@ def _fence(text: str) -> str:
     """A backtick fence longer than any run of backticks in ``text``."""
     runs = [len(m) for m in re.findall(r"`+", text)]
     return "`" * max(3, max(runs, default=0) + 1)
+
+
+def _verbatim(text: str) -> str:
+    """``text`` as a fenced code block that gives back every line of it.
+
+    The fence is longer than any run of backticks in the text, so no line of it closes
+    the block, and a fenced block keeps leading and trailing blank lines, which an
+    indented one drops. Fence and lines stand indented by :data:`VERBATIM_INDENT`
+    spaces, which a reader takes off again (CommonMark 0.31, sections 4.4 and 4.5,
+    common practice): no worksheet line starts where the record's digest line does.
+    """
+    pad = " " * VERBATIM_INDENT
+    fence = pad + _fence(text)
+    lines = "".join(f"{pad}{line}\n" for line in text.split("\n")[: -1 if text.endswith("\n") else None])
+    return f"{fence}toml\n{lines}{fence}"
 
 
 def _number(value: Any) -> str:
