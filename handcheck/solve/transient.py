@@ -336,6 +336,96 @@ def _horizon(circuit: Circuit, until: Any) -> tuple[Any, Any]:
     return horizon, valid
 
 
+def _natural_modes(
+    system: MnaSystem, circuit: Circuit, energy: dict[str, list[Any]], max_order: int, deadline: float
+) -> tuple[list[tuple[Factor, int]], sympy.Poly]:
+    """The natural modes (irreducible factors with their multiplicity) and their monic polynomial.
+
+    The response to a random combination of the stored-energy vectors (seeded, so
+    runs repeat) excites every mode, so the least common multiple of its
+    denominators is the circuit's characteristic polynomial.
+    """
+    import random
+
+    import sympy
+
+    modes: list[tuple[Factor, int]] = []
+    polynomial = sympy.Poly(1, laplace_s(), domain=sympy.QQ)
+    if not energy:
+        return modes, polynomial
+    rng = random.Random(_SEED)
+    generic = [sympy.Integer(0)] * system.size
+    for vector in energy.values():
+        weight = sympy.Rational(rng.randint(1, 10**6), rng.randint(1, 10**3))
+        generic = [g + weight * e for g, e in zip(generic, vector, strict=True)]
+    responses = solve_column(system, circuit, generic, deadline)
+    polynomial = sympy.Poly(1, laplace_s(), domain=responses[0].den.domain)
+    for rf in responses:
+        polynomial = polynomial.lcm(rf.den)
+    polynomial = polynomial.monic()
+    if polynomial.degree() > max_order:
+        raise LimitError(
+            f"the circuit is of order {polynomial.degree()} (that many independent capacitor voltages and "
+            f"inductor currents); closed-form transients are limited to order {max_order}",
+            file=circuit.path,
+        )
+    for f, mult in irreducible_factors(polynomial):
+        if time.monotonic() > deadline:
+            raise timeout_error()
+        modes.append((Factor(f, roots_of_irreducible(f)), mult))
+    return modes, polynomial
+
+
+def _energy_columns(
+    system: MnaSystem, circuit: Circuit, energy: dict[str, list[Any]], state: dict[str, Any], deadline: float
+) -> list[Column]:
+    """The response to the stored energy: rational initial values in one column, others one column each."""
+    import sympy
+
+    columns: list[Column] = []
+    zero_delay = sympy.Integer(0)
+    rational_rhs = [sympy.Integer(0)] * system.size
+    any_rational = False
+    for ident, vector in energy.items():
+        v0 = state[ident]
+        if v0 == 0:
+            continue
+        if v0.is_Rational:
+            rational_rhs = [r + v0 * e for r, e in zip(rational_rhs, vector, strict=True)]
+            any_rational = True
+        else:
+            columns.append(
+                Column(
+                    f"stored energy in {ident}",
+                    solve_column(system, circuit, vector, deadline),
+                    ((v0, basis_one(), zero_delay),),
+                )
+            )
+    if any_rational and any(r != 0 for r in rational_rhs):
+        columns.append(
+            Column(
+                "stored energy",
+                solve_column(system, circuit, rational_rhs, deadline),
+                ((sympy.Integer(1), basis_one(), zero_delay),),
+            )
+        )
+    return columns
+
+
+def _source_columns(system: MnaSystem, circuit: Circuit, horizon: Any, deadline: float) -> list[Column]:
+    """One column of the response for each independent source that is on after t = 0."""
+    columns: list[Column] = []
+    for k, ident in enumerate(system.sources):
+        part = circuit.part(ident)
+        assert part.source is not None
+        waves = source_waves(part.source, horizon)
+        if not waves:
+            continue
+        rhs = [system.B[r][k] for r in range(system.size)]
+        columns.append(Column(ident, solve_column(system, circuit, rhs, deadline), tuple(waves)))
+    return columns
+
+
 def transient_solution(
     circuit: Circuit,
     *,
@@ -391,11 +481,6 @@ def transient_solution(
     >>> solution.time_constant()
     1/1000
     """
-    # Long by design: the steps of the solution in the order the module docstring gives them.
-    import random
-
-    import sympy
-
     deadline = time.monotonic() + time_limit
     system = stamp(circuit)
     start = circuit.start
@@ -406,69 +491,10 @@ def transient_solution(
     horizon, valid = _horizon(circuit, until)
     reactive = [p for p in circuit.parts if stores_state(p)]
     energy = {p.id: energy_vector(system, circuit, p) for p in reactive}
-
     # natural modes first: a generic stored-energy vector excites every mode
-    modes: list[tuple[Factor, int]] = []
-    polynomial = sympy.Poly(1, laplace_s(), domain=sympy.QQ)
-    if reactive:
-        rng = random.Random(_SEED)
-        generic = [sympy.Integer(0)] * system.size
-        for p in reactive:
-            weight = sympy.Rational(rng.randint(1, 10**6), rng.randint(1, 10**3))
-            generic = [g + weight * e for g, e in zip(generic, energy[p.id], strict=True)]
-        responses = solve_column(system, circuit, generic, deadline)
-        polynomial = sympy.Poly(1, laplace_s(), domain=responses[0].den.domain)
-        for rf in responses:
-            polynomial = polynomial.lcm(rf.den)
-        polynomial = polynomial.monic()
-        if polynomial.degree() > max_order:
-            raise LimitError(
-                f"the circuit is of order {polynomial.degree()} (that many independent capacitor voltages and "
-                f"inductor currents); closed-form transients are limited to order {max_order}",
-                file=circuit.path,
-            )
-        for f, mult in irreducible_factors(polynomial):
-            if time.monotonic() > deadline:
-                raise timeout_error()
-            modes.append((Factor(f, roots_of_irreducible(f)), mult))
-
-    columns: list[Column] = []
-    zero_delay = sympy.Integer(0)
-    # stored energy: rational initial values in one column, others one column each
-    rational_rhs = [sympy.Integer(0)] * system.size
-    any_rational = False
-    for p in reactive:
-        v0 = state[p.id]
-        if v0 == 0:
-            continue
-        if v0.is_Rational:
-            rational_rhs = [r + v0 * e for r, e in zip(rational_rhs, energy[p.id], strict=True)]
-            any_rational = True
-        else:
-            columns.append(
-                Column(
-                    f"stored energy in {p.id}",
-                    solve_column(system, circuit, energy[p.id], deadline),
-                    ((v0, basis_one(), zero_delay),),
-                )
-            )
-    if any_rational and any(r != 0 for r in rational_rhs):
-        columns.append(
-            Column(
-                "stored energy",
-                solve_column(system, circuit, rational_rhs, deadline),
-                ((sympy.Integer(1), basis_one(), zero_delay),),
-            )
-        )
-    for k, ident in enumerate(system.sources):
-        part = circuit.part(ident)
-        assert part.source is not None
-        waves = source_waves(part.source, horizon)
-        if not waves:
-            continue
-        rhs = [system.B[r][k] for r in range(system.size)]
-        columns.append(Column(ident, solve_column(system, circuit, rhs, deadline), tuple(waves)))
-
+    modes, polynomial = _natural_modes(system, circuit, energy, max_order, deadline)
+    columns = _energy_columns(system, circuit, energy, state, deadline)
+    columns += _source_columns(system, circuit, horizon, deadline)
     return TransientSolution(
         circuit=circuit,
         system=system,
