@@ -79,11 +79,11 @@ from __future__ import annotations
 
 import time
 from collections.abc import Sequence
-from dataclasses import dataclass
 from fractions import Fraction
 from numbers import Integral
 from typing import TYPE_CHECKING, Any
 
+from handcheck.solve.pencil import StateSpace, check_deadline, reduce_pencil
 from handcheck.solve.rational import RationalFunction, laplace_symbol, number_field, to_sympy_number
 
 if TYPE_CHECKING:  # pragma: no cover - typing only
@@ -179,189 +179,6 @@ def _domain_entries(G: Any, C: Any, b: Any) -> tuple[Any, int, dict, dict, dict]
         if elem:
             mats[m].setdefault(i, {})[j] = elem
     return K, n, mats[0], mats[1], mats[2]
-
-
-# --------------------------------------------------------------------------
-# pencil reduction
-# --------------------------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class _StateSpace:
-    """``x_k(sigma) = c_k + W[k] (sigma I + K)^{-1} g`` for the selected unknowns.
-
-    ``shift is None`` means ``sigma = s``; otherwise ``sigma = 1/(s - shift)``.
-    """
-
-    K: DomainMatrix
-    g: DomainMatrix
-    W: DomainMatrix
-    c: tuple
-    shift: Any
-    route: str
-    #: Row of ``W`` for each selected unknown (None: row k is unknown k's).
-    rows: tuple[int, ...] | None = None
-
-    def w_row(self, k: int) -> DomainMatrix:
-        """``W``'s row of the k-th selected unknown, as a 1 x r matrix."""
-        i = k if self.rows is None else self.rows[k]
-        return self.W[i : i + 1, :]
-
-
-def _check_deadline(deadline: float | None, stage: str) -> None:
-    """Raise ``TimeoutError`` if the monotonic clock has passed ``deadline``."""
-    if deadline is not None and time.monotonic() >= deadline:
-        raise TimeoutError(f"solve_rational: time limit exceeded ({stage})")
-
-
-def _singular() -> tuple[type[Exception], ...]:
-    """Exceptions sympy raises for a singular exact solve."""
-    from sympy.polys.matrices.exceptions import DMNonInvertibleMatrixError
-
-    return (DMNonInvertibleMatrixError, ZeroDivisionError)
-
-
-def _reduce_pencil(
-    Gm: DomainMatrix,
-    Cm: DomainMatrix,
-    bm: DomainMatrix,
-    sel: Sequence[int],
-    deadline: float | None,
-) -> _StateSpace:
-    """Bring ``(G + sC) x = b`` to the state-space form of :class:`_StateSpace`.
-
-    Parameters
-    ----------
-    Gm, Cm : DomainMatrix
-        ``n x n`` over a field.
-    bm : DomainMatrix
-        ``n x 1``.
-    sel : sequence of int
-        Unknowns wanted.
-    deadline : float or None
-        ``time.monotonic()`` limit.
-
-    Returns
-    -------
-    _StateSpace
-
-    Raises
-    ------
-    ValueError
-        If ``det(G + sC)`` is identically zero.
-
-    Notes
-    -----
-    Schur route, then reversal route (see the module docstring).
-    """
-    from sympy.polys.matrices import DomainMatrix
-
-    K = Gm.domain
-    n = Gm.shape[0]
-    # the echelon form of [C | I] on sparse matrices (C of a circuit is mostly zeros);
-    # the blocks taken from it are made dense when C came dense
-    R, pivots = DomainMatrix.hstack(Cm.to_sparse(), DomainMatrix.eye(n, K).to_sparse()).rref()
-
-    def like_c(M: DomainMatrix) -> DomainMatrix:
-        return M if Cm.rep.fmt == "sparse" else M.to_dense()
-
-    cpiv = [p for p in pivots if p < n]
-    r = len(cpiv)
-    pivset = set(cpiv)
-    nonpiv = [j for j in range(n) if j not in pivset]
-    m = n - r
-    _check_deadline(deadline, "echelon form of C")
-
-    # ---- Schur route: P C Q = diag(I_r, 0) --------------------------------
-    P = like_c(R[:, n:])
-    f = P * bm
-    Gp = Gm.extract(list(range(n)), cpiv) if r else None
-    Gn = Gm.extract(list(range(n)), nonpiv) if m else None
-    F = like_c(R.extract(list(range(r)), nonpiv)) if (r and m) else None
-    if m == 0:
-        Kmat = P * Gp
-        W = DomainMatrix.eye(r, K)
-        Wrows = {cpiv[i]: i for i in range(r)}
-        g = f
-        c_full = {k: K.zero for k in range(n)}
-        Wsel = W.extract([Wrows[k] for k in sel], list(range(r)))
-        return _StateSpace(Kmat, g, Wsel, tuple(c_full[k] for k in sel), None, "schur")
-
-    if r:
-        assert Gp is not None and F is not None  # both exist when r > 0 and m > 0
-        GQ2 = Gn - Gp * F
-    else:
-        GQ2 = Gn
-    A2 = P * GQ2  # columns of A = P G Q beyond the first r
-    A22 = A2[r:, :]
-    schur_ok = True
-    try:
-        if r:
-            A1 = P * Gp
-            rhs = DomainMatrix.hstack(A1[r:, :], f[r:, :])
-        else:
-            rhs = f[r:, :]
-        Y = A22.lu_solve(rhs)
-    except _singular():
-        schur_ok = False
-    _check_deadline(deadline, "Schur complement")
-    if schur_ok:
-        if r == 0:  # no reactive element: x = G^{-1} b, constant
-            y2c = Y
-            c_full = {nonpiv[a]: y2c[a, 0].element for a in range(m)}
-            Wsel = DomainMatrix.zeros((len(sel), 0), K)
-            return _StateSpace(
-                DomainMatrix.zeros((0, 0), K),
-                DomainMatrix.zeros((0, 1), K),
-                Wsel,
-                tuple(c_full[k] for k in sel),
-                None,
-                "schur",
-            )
-        Y1 = Y[:, :r]
-        y2c = Y[:, r:]
-        A12 = A2[:r, :]
-        Kmat = A1[:r, :] - A12 * Y1
-        g = f[:r, :] - A12 * y2c
-        # x[piv] = (I + F Y1) y1 - F y2c ; x[nonpiv] = -Y1 y1 + y2c
-        Wp = DomainMatrix.eye(r, K) + F * Y1
-        Fy = F * y2c
-        # the selected rows are looked up in [Wp; -Y1] through `order` when asked for,
-        # the constants read from one list each (slicing a row per unknown here cost
-        # 1 ms each in conversions)
-        where = {k: i for i, k in enumerate(cpiv)} | {k: r + a for a, k in enumerate(nonpiv)}
-        order = [where[k] for k in sel]
-        both = DomainMatrix.vstack(Wp, -Y1)  # rows looked up through `order`, never copied
-        fy, yc = [row[0] for row in Fy.to_list()], [row[0] for row in y2c.to_list()]
-        cs = [-fy[i] if i < r else yc[i - r] for i in order]
-        return _StateSpace(Kmat, g, both, tuple(cs), None, "schur", tuple(order))
-
-    # ---- reversal route: s = s0 + 1/t ------------------------------------
-    if r == 0:
-        raise ValueError("det(G + sC) is identically zero: C = 0 and G is singular")
-    U = Cm.extract(list(range(n)), cpiv)
-    Rt = like_c(R[:r, :n])
-    rhs = DomainMatrix.hstack(U, bm)
-    Z = None
-    s0 = 0
-    for i in range(r + 1):  # deg det(G + sC) <= r: r+1 zeros mean det == 0
-        s0 = (i + 1) // 2 * (1 if i % 2 else -1)
-        M0 = Gm + Cm.mul(K.convert(s0)) if s0 else Gm
-        try:
-            Z = M0.lu_solve(rhs)
-            break
-        except _singular():
-            _check_deadline(deadline, "search for a regular point")
-            continue
-    if Z is None:
-        raise ValueError("det(G + sC) is identically zero (the system is singular for every s)")
-    _check_deadline(deadline, "reversal solve")
-    Zu = Z[:, :r]
-    zb = Z[:, r:]
-    Kmat = Rt * Zu
-    g = Rt * zb
-    Wsel = -Zu.extract(list(sel), list(range(r)))
-    return _StateSpace(Kmat, g, Wsel, tuple(zb[k, 0].element for k in sel), s0, "reversal")
 
 
 def _det_shifted(Km: DomainMatrix, use_flint: bool) -> list:
@@ -474,7 +291,7 @@ def _hessenberg_charpoly(entries: dict, r: int) -> list | None:
     return [*coeffs, *([flint.fmpq(0)] * (r + 1 - len(coeffs)))]
 
 
-def _adjugate_columns(ss: _StateSpace, d: list, deadline: float | None) -> DomainMatrix:
+def _adjugate_columns(ss: StateSpace, d: list, deadline: float | None) -> DomainMatrix:
     """Coefficient vectors of ``u(sigma) = adj(sigma I + K) g`` as columns.
 
     Notes
@@ -497,7 +314,7 @@ def _adjugate_columns(ss: _StateSpace, d: list, deadline: float | None) -> Domai
         u = g.mul(d[j]) - Km * u
         cols[j - 1] = u
         if j % 8 == 0:
-            _check_deadline(deadline, "adjugate recursion")
+            check_deadline(deadline, "adjugate recursion")
     if not (Km * u - g.mul(d[0])).is_zero_matrix:
         raise ArithmeticError("characteristic polynomial failed its check K u0 = d0 g")
     return DomainMatrix.hstack(*cols)
@@ -528,7 +345,7 @@ def _adjugate_flint(Kf: Any, gf: Any, d: list, deadline: float | None) -> Any:
         dj = d[j]
         vectors.append([dj * gi - ku if gi else -ku for gi, ku in zip(g, times_k(vectors[-1]), strict=True)])
         if j % 8 == 0:
-            _check_deadline(deadline, "adjugate recursion")
+            check_deadline(deadline, "adjugate recursion")
     if times_k(vectors[-1]) != [d[0] * gi for gi in g]:
         raise ArithmeticError("characteristic polynomial failed its check K u0 = d0 g")
     vectors.reverse()  # column j holds the coefficient of sigma**j
@@ -544,7 +361,7 @@ class NetworkFunctions:
     needs a few unknowns of a large circuit pays for those few only.
     """
 
-    def __init__(self, ss: _StateSpace, d: list, umat: Any, dom: Any, size: int, deadline: float | None) -> None:
+    def __init__(self, ss: StateSpace, d: list, umat: Any, dom: Any, size: int, deadline: float | None) -> None:
         self._ss, self._d, self._umat, self._dom = ss, d, umat, dom
         self._deadline = deadline
         self.size = size
@@ -590,7 +407,7 @@ def _prepare(G: Any, C: Any, b: Any, time_limit: float | None, use_flint: bool) 
     from sympy.polys.matrices import DomainMatrix
 
     deadline = None if time_limit is None else time.monotonic() + float(time_limit)
-    _check_deadline(deadline, "start")
+    check_deadline(deadline, "start")
     dom, n, Gd, Cd, bd = _domain_entries(G, C, b)
     if use_flint and dom.is_QQ:
         try:
@@ -607,11 +424,11 @@ def _prepare(G: Any, C: Any, b: Any, time_limit: float | None, use_flint: bool) 
         # dense only when sympy keeps it in flint; otherwise sparse pure Python
         if all(getattr(M.rep, "is_DFM", False) for M in dense):
             Gm, Cm, bm = dense
-    _check_deadline(deadline, "conversion")
+    check_deadline(deadline, "conversion")
 
-    ss = _reduce_pencil(Gm, Cm, bm, range(n), deadline)
+    ss = reduce_pencil(Gm, Cm, bm, range(n), deadline)
     d = _det_shifted(ss.K, use_flint)
-    _check_deadline(deadline, "characteristic polynomial")
+    check_deadline(deadline, "characteristic polynomial")
     umat = _adjugate_columns(ss, d, deadline) if ss.K.shape[0] else None
     return NetworkFunctions(ss, d, umat, dom, n, deadline)
 
@@ -641,7 +458,7 @@ def _solve(
     for i, k in enumerate(sel):
         results.append(prepared.function(k))
         if i % 16 == 15:
-            _check_deadline(prepared._deadline, "reduction")
+            check_deadline(prepared._deadline, "reduction")
     return tuple(results), prepared.route
 
 
