@@ -298,6 +298,61 @@ def closed_form_at(wave: Any, times: Any, tolerance: float) -> Any:
     return values
 
 
+@dataclass(frozen=True)
+class _Waveforms:
+    """The closed-form responses of the steps' signals against the numerical ones.
+
+    ``differences`` are (signal, largest difference over its peak); ``compared`` is
+    the most samples compared for one signal; ``transient`` the closed-form
+    solution (None when it could not be had, which ``notes`` then says).
+    """
+
+    differences: tuple[tuple[str, float], ...]
+    problems: tuple[str, ...]
+    notes: tuple[str, ...]
+    transient: Any
+    compared: int
+
+
+def _waveform_comparison(sim: Any, steps: Any, exact: ExactSolutions, tolerance: float) -> _Waveforms:
+    """Compare, at the samples of :func:`comparison_samples`, every voltage and current the steps name."""
+    import numpy as np
+
+    from handcheck.solve.timequantities import waveform_of
+
+    waveforms: list[tuple[str, float]] = []
+    problems: list[str] = []
+    transient = None
+    compared = 0
+    try:
+        transient = exact.transient
+        for q in _signals(steps):
+            try:
+                wave, _ = waveform_of(transient, q)
+                numeric = _numeric(sim, q)
+            except (HandcheckError, KeyError):
+                continue
+            picked = comparison_samples(sim, [numeric])
+            if wave.horizon is not None:
+                picked = picked[sim.times[picked] < float(wave.horizon)]
+            compared = max(compared, int(picked.size))
+            closed = closed_form_at(wave, np.asarray(sim.times)[picked], tolerance)
+            peak = max(float(np.max(np.abs(closed), initial=0.0)), float(np.max(np.abs(numeric))), 1e-300)
+            difference = float(np.max(np.abs(closed - numeric[picked]), initial=0.0)) / peak
+            waveforms.append((q.text, difference))
+            if difference > tolerance:
+                problems.append(
+                    f"the closed-form and numerical responses of {q.text} differ by {difference:.2g} of its peak: "
+                    "an error of handcheck, please report it"
+                )
+    except TimeLimitError:
+        raise
+    except HandcheckError as exc:
+        note = f"no closed-form comparison: {exc.message}"
+        return _Waveforms(tuple(waveforms), tuple(problems), (note,), transient, compared)
+    return _Waveforms(tuple(waveforms), tuple(problems), (), transient, compared)
+
+
 def gather_evidence(
     circuit: Circuit,
     steps: Any = (),
@@ -329,7 +384,6 @@ def gather_evidence(
     Evidence
         The numerical solution, its phasor fit, and the comparisons.
     """
-    import numpy as np
 
     from handcheck.simulate import kcl_residual, settling, simulate
 
@@ -353,36 +407,10 @@ def gather_evidence(
             f"the fitted phasors differ from the exact ones by {phasor_worst:.2g} of the drive: "
             "an error of handcheck, please report it"
         )
-    waveforms: list[tuple[str, float]] = []
-    transient = None
-    compared = 0
-    try:
-        from handcheck.solve.timequantities import waveform_of
-
-        transient = exact.transient
-        for q in _signals(steps):
-            try:
-                wave, _ = waveform_of(transient, q)
-                numeric = _numeric(sim, q)
-            except (HandcheckError, KeyError):
-                continue
-            picked = comparison_samples(sim, [numeric])
-            if wave.horizon is not None:
-                picked = picked[sim.times[picked] < float(wave.horizon)]
-            compared = max(compared, int(picked.size))
-            closed = closed_form_at(wave, np.asarray(sim.times)[picked], tolerance)
-            peak = max(float(np.max(np.abs(closed), initial=0.0)), float(np.max(np.abs(numeric))), 1e-300)
-            difference = float(np.max(np.abs(closed - numeric[picked]), initial=0.0)) / peak
-            waveforms.append((q.text, difference))
-            if difference > tolerance:
-                problems.append(
-                    f"the closed-form and numerical responses of {q.text} differ by {difference:.2g} of its peak: "
-                    "an error of handcheck, please report it"
-                )
-    except TimeLimitError:
-        raise
-    except HandcheckError as exc:
-        notes.append(f"no closed-form comparison: {exc.message}")
+    found = _waveform_comparison(sim, steps, exact, tolerance)
+    problems += found.problems
+    notes += found.notes
+    waveforms, transient, compared = found.differences, found.transient, found.compared
     return Evidence(
         rules=sim.rules,
         step=float(sim.step),
