@@ -129,3 +129,26 @@ R1 = {{ resistor = "10 ohm", nodes = ["a", "b"] }}
     assert "the voltage across R1 reaches 60 V rms" in text
     exactly = build(handcheck.loads(sheet("20")))
     assert cautions(exactly, solve(exactly)) == ()
+
+
+@pytest.mark.parametrize(
+    ("degree", "q", "seed"), [(0, sympy.Integer(100), 0), (7, sympy.Rational(314, 3), 1), (40, 120, 2)]
+)
+def test_polynomial_at_a_multiple_of_j_pi_equals_mpmath(degree: int, q: sympy.Rational, seed: int) -> None:
+    # reference library: mpmath.polyval at 80 digits at s = j*q*pi; and the tree is the
+    # one multiplying every power of s out gives (sympy structural equality)
+    import random
+
+    from handcheck.solve.phasor import _at_pi_multiple
+
+    rnd = random.Random(seed)
+    coeffs = [sympy.Rational(rnd.randint(-99, 99), rnd.randint(1, 9)) for _ in range(degree + 1)]
+    q = sympy.Rational(q)
+    got = _at_pi_multiple(coeffs, q)
+    s = J * q * pi
+    assert got == sympy.Add(*[c * s**i for i, c in enumerate(coeffs) if c != 0])
+    with mpmath.workdps(80):
+        point = mpmath.mpc(0, mpmath.mpf(q.p) / q.q * mpmath.pi)
+        want = mpmath.polyval([mpmath.mpf(c.p) / c.q for c in reversed(coeffs)], point)
+        value = mpmath.mpc(sympy.re(got).evalf(80), sympy.im(got).evalf(80))
+        assert abs(value - want) <= mpmath.mpf(10) ** -60 * max(abs(want), 1)
