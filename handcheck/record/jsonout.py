@@ -41,8 +41,11 @@ def _step(step: StepFinding) -> dict[str, Any]:
 def report_dict(report: Report, version: str, audit: tuple[Any, ...] = ()) -> dict[str, Any]:
     """The report as check output format 1 (plus extension keys); ``audit`` holds the
     formula audit's findings (an audit formula that differs makes ``ok`` false)."""
-    from handcheck.record.audit import audit_dict
+    audited: list[dict[str, Any]] = []
+    if audit:  # the audit's modules are loaded only for a worksheet that has one
+        from handcheck.record.audit import audit_dict
 
+        audited = [audit_dict(finding) for finding in audit]
     return {
         "handcheck": version,
         "worksheet": report.path,
@@ -50,7 +53,7 @@ def report_dict(report: Report, version: str, audit: tuple[Any, ...] = ()) -> di
         "ok": report.ok and all(finding.ok for finding in audit),
         "first_divergence": report.first_divergence,
         "steps": [_step(step) for step in report.steps],
-        "audit": [audit_dict(finding) for finding in audit],
+        "audit": audited,
         "title": report.title,
         "analysis": report.analysis,
         "cautions": list(report.cautions),

@@ -96,8 +96,6 @@ def render(
 ) -> str:
     """The whole report as text for a terminal (with the numerical evidence and the
     formula audit, if given); notes wrapped to ``width`` (default :func:`terminal_width`)."""
-    from handcheck.record.audit import audit_lines
-
     columns = terminal_width() if width is None else width
 
     def _wrap(text: str, indent: int) -> list[str]:
@@ -133,7 +131,10 @@ def render(
 
         lines.append("")
         lines.extend(describe(evidence))
-    lines.extend(audit_lines(audit))
+    if audit:  # the audit's modules are loaded only for a worksheet that has one
+        from handcheck.record.audit import audit_lines
+
+        lines.extend(audit_lines(audit))
     for note in report.notes:
         lines.append("")
         lines.extend(_wrap("NOTE: " + note, 0))
