@@ -258,3 +258,27 @@ def test_an_impedance_is_plotted_in_ohm_not_as_a_gain() -> None:
     import matplotlib.pyplot as plt
 
     plt.close(figure)
+
+
+def test_a_ratio_of_a_voltage_to_a_current_is_drawn_as_an_impedance() -> None:
+    from scipy.signal import freqs
+
+    # v(a)/i(Rs): the current through Rs all flows into the tank, so the ratio is the
+    # tank's own Z(s) = (s L1 + R1) / (s^2 L1 C1 + s R1 C1 + 1), in ohm
+    text = TANK.split("[[step]]", maxsplit=1)[0] + (
+        '[[step]]\nname = "Zt"\nquantity = "transfer(voltage(a), current(Rs))"\nclaim = "10.5 ohm /_ 34 deg"\n'
+    )
+    report, curves = _curves(text)
+    assert len(curves) == 1 and curves[0].unit == "ohm"
+    figure = bode_figure(report, curves)
+    magnitude = figure.axes[0]
+    assert magnitude.get_ylabel() == "abs(Z) [ohm]"
+    assert magnitude.get_title() == "Z = voltage(a) / current(Rs) [ohm]"
+    exact = next(line for line in _lines(magnitude) if line.get_label() == "exact")
+    hz = np.asarray(exact.get_xdata())
+    _, reference = freqs([1e-3, 10.0], [1e-9, 1e-5, 1.0], worN=2 * np.pi * hz)
+    assert_allclose(exact.get_ydata(), np.abs(reference), rtol=1e-9)
+    assert _has_point(magnitude, 1000.0, 10.5)
+    import matplotlib.pyplot as plt
+
+    plt.close(figure)

@@ -200,6 +200,8 @@ def _size(values: Any) -> Any:
 #: What the magnitude axis shows, by the curve's unit: a ratio in dB, an impedance or
 #: admittance as its size in ohm or S.
 _MAGNITUDE = {"": "magnitude [dB]", "ohm": "abs(Z) [ohm]", "S": "abs(Y) [S]"}
+#: How the title names a curve of each unit.
+_NAMES = {"": "H", "ohm": "Z", "S": "Y"}
 
 
 def _near_branch(angle_deg: float, reference_deg: float) -> float:
@@ -293,7 +295,9 @@ def bode_figure(report: Report, curves: tuple[Curve, ...]) -> Any:
     for column, curve in enumerate(curves):
         magnitude, phase = axes[0, column], axes[1, column]
         _draw((magnitude, phase), curve, marks(report, curve))
-        magnitude.set_title(visible(f"{curve.text} [{curve.unit}]" if curve.unit else f"H = {curve.text}"), fontsize=9)
+        name = _NAMES.get(curve.unit, "H")
+        title = curve.text if curve.text.startswith(("impedance(", "admittance(")) else f"{name} = {curve.text}"
+        magnitude.set_title(visible(f"{title} [{curve.unit}]" if curve.unit else title), fontsize=9)
         magnitude.set_ylabel(_MAGNITUDE.get(curve.unit, f"abs [{curve.unit}]"))
         if curve.unit:
             _log_size_axis(magnitude)

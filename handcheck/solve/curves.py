@@ -24,6 +24,7 @@ from handcheck.solve.frequency import network_function
 from handcheck.solve.network import laplace_symbol
 from handcheck.solve.phasor import Solution
 from handcheck.solve.quantities import Quantity, evaluate_quantity, parse_quantity
+from handcheck.worksheet.units import dim_of
 
 __all__ = ["MAX_CURVES", "Curve", "Reading", "named_curves", "names_function"]
 
@@ -128,12 +129,14 @@ def _part_of_its_own(h: Quantity, solution: Solution) -> bool:
 
 
 def _solved(solution: Solution, h: Quantity) -> tuple[str, sympy.Expr, str]:
-    """(how the plot names H, H(s) exactly, H's unit)."""
+    """(how the plot names H, H(s) exactly, H's unit: a ratio of a voltage to a
+    current is an impedance in ohm whether it is written as one or as a ratio)."""
     if h.name in _IMMITTANCES:
         response = network_function(solution, h, evaluate_quantity)
         return h.text, response.expr, _IMMITTANCES[h.name]
     value = evaluate_quantity(solution, Quantity("network_function", h.args, h.text))
-    return f"{h.args[0]} / {h.args[1]}", value.expr, ""
+    unit = next((u for u in _IMMITTANCES.values() if value.dim == dim_of(u)), "")
+    return f"{h.args[0]} / {h.args[1]}", value.expr, unit
 
 
 def _coefficients(expr: sympy.Expr) -> tuple[tuple[sympy.Expr, ...], tuple[sympy.Expr, ...]]:
