@@ -402,3 +402,36 @@ def test_browser_runs_nothing_from_a_worksheet(tmp_path: Path, make_worksheet) -
     assert "<script" not in done.stdout and "<img" not in done.stdout
     assert '&lt;script&gt;document.body.setAttribute("data-pwned","1")&lt;/script&gt;' in done.stdout
     assert _console_messages(done.stderr) == []
+
+
+_HEADINGS = (
+    "Summary",
+    "The circuit",
+    "The steps",
+    "Formula audit",
+    "Numerical evidence",
+    "Plots",
+    "Cautions and notes",
+    "The worksheet, verbatim",
+    "Versions",
+)
+
+
+@needs_chromium
+@pytest.mark.parametrize("sheet", [w.name for w in WORKSHEETS])
+def test_printed_pages_keep_each_heading_with_what_it_introduces(bundled: dict, sheet: str, tmp_path: Path) -> None:
+    pdftotext = shutil.which("pdftotext")
+    if pdftotext is None:
+        pytest.skip("pdftotext is not installed (apt-get install poppler-utils)")
+    pdf = tmp_path / "record.pdf"
+    done = _chromium(tmp_path, bundled[sheet][".html"].as_uri(), f"--print-to-pdf={pdf}", "--no-pdf-header-footer")
+    assert done.returncode == 0 and pdf.read_bytes()[:5] == b"%PDF-"
+    text = subprocess.run([pdftotext, "-layout", str(pdf), "-"], capture_output=True, text=True, check=True).stdout
+    pages = [[line.strip() for line in page.splitlines() if line.strip()] for page in text.split("\f")]
+    for number, lines in enumerate(pages, start=1):
+        # a page never ends with a section's heading
+        assert not lines or lines[-1] not in _HEADINGS, f"page {number} ends with the heading {lines[-1]!r}"
+    circuit = next(lines for lines in pages if "The circuit" in lines)
+    assert any(line.startswith("Part") and "Engineering" in line for line in circuit), (
+        "parts table not with its heading"
+    )
