@@ -291,8 +291,9 @@ def _hessenberg_charpoly(entries: dict, r: int) -> list | None:
     return [*coeffs, *([flint.fmpq(0)] * (r + 1 - len(coeffs)))]
 
 
-def _adjugate_columns(ss: StateSpace, d: list, deadline: float | None) -> DomainMatrix:
-    """Coefficient vectors of ``u(sigma) = adj(sigma I + K) g`` as columns.
+def _adjugate_columns(ss: StateSpace, d: list, deadline: float | None) -> Any:
+    """Coefficient vectors of ``u(sigma) = adj(sigma I + K) g`` as columns (a
+    DomainMatrix, or :class:`_IntegerColumns` on the python-flint path).
 
     Notes
     -----
@@ -321,35 +322,64 @@ def _adjugate_columns(ss: StateSpace, d: list, deadline: float | None) -> Domain
 
 
 def _adjugate_flint(Kf: Any, gf: Any, d: list, deadline: float | None) -> Any:
-    """:func:`_adjugate_columns` on python-flint's ``fmpq_mat`` directly: the same
-    recursion and certificate, the columns written into one ``fmpq_mat`` (joining
-    them as sympy matrices cost more than the recursion itself)."""
-    from operator import mul
+    """:func:`_adjugate_columns` on python-flint's ``fmpq_mat``, in integers.
+
+    With ``K = Kz / delta`` and ``g = gz / gamma`` (common denominators) the
+    coefficients of ``det(sigma I + K)`` are ``d_j = E_j / delta^(r-j)`` with
+    integers ``E_j`` (those of ``det(sigma I + Kz)``), and ``u_j = w_j / (delta^(r-1-j)
+    gamma)`` where ``w_{r-1} = gz``, ``w_{j-1} = E_j gz - Kz w_j``: the same recursion
+    in integers, multiplying only K's nonzero entries, with one division per entry
+    at the end instead of a reduced fraction after every operation. The
+    certificate ``Kz w_0 = E_0 gz`` is checked as in :func:`_adjugate_columns`.
+    """
+    import math
 
     import flint
 
     r = Kf.nrows()
     entries = Kf.entries()
-    zero = flint.fmpq(0)
+    g = [gf[i, 0] for i in range(r)]
+    delta = math.lcm(*(int(e.q) for e in entries if e != 0), 1)
+    gamma = math.lcm(*(int(e.q) for e in g if e != 0), 1)
     rows = []
     for i in range(r):
         cols = [c for c in range(r) if entries[i * r + c] != 0]
-        rows.append((cols, [entries[i * r + c] for c in cols]))
-    g = [gf[i, 0] for i in range(r)]
+        rows.append([(c, int(entries[i * r + c] * delta)) for c in cols])
+    gz = [int(e * gamma) for e in g]
+    E = [d[j] * flint.fmpq(delta) ** (r - j) for j in range(r + 1)]
+    if any(e.q != 1 for e in E):  # cannot happen for a characteristic polynomial of K
+        raise ArithmeticError("characteristic polynomial is not that of K (a coefficient is no integer)")
+    Ez = [int(e.p) for e in E]
+    nonzero = [i for i in range(r) if gz[i]]
 
-    def times_k(u: list) -> list:
-        return [sum(map(mul, vals, [u[c] for c in cols]), zero) for cols, vals in rows]
+    def times_k(w: list[int]) -> list[int]:
+        return [sum(v * w[c] for c, v in row) for row in rows]
 
-    vectors = [g]
+    vectors = [gz]
     for j in range(r - 1, 0, -1):
-        dj = d[j]
-        vectors.append([dj * gi - ku if gi else -ku for gi, ku in zip(g, times_k(vectors[-1]), strict=True)])
+        nxt = [-x for x in times_k(vectors[-1])]
+        for i in nonzero:
+            nxt[i] += Ez[j] * gz[i]
+        vectors.append(nxt)
         if j % 8 == 0:
             check_deadline(deadline, "adjugate recursion")
-    if times_k(vectors[-1]) != [d[0] * gi for gi in g]:
+    if times_k(vectors[-1]) != [Ez[0] * x for x in gz]:
         raise ArithmeticError("characteristic polynomial failed its check K u0 = d0 g")
-    vectors.reverse()  # column j holds the coefficient of sigma**j
-    return flint.fmpq_mat(r, r, [vectors[j][i] for i in range(r) for j in range(r)])
+    vectors.reverse()  # vectors[j] holds w_j, the coefficient of sigma**j times delta^(r-1-j) gamma
+    scale = [flint.fmpz(delta) ** (r - 1 - j) * gamma for j in range(r)]
+    return _IntegerColumns(flint.fmpz_mat(r, r, [vectors[j][i] for i in range(r) for j in range(r)]), scale)
+
+
+class _IntegerColumns:
+    """The adjugate vectors as integers: column j of ``matrix`` divided by ``scale[j]``
+    (made into fractions only for the unknowns asked for)."""
+
+    def __init__(self, matrix: Any, scale: list) -> None:
+        self.matrix, self.scale = matrix, scale
+
+    def times(self, row: Any) -> list:
+        """``row * U`` for a 1 x r ``fmpq_mat``, as a list of fmpq."""
+        return [p / sc for p, sc in zip((row * self.matrix).entries(), self.scale, strict=True)]
 
 
 class NetworkFunctions:
@@ -382,8 +412,8 @@ class NetworkFunctions:
             row = ss.w_row(k)
             if isinstance(self._umat, type(row)):
                 products = (row * self._umat).to_list()[0]
-            else:  # an fmpq_mat from _adjugate_flint
-                products = (row.to_dfm().rep * self._umat).entries()
+            else:  # integer columns from _adjugate_flint
+                products = self._umat.times(row.to_dfm().rep)
             for j, w in enumerate(products):
                 low[j] = low[j] + w
         s = laplace_symbol()
