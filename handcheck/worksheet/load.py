@@ -222,6 +222,41 @@ class _Reader:
 
     # -- [worksheet] -----------------------------------------------------------
     def worksheet(self) -> Worksheet:
+        head = self.worksheet_table()
+        title = self.string(head, "title", "worksheet", required=True)
+        phasors = self.string(head, "phasors", "worksheet") or "peak"
+        if phasors not in ("peak", "rms"):
+            raise self.fail(f'phasors = "{phasors}" must be "peak" or "rms"', self.where.key("worksheet", "phasors"))
+        lines = tuple((key, line) for (table, key), line in self.where.keys.items() if table == "worksheet")
+        transient = self.transient_table()
+        parts = self.parts()
+        audit = read_audit(
+            self.data,
+            self.path,
+            lambda table, key: self.where.part(key) if table == "parts" else self.where.key(table, key),
+            {part.id: part.kind for part in parts},
+        )
+        return Worksheet(
+            path=self.path,
+            text=self.text,
+            sha256=self.sha256,
+            title=title or "",
+            reference=self.string(head, "reference", "worksheet"),
+            author=self.string(head, "author", "worksheet"),
+            checker=self.string(head, "checker", "worksheet"),
+            phasors=phasors,  # type: ignore[arg-type]
+            frequency=self.string(head, "frequency", "worksheet"),
+            omega=self.analysis_omega(head),
+            tolerance=self.string(head, "tolerance", "worksheet") or "digits",
+            parts=parts,
+            steps=self.steps(),
+            audit=audit,
+            transient=tuple((str(k), str(v)) for k, v in transient.items()),
+            lines=lines,
+        )
+
+    def worksheet_table(self) -> dict:
+        """The [worksheet] table, once the file's tables and the table's keys and format are known."""
         tables = ["worksheet", "parts", "step", "transient", "audit", "formula"]
         for key in self.data:
             if key not in tables:
@@ -251,11 +286,10 @@ class _Reader:
                 f"format = {head['format']!r} is not a format this version reads; write format = 1",
                 self.where.key("worksheet", "format"),
             )
-        title = self.string(head, "title", "worksheet", required=True)
-        phasors = self.string(head, "phasors", "worksheet") or "peak"
-        if phasors not in ("peak", "rms"):
-            raise self.fail(f'phasors = "{phasors}" must be "peak" or "rms"', self.where.key("worksheet", "phasors"))
-        lines = tuple((key, line) for (table, key), line in self.where.keys.items() if table == "worksheet")
+        return head
+
+    def transient_table(self) -> dict:
+        """The [transient] table (empty if none), its keys known and its values text."""
         transient = self.data.get("transient", {})
         if not isinstance(transient, dict):
             raise self.fail("[transient] must be a table", self.where.tables.get("transient"))
@@ -277,31 +311,7 @@ class _Reader:
                 f'span = "{transient["span"]}" in [transient] must be a positive time, like "20 ms"',
                 self.where.key("transient", "span"),
             )
-        parts = self.parts()
-        audit = read_audit(
-            self.data,
-            self.path,
-            lambda table, key: self.where.part(key) if table == "parts" else self.where.key(table, key),
-            {part.id: part.kind for part in parts},
-        )
-        return Worksheet(
-            path=self.path,
-            text=self.text,
-            sha256=self.sha256,
-            title=title or "",
-            reference=self.string(head, "reference", "worksheet"),
-            author=self.string(head, "author", "worksheet"),
-            checker=self.string(head, "checker", "worksheet"),
-            phasors=phasors,  # type: ignore[arg-type]
-            frequency=self.string(head, "frequency", "worksheet"),
-            omega=self.analysis_omega(head),
-            tolerance=self.string(head, "tolerance", "worksheet") or "digits",
-            parts=parts,
-            steps=self.steps(),
-            audit=audit,
-            transient=tuple((str(k), str(v)) for k, v in transient.items()),
-            lines=lines,
-        )
+        return transient
 
     def analysis_omega(self, head: dict[str, Any]) -> Any:
         """The ``[worksheet] frequency`` in rad/s, exactly, or None."""
