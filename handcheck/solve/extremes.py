@@ -106,6 +106,51 @@ def refine_critical(seg: Segment, bracket: tuple[Any, Any]) -> Any:
     return illinois_root(fp, a, b, fa, fb)
 
 
+def _window(f: TimeFunction, segments: Any, t_end: Any, scale: float) -> tuple[Any, Any]:
+    """The end of the peak search, and the steady crest beyond it (None with a ``t_end`` or a horizon).
+
+    Called with mpmath's working precision set by :func:`peak`.
+    """
+    import mpmath
+
+    asymptote = None
+    if t_end is not None:
+        end = f.check_time(t_end)
+    elif f.horizon is not None:
+        end = to_mpf_time(f.horizon)
+    else:
+        why = f.growth()
+        if why is not None:
+            raise CircuitError(f"{f.name} grows without bound ({why}): it has no peak")
+        asymptote = steady_crest(f)
+        last = segments[-1]
+        end = last.start + mpmath.mpf(tail_length(f, last, _TAIL * scale))
+        waves = f.persistent_frequencies()
+        if waves:  # at least one period of the slowest persistent sinusoid beyond the transient
+            end = max(end, last.start + mpmath.mpf(tail_length(f, last, 1e-3 * scale)) + 2 * mpmath.pi / min(waves))
+    return end, asymptote
+
+
+def _candidates(segments: Any, end: Any, scale: float) -> list[tuple[float, Any, Any, Segment | None]]:
+    """(|f| as a float, time, value or None, segment) at each delay, the window's end and each critical bracket."""
+    import mpmath
+
+    candidates: list[tuple[float, Any, Any, Segment | None]] = []  # (|f| float, time, value-or-None, seg)
+    for seg in segments:
+        if seg.start > end:
+            break
+        stop = end if seg.end is None else min(seg.end, end)
+        length = stop - seg.start
+        right = group_value(seg.groups, mpmath.mpf(0)).real
+        candidates.append((float(abs(right)), seg.start, right, None))
+        if length > 0:
+            left = group_value(seg.groups, length).real
+            candidates.append((float(abs(left)), stop, left, None))
+        for bracket, fval in critical_brackets(seg, length, scale):
+            candidates.append((abs(fval), (seg.start, bracket), None, seg))
+    return candidates
+
+
 def peak(f: TimeFunction, t_end: Any = None) -> tuple[Any, Any]:
     """The largest absolute value for ``t > 0``, and when it occurs.
 
@@ -139,7 +184,6 @@ def peak(f: TimeFunction, t_end: Any = None) -> tuple[Any, Any]:
     ``1e-26`` of the waveform's size; beyond it only the steady part remains,
     whose crest (constant plus one sinusoid: ``|dc| + amplitude``) is compared.
     """
-    # Long by design: the candidate search and the tie rule share one window's state.
     import mpmath
 
     for imp in f.impulses:
@@ -151,34 +195,8 @@ def peak(f: TimeFunction, t_end: Any = None) -> tuple[Any, Any]:
     with mpmath.workdps(WORK_DPS):
         segments = f.segments
         scale = float(f.size_scale(segments[-1]))
-        asymptote = None
-        if t_end is not None:
-            end = f.check_time(t_end)
-        elif f.horizon is not None:
-            end = to_mpf_time(f.horizon)
-        else:
-            why = f.growth()
-            if why is not None:
-                raise CircuitError(f"{f.name} grows without bound ({why}): it has no peak")
-            asymptote = steady_crest(f)
-            last = segments[-1]
-            end = last.start + mpmath.mpf(tail_length(f, last, _TAIL * scale))
-            waves = f.persistent_frequencies()
-            if waves:  # at least one period of the slowest persistent sinusoid beyond the transient
-                end = max(end, last.start + mpmath.mpf(tail_length(f, last, 1e-3 * scale)) + 2 * mpmath.pi / min(waves))
-        candidates: list[tuple[float, Any, Any, Segment | None]] = []  # (|f| float, time, value-or-None, seg)
-        for seg in segments:
-            if seg.start > end:
-                break
-            stop = end if seg.end is None else min(seg.end, end)
-            length = stop - seg.start
-            right = group_value(seg.groups, mpmath.mpf(0)).real
-            candidates.append((float(abs(right)), seg.start, right, None))
-            if length > 0:
-                left = group_value(seg.groups, length).real
-                candidates.append((float(abs(left)), stop, left, None))
-            for bracket, fval in critical_brackets(seg, length, scale):
-                candidates.append((abs(fval), (seg.start, bracket), None, seg))
+        end, asymptote = _window(f, segments, t_end, scale)
+        candidates = _candidates(segments, end, scale)
         best_value, best_time = None, None
         if candidates:
             top = max(c[0] for c in candidates)
