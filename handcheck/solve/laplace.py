@@ -226,17 +226,11 @@ class _Expansion:
     initial: Any  # lim s*F(s) for the proper part, exact
 
 
-def _expand(shape: Shape, book: PoleBook, deadline: float | None) -> _Expansion:
-    # Long by design: the residue formula for each kind of pole, side by side.
-    import mpmath
+def _full_denominator(shape: Shape) -> list[Any]:
+    """The coefficients of ``den * (s - q)**m`` (exact, highest power first)."""
     import sympy
 
-    num = list(shape.num.all_coeffs())
-    den = list(shape.den.all_coeffs())
-    if shape.num.is_zero:
-        return _Expansion((), (), sympy.Integer(0))
-    # full denominator (exact): den * (s - q)**m
-    full = den
+    full = list(shape.den.all_coeffs())
     if shape.extra is not None:
         q, m = shape.extra
         for _ in range(m):
@@ -246,7 +240,11 @@ def _expand(shape: Shape, book: PoleBook, deadline: float | None) -> _Expansion:
                 nxt[i + 1] -= c * q
             full = nxt
         full = [tidy(c) for c in full]
-    # polynomial part by long division (full is monic)
+    return full
+
+
+def _polynomial_part(num: list[Any], full: list[Any]) -> tuple[list[tuple[int, Any]], list[Any]]:
+    """Long division by the monic ``full``: the impulses (order, weight) and the remainder."""
     impulses: list[tuple[int, Any]] = []
     rem = list(num)
     deg_full = len(full) - 1
@@ -263,10 +261,11 @@ def _expand(shape: Shape, book: PoleBook, deadline: float | None) -> _Expansion:
                 impulses.append((order, c))
     while rem and rem[0] == 0:
         rem = rem[1:]
-    initial = rem[0] if len(rem) == deg_full and deg_full > 0 else sympy.Integer(0)
-    if deg_full == 0:
-        return _Expansion((), tuple(impulses), sympy.Integer(0))
+    return impulses, rem
 
+
+def _poles_of(shape: Shape, book: PoleBook, deadline: float | None) -> list[tuple[tuple[str, int, int], int]]:
+    """Every pole of the shape by its key in the book, with its multiplicity."""
     split = book.split(shape.den, deadline)
     poles: list[tuple[tuple[str, int, int], int]] = []
     for i, mult in split:
@@ -275,40 +274,66 @@ def _expand(shape: Shape, book: PoleBook, deadline: float | None) -> _Expansion:
     if shape.extra is not None:
         k = book.extra_index(shape.extra[0])
         poles.append((("q", k, 0), shape.extra[1]))
+    return poles
 
+
+def _laurent(
+    shape: Shape, book: PoleBook, poles: list[tuple[tuple[str, int, int], int]], key: tuple[str, int, int], m: int
+) -> list[Any]:
+    """The first ``m`` Laurent coefficients at one pole: exactly for an exact pole, else in mpmath."""
+    import mpmath
+
+    num = list(shape.num.all_coeffs())
+    den = list(shape.den.all_coeffs())
+    pole = book.pole(key)
+    if pole.exact:
+        p = pole.value
+        nt = _taylor(num, p, m, True)
+        if key[0] == "q":  # the extra pole: the whole of den is the rest
+            dt = _taylor(den, p, m, True)
+        else:
+            dt = _taylor(den, p, 2 * m, True)[m:]
+            if shape.extra is not None:
+                q, mq = shape.extra
+                dt = _mul_series(dt, _power_series(tidy(p - q), mq, m), m, True)
+        return _div_series(nt, dt, m, True)
+    with mpmath.workdps(WORK_DPS):
+        p = pole.approx
+        num_n = [approx(c) for c in num]
+        nt = _taylor(num_n, p, m, False)
+        rest = [mpmath.mpc(1)]
+        for other_key, other_m in poles:
+            if other_key == key:
+                continue
+            r = book.pole(other_key).approx
+            lin = [p - r, mpmath.mpc(1)]
+            for _ in range(other_m):
+                rest = _mul_series(rest, lin, m, False)
+        return _div_series(nt, rest, m, False)
+
+
+def _expand(shape: Shape, book: PoleBook, deadline: float | None) -> _Expansion:
+    """The partial fractions of one shape: residue terms, impulses and the value at t = 0+."""
+    import sympy
+
+    num = list(shape.num.all_coeffs())
+    if shape.num.is_zero:
+        return _Expansion((), (), sympy.Integer(0))
+    full = _full_denominator(shape)
+    impulses, rem = _polynomial_part(num, full)
+    deg_full = len(full) - 1
+    initial = rem[0] if len(rem) == deg_full and deg_full > 0 else sympy.Integer(0)
+    if deg_full == 0:
+        return _Expansion((), tuple(impulses), sympy.Integer(0))
+    poles = _poles_of(shape, book, deadline)
     terms: list[tuple[tuple[str, int, int], int, Any]] = []
     for key, m in poles:
         _check(deadline)
-        pole = book.pole(key)
-        if pole.exact:
-            p = pole.value
-            nt = _taylor(num, p, m, True)
-            if key[0] == "q":  # the extra pole: the whole of den is the rest
-                dt = _taylor(den, p, m, True)
-            else:
-                dt = _taylor(den, p, 2 * m, True)[m:]
-                if shape.extra is not None:
-                    q, mq = shape.extra
-                    dt = _mul_series(dt, _power_series(tidy(p - q), mq, m), m, True)
-            coeffs = _div_series(nt, dt, m, True)
-        else:
-            with mpmath.workdps(WORK_DPS):
-                p = pole.approx
-                num_n = [approx(c) for c in num]
-                nt = _taylor(num_n, p, m, False)
-                q = [mpmath.mpc(1)]
-                for other_key, other_m in poles:
-                    if other_key == key:
-                        continue
-                    r = book.pole(other_key).approx
-                    lin = [p - r, mpmath.mpc(1)]
-                    for _ in range(other_m):
-                        q = _mul_series(q, lin, m, False)
-                coeffs = _div_series(nt, q, m, False)
-        for j, c in enumerate(coeffs):
+        exact = book.pole(key).exact
+        for j, c in enumerate(_laurent(shape, book, poles, key, m)):
             power = m - 1 - j
             coefficient = c / math.factorial(power) if power > 1 else c
-            if pole.exact:
+            if exact:
                 coefficient = compact(tidy(coefficient))
                 if coefficient == 0:
                     continue
