@@ -367,7 +367,40 @@ def inverse_laplace(
     -------
     TimeFunction
     """
-    # Long by design: exact and numerical accumulation of the same terms, side by side.
+    import sympy
+
+    acc = _accumulate(pieces, book, deadline)
+    terms = _terms(acc, book, deadline)
+    impulses = []
+    for (order, delay), parts in acc.impulses.items():
+        summed = _sum_exact([(p, approx(p)) for p in parts])
+        if summed is not None:
+            impulses.append(Impulse(summed[0], order, delay))
+    impulses.sort(key=lambda i: (i.delay, i.order))
+    init = tidy(acc.initial)
+    if not init.is_real:
+        init = sympy.expand_complex(init).as_real_imag()[0]
+    init = compact(init)
+    return TimeFunction(tuple(terms), tuple(impulses), init, horizon, name)
+
+
+@dataclass(frozen=True)
+class _Sums:
+    """The pieces' partial fractions gathered by (pole key, power, delay).
+
+    ``exact`` holds the exact parts with their values, ``numeric`` the sums of the
+    parts at numerically known poles, ``impulses`` the weights by (order, delay),
+    ``initial`` the value at t = 0+ of the undelayed pieces.
+    """
+
+    exact: dict[tuple[Any, int, Any], list[tuple[Any, Any]]]
+    numeric: dict[tuple[Any, int, Any], Any]
+    impulses: dict[tuple[int, Any], list[Any]]
+    initial: Any
+
+
+def _accumulate(pieces: Sequence[Piece], book: PoleBook, deadline: float | None) -> _Sums:
+    """Every piece expanded (each shape once) and its weighted terms added up."""
     import mpmath
     import sympy
 
@@ -403,9 +436,13 @@ def inverse_laplace(
         if piece.delay == 0:
             initial += piece.weight * exp.initial
         _check(deadline)
+    return _Sums(exact_acc, numeric_acc, impulse_acc, initial)
 
+
+def _terms(acc: _Sums, book: PoleBook, deadline: float | None) -> list[Term]:
+    """The exponential terms of the sums, zero sums left out, in a fixed order."""
     terms: list[Term] = []
-    for (key, power, delay), parts in exact_acc.items():
+    for (key, power, delay), parts in acc.exact.items():
         _check(deadline)
         summed = _sum_exact(parts)
         if summed is None:
@@ -413,21 +450,11 @@ def inverse_laplace(
         total, total_value = summed
         pole = book.pole(key)
         terms.append(Term(total, power, pole.value, delay, pole.real_sign, pole.imag_sign, (total_value, pole.approx)))
-    for (key, power, delay), total in numeric_acc.items():
+    for (key, power, delay), total in acc.numeric.items():
         pole = book.pole(key)
         terms.append(Term(total, power, pole.approx, delay, pole.real_sign, pole.imag_sign, (total, pole.approx)))
     terms.sort(key=lambda t: (t.delay, -t.real_sign, float(abs(t.numeric[2])), t.imag_sign, t.power))
-    impulses = []
-    for (order, delay), parts in impulse_acc.items():
-        summed = _sum_exact([(p, approx(p)) for p in parts])
-        if summed is not None:
-            impulses.append(Impulse(summed[0], order, delay))
-    impulses.sort(key=lambda i: (i.delay, i.order))
-    init = tidy(initial)
-    if not init.is_real:
-        init = sympy.expand_complex(init).as_real_imag()[0]
-    init = compact(init)
-    return TimeFunction(tuple(terms), tuple(impulses), init, horizon, name)
+    return terms
 
 
 def _sum_exact(parts: list[tuple[Any, Any]]) -> tuple[Any, Any] | None:
