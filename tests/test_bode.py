@@ -11,6 +11,7 @@ table 4.05-1, from memory).
 from __future__ import annotations
 
 import math
+import re
 from pathlib import Path
 
 import numpy as np
@@ -197,7 +198,7 @@ def test_check_plot_writes_the_bode_plot_and_the_record_carries_it(tmp_path: Pat
     assert (tmp_path / "lead-bode.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     main(["record", str(sheet), "-o", str(tmp_path / "lead.html"), "--no-evidence"])
     html = (tmp_path / "lead.html").read_text(encoding="utf-8")
-    assert "Frequency response of the exact network functions" in html
+    assert "Frequency response of the exact network function voltage(out) / voltage(in)" in html
     assert html.count("<svg") == 1
 
 
@@ -282,3 +283,29 @@ def test_a_ratio_of_a_voltage_to_a_current_is_drawn_as_an_impedance() -> None:
     import matplotlib.pyplot as plt
 
     plt.close(figure)
+
+
+def test_several_curves_stack_to_the_width_of_a_page_and_the_record_has_one_figure_each(tmp_path: Path) -> None:
+    from handcheck.cli import main
+
+    # the lead network's transfer function and its output impedance: two curves; the
+    # input impedance is identically 0 (the zeroed source shorts node in) and draws none
+    text = LEAD + (
+        '[[step]]\nname = "Zout"\nquantity = "impedance(out)"\nclaim = "1 kohm"\n'
+        '[[step]]\nname = "Zin"\nquantity = "impedance(in)"\nclaim = "1 ohm"\n'
+    )
+    report, curves = _curves(text)
+    assert [c.unit for c in curves] == ["", "ohm"]
+    figure = bode_figure(report, curves)
+    # A4 text width 210 mm less 2 x 14 mm margins = 7.17 in (common practice)
+    assert figure.get_size_inches()[0] <= 7.17
+    import matplotlib.pyplot as plt
+
+    plt.close(figure)
+    sheet = tmp_path / "lead.toml"
+    sheet.write_text(text.replace("1 kohm", "1.01 kohm"), encoding="utf-8")
+    main(["record", str(sheet), "-o", str(tmp_path / "lead.html"), "--no-evidence"])
+    html = (tmp_path / "lead.html").read_text(encoding="utf-8")
+    assert html.count("Frequency response of the exact network function") == 2
+    widths = [float(w) for w in re.findall(r'<svg [^>]*width="([0-9.]+)pt"', html)]
+    assert len(widths) == 2 and all(w <= 7.17 * 72 for w in widths)

@@ -33,6 +33,8 @@ __all__ = ["Mark", "bode_figure", "bode_path", "frequency_grid", "marks", "plot_
 
 #: Points of the frequency grid.
 POINTS = 800
+#: The figure's width in inches: fits the text width of an A4 or Letter page.
+WIDTH_IN = 7.0
 _EXACT = "#1b4f72"
 _CLAIMED = "#c2410c"
 _FREQUENCY = "#6b21a8"
@@ -283,17 +285,20 @@ def _log_size_axis(axis: Any) -> None:
 
 
 def bode_figure(report: Report, curves: tuple[Curve, ...]) -> Any:
-    """The Bode figure of ``curves`` (one column each: magnitude above, phase below)."""
+    """The Bode figure of ``curves``, one below the other (each: magnitude above, phase
+    below), :data:`WIDTH_IN` wide whatever their number."""
     import matplotlib
 
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
 
     figure, axes = plt.subplots(
-        2, len(curves), figsize=(6.4 * len(curves), 6.0), squeeze=False, sharex="col", layout="constrained"
+        2 * len(curves), 1, figsize=(WIDTH_IN, 0.4 + 5.2 * len(curves)), squeeze=False, layout="constrained"
     )
-    for column, curve in enumerate(curves):
-        magnitude, phase = axes[0, column], axes[1, column]
+    for index, curve in enumerate(curves):
+        magnitude, phase = axes[2 * index, 0], axes[2 * index + 1, 0]
+        phase.sharex(magnitude)
+        magnitude.tick_params(labelbottom=False)
         _draw((magnitude, phase), curve, marks(report, curve))
         name = _NAMES.get(curve.unit, "H")
         title = curve.text if curve.text.startswith(("impedance(", "admittance(")) else f"{name} = {curve.text}"
@@ -304,6 +309,8 @@ def bode_figure(report: Report, curves: tuple[Curve, ...]) -> Any:
         phase.set_ylabel("phase [deg]")
         phase.set_xlabel("frequency [Hz]")
         for axis in (magnitude, phase):
+            # room above and below the curve for the labels of claims that sit on its edge
+            axis.margins(y=0.12)
             axis.grid(True, which="both", alpha=0.25)
             handles, labels = axis.get_legend_handles_labels()
             unique = dict(zip(labels, handles, strict=True))

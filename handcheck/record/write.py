@@ -61,8 +61,11 @@ def _plots(inputs: Inputs) -> list[dict[str, str]]:
     if inputs.curves:
         from handcheck.record.bode import plot_bode
 
-        title = "Frequency response of the exact network functions (Bode plot; claimed values marked)"
-        plots.append({"title": title, "svg": _svg_of(lambda target: plot_bode(inputs.report, inputs.curves, target))})
+        # one figure a network function, so that each fits the width of a printed page
+        for curve in inputs.curves:
+            title = f"Frequency response of the exact network function {curve.text} (Bode plot; claimed values marked)"
+            svg = _svg_of(lambda target, one=curve: plot_bode(inputs.report, (one,), target))
+            plots.append({"title": title, "svg": svg})
     return plots
 
 

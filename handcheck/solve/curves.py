@@ -189,5 +189,7 @@ def named_curves(steps: Iterable[tuple[str, str | None]], solution: Solution) ->
             num, den = _coefficients(expr)
         except (HandcheckError, sympy.PolynomialError):
             continue
+        if all(c == 0 for c in num):
+            continue  # identically 0 (a node shorted to ground): no magnitude to draw
         curves.append(Curve(text, num, den, tuple(readings), unit))
     return tuple(curves)
