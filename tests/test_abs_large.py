@@ -35,3 +35,14 @@ def test_abs_of_a_large_number_matches_mpmath_and_stays_exact():
 
 def test_abs_of_a_small_number_keeps_its_closed_form():
     assert FUNCTIONS["abs"].rule(3 + 4 * sympy.I) == 5
+
+
+def test_the_size_checks_walk_a_chain_of_steps_as_a_graph():
+    # The exact value of step k holds step k-1 twice (Z || jX), so as a tree it doubles
+    # with every step (from memory: a tree of a graph with shared children unfolds
+    # exponentially); the checks visit each distinct subexpression once, linear in k.
+    from handcheck.worksheet.evaluate import distinct_nodes
+
+    sizes = {k: len(list(distinct_nodes(_chain(k)))) for k in (5, 10, 15)}
+    assert sizes[15] - sizes[10] == sizes[10] - sizes[5]  # a fixed number of new nodes per step
+    assert sizes[15] < 100
