@@ -210,3 +210,15 @@ def test_a_harmonic_gets_a_phasor_diagram_of_its_own_at_its_scale() -> None:
     fundamental = diagrams["phasors [V, peak] at 50 Hz"]
     assert len([line for line in fundamental.get_lines() if line.get_marker() == "o"]) == 1
     plt.close("all")
+
+
+def test_the_figure_fits_a_printed_page_at_full_width() -> None:
+    import matplotlib.pyplot as plt
+
+    result = run_text(BOTH, evidence=True)
+    figure = evidence_figure(result.report, result.evidence)
+    width, height = figure.get_size_inches()
+    # A4 text area with 14 mm and 15 mm margins is 182 x 267 mm, Letter's 188 x 249 mm;
+    # the print stylesheet caps a plot at 180 x 230 mm (common practice for margins)
+    assert width * 25.4 <= 180 and height * 25.4 <= 230
+    plt.close("all")

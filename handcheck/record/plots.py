@@ -112,8 +112,10 @@ def evidence_figure(report: Report, evidence: Evidence) -> Any:
     groups = _phasor_groups(rows)
     columns = max(1, min(PHASORS_PER_ROW, len(groups)))
     phasor_rows = math.ceil(len(groups) / columns)
-    heights = [1.0] * (2 * len(units)) + [1.45] * phasor_rows
-    figure = plt.figure(figsize=(WIDTH_IN, 0.7 + 2.0 * sum(heights)), layout="constrained")
+    # inches: waveforms, transients, a row of phasor diagrams (voltages and currents
+    # with one row of diagrams stay under the page height the print stylesheet allows)
+    heights = [1.55] * len(units) + [1.2] * len(units) + [2.5] * phasor_rows
+    figure = plt.figure(figsize=(WIDTH_IN, 0.6 + sum(heights)), layout="constrained")
     grid = figure.add_gridspec(len(heights), columns, height_ratios=heights)
     waves = {u: figure.add_subplot(grid[k, :]) for k, u in enumerate(units)}
     first = waves[units[0]]
