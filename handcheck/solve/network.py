@@ -65,6 +65,11 @@ degree 128):
   polynomial is ``flint.fmpq_mat.charpoly``): 0.20-0.26 s in two runs
   (all 194 unknowns: 0.34 s).  One exact elimination replaces 129, and the Schur complement of
   a ladder stays sparse, which keeps the characteristic polynomial cheap;
+  since then, when a breadth-first renumbering makes ``K`` upper Hessenberg of
+  small band, the characteristic polynomial comes from the Hessenberg
+  recurrence and the adjugate recursion runs on K's nonzero entries in
+  integers: at N = 128 (386 unknowns) 0.03 s against 0.84 s for
+  ``fmpq_mat.charpoly`` and 0.13 s against 0.43 s for the recursion;
 * the same algorithm on the general route (sympy's sparse pure-Python
   matrices and its Berkowitz characteristic polynomial; used for algebraic
   entries or without python-flint): 1.07-1.15 s;
