@@ -182,3 +182,20 @@ def test_an_angle_within_a_quarter_turn_is_judged_by_its_digits(angle, verdict):
     # "-4e1 deg" is read from its mantissa: -40 deg within 5 deg, which -45 deg is.
     report = handcheck.check_text(RC.replace("CLAIM", f"0.7071 V /_ {angle} deg"))
     assert step(report, "V").verdict == verdict
+
+
+@pytest.mark.parametrize(
+    ("angle", "verdict"),
+    [
+        ("-45 deg", "agrees"),
+        ("315 deg", "agrees"),  # the same phasor within one turn
+        ("-0.7854 rad", "agrees"),
+        ("-45 rad", "differs"),  # read to 0.5 rad, and -45 rad lies 0.23 rad from -pi/4 seven turns on
+        ("-405 deg", "differs"),  # beyond a full turn: taken as written
+    ],
+)
+def test_an_angle_beyond_a_full_turn_is_not_wrapped(angle, verdict):
+    # Phasor angles are defined modulo 2*pi (common practice); a written angle past a full
+    # turn is taken as written, since its digits cannot tell the turns apart.
+    report = handcheck.check_text(RC.replace("CLAIM", f"0.7071 V /_ {angle}"))
+    assert step(report, "V").verdict == verdict

@@ -92,6 +92,7 @@ class Claim:
     unit_factor: sympy.Expr
     angle_unit: str = "deg"
     items: tuple[Claim, ...] = ()  # the values of a list claim ("-500 + 866j, -1000 rad/s")
+    angle: float | None = None  # a polar claim's angle as written, in radians (not wrapped)
 
     @property
     def dim(self) -> Dim:
@@ -349,6 +350,8 @@ def _read_polar(text: str) -> Claim:
     factor, _ = unit_of(_unit_words(angle_unit))
     _in_range(text, angle_tree, factor)
     angle = evaluate(angle_tree, {}, angle_body).expr * factor
+    if not angle.is_extended_real:
+        raise ParseError("the angle of a polar claim is a real number, like -22.1 deg", text, None)
     angle_res, _ = _component_resolutions(angle_tree)
     if float(angle_res) * float(factor) > _WIDEST_ANGLE:
         raise ParseError(
@@ -366,6 +369,7 @@ def _read_polar(text: str) -> Claim:
         unit_text=magnitude.unit_text,
         unit_factor=magnitude.unit_factor,
         angle_unit="deg" if angle_unit in ("deg", "degree", "degrees", "°") else "rad",
+        angle=float(angle),
     )
 
 
@@ -418,6 +422,7 @@ def agrees(claim: Claim, reference: complex, tolerance: Tolerance, *, value: com
     claim's form and resolution (used to compare a recomputation with the truth).
     """
     target = compared(claim, reference)
+    written_angle = claim.angle if value is None else None
     if value is None:
         value = to_complex(claim.value.expr)
     elif claim.form == "real" and value.imag != 0 and abs(value.imag) > SLACK * abs(value):
@@ -434,6 +439,11 @@ def agrees(claim: Claim, reference: complex, tolerance: Tolerance, *, value: com
             return False
         if abs(target) <= res_a or abs(value) == 0:
             return True  # an angle means nothing for a value that rounds to zero
-        angle_error = abs(_wrap(mpmath.arg(target) - mpmath.arg(value)))
+        if written_angle is not None and abs(written_angle) > 2 * math.pi + res_b:
+            # more than a full turn: the digits cannot tell the turns apart, so the angle
+            # is taken as written, not wrapped (-45 rad is not -0.77 rad seven turns on)
+            angle_error = abs(written_angle - float(mpmath.arg(target)))
+        else:
+            angle_error = abs(_wrap(mpmath.arg(target) - mpmath.arg(value)))
         return bool(angle_error <= res_b + SLACK * math.pi)
     return abs(value.real - target.real) <= res_a + slack and abs(value.imag - target.imag) <= res_b + slack
