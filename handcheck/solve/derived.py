@@ -36,7 +36,7 @@ from handcheck.worksheet.evaluate import Value
 from handcheck.worksheet.sourcefunction import SourceFunction, SourceTerm
 from handcheck.worksheet.units import DIMENSIONLESS, dim_of
 
-__all__ = ["DERIVED", "POWER_NAMES", "evaluate_derived", "removed", "retuned"]
+__all__ = ["DERIVED", "POWER_NAMES", "evaluate_derived", "removed", "retuned", "spectrum"]
 
 #: Quantity names this module evaluates, and their display unit.
 DERIVED: dict[str, str] = {
@@ -181,7 +181,7 @@ def _energy(solution: Solution, ident: object, text: str, evaluate: Evaluate) ->
     return Value(part.value * mean_square / 2, dim_of("J"))
 
 
-def _spectrum(circuit: Circuit, text: str) -> list[sympy.Expr]:
+def spectrum(circuit: Circuit, text: str) -> list[sympy.Expr]:
     """Every frequency (rad/s) the sources drive in steady state, DC (0) first."""
     out: list[sympy.Expr] = []
     for part in circuit.parts:
@@ -213,7 +213,7 @@ def _mean_square(solution: Solution, inner: object, text: str, evaluate: Evaluat
     """
     circuit = solution.circuit
     total = sympy.Integer(0)
-    for w in _spectrum(circuit, text):
+    for w in spectrum(circuit, text):
         value = evaluate(solve(retuned(circuit, w)), inner)
         if w == 0:
             total += value.expr**2
@@ -232,8 +232,8 @@ def _rms_average(solution: Solution, q: object, inner: object, evaluate: Evaluat
         raise _fail(f"{name}() takes a voltage or a current, like {name}(voltage(out))", text)
     dim = evaluate(solution, inner).dim
     if name == "average":
-        spectrum = _spectrum(circuit, text)
-        if not spectrum or spectrum[0] != 0:
+        driven = spectrum(circuit, text)
+        if not driven or driven[0] != 0:
             return Value(sympy.Integer(0), dim)
         return Value(evaluate(solve(retuned(circuit, sympy.Integer(0))), inner).expr, dim)
     return Value(sympy.sqrt(_mean_square(solution, inner, text, evaluate)), dim)

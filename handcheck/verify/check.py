@@ -45,6 +45,7 @@ from handcheck.verify.claims import (
 )
 from handcheck.verify.cycles import in_claimed_convention, measure_factor
 from handcheck.verify.findings import Diagnosis, Report, Shown, StepBase, StepFinding
+from handcheck.verify.harmonics import other_frequencies_note
 from handcheck.verify.mistakes import Context, diagnose, worksheet_frequencies
 from handcheck.verify.present import describe_frequency, format_number, format_value
 from handcheck.verify.responses import check_function_of_s, check_list
@@ -245,16 +246,18 @@ class _Checker:
             analysis=describe_frequency(self.circuit),
         )
 
+    def tolerance_of(self, step: StepSpec) -> Tolerance:
+        """The step's own tolerance, or the worksheet's."""
+        if not step.tolerance:
+            return self.default_tolerance
+        return read_tolerance(step.tolerance, file=self.worksheet.path, line=step.line_of("tolerance"))
+
     def check_step(self, step: StepSpec) -> StepFinding:
         """The finding of one step: its claim against the circuit's truth and its formula."""
         path = self.worksheet.path
         try:
             claim = read_claim(step.claim, file=path, line=step.line_of("claim"))
-            tolerance = (
-                read_tolerance(step.tolerance, file=path, line=step.line_of("tolerance"))
-                if step.tolerance
-                else self.default_tolerance
-            )
+            tolerance = self.tolerance_of(step)
         except HandcheckError as exc:
             raise self.located(exc, step, "claim") from None
         if claim.form != "function":
@@ -464,7 +467,10 @@ class _Checker:
             self.budget.check(f'step "{step.name}"')
             return matching_quantities(self.circuit, unit, finding.exact, lambda text: self.steady_value(solved, text))
 
-        return settle(step, finding, unit, matches)
+        settled = settle(step, finding, unit, matches)
+        quantity = parse_quantity(step.quantity) if step.quantity else None
+        note = other_frequencies_note(self.circuit, quantity, claim, self.tolerance_of(step)) if quantity else None
+        return dataclasses.replace(settled, notes=(*settled.notes, note)) if note else settled
 
     def steady_value(self, solved: Solution, text: str) -> Value:
         """A steady-state quantity by its text, each one evaluated at most once per check
