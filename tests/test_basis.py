@@ -176,3 +176,15 @@ def test_notes_wrap_to_the_width_asked_for() -> None:
     assert len(render(report, handcheck.__version__, width=60).splitlines()) > len(
         render(report, handcheck.__version__, width=140).splitlines()
     )
+
+
+def test_the_summary_counts_come_in_a_fixed_order():
+    # Common practice: a summary lists agreement first, whatever step came first.
+    from handcheck.record.text import _counts
+    from handcheck.verify.findings import StepFinding
+
+    steps = tuple(
+        StepFinding(name=f"s{i}", claimed="1", quantity="voltage(a)", formula=None, line=i, verdict=v, basis="circuit")
+        for i, v in enumerate(["formula", "agrees", "carried", "agrees", "unit"])
+    )
+    assert _counts(steps) == "2 agrees, 1 formula, 1 carried, 1 unit"

@@ -102,7 +102,7 @@ def audit_rows(finding: AuditFinding) -> list[tuple[str, str]]:
     rows: list[tuple[str, str]] = [("quantity", f.quantity)]
     if f.expression:
         rows.append(("formula", f.expression + (f"  ({f.reference})" if f.reference else "")))
-    rows.append(("exact", f.true_expression + (f"  [{f.unit}]" if f.unit else "")))
+    rows.append(("exact", f.true_expression.replace("**", "^") + (f"  [{f.unit}]" if f.unit else "")))
     rows.append(("how", f.method))
     if f.verdict == "differs":
         rows.append(("holds when", ", ".join(f.holds_when) if f.holds_when else "no single condition found"))

@@ -43,13 +43,18 @@ def _marker(step: StepFinding, first: str | None) -> str:
     return _MARK.get(step.verdict, "!!")
 
 
+#: The order of the summary's counts: agreement first, then the verdicts of the
+#: divergence in the order the causes are looked for, then what was not checked.
+_ORDER = {v: i for i, v in enumerate(("agrees", "arithmetic", "formula", "carried", "differs", "unit", "unchecked"))}
+
+
 def _counts(steps: tuple[StepFinding, ...]) -> str:
     """``"2 agrees, 1 unit"``; where a step agrees only with its own formula, the
     agreements are split: ``"2 agree with the circuit, 1 agrees with its own formula only"``."""
     counts = Counter(step.verdict for step in steps)
     own = sum(_own_formula_only(step) for step in steps)
     shown = []
-    for verdict, n in counts.items():
+    for verdict, n in sorted(counts.items(), key=lambda item: _ORDER.get(item[0], len(_ORDER))):
         if verdict == "agrees" and own:
             circuit = n - own
             if circuit:
