@@ -20,17 +20,17 @@ that reproduces the same number only by coincidence (``_RULES_OUT``).
 
 from __future__ import annotations
 
-import contextlib
 import dataclasses
-from collections.abc import Callable, Iterable
+from collections.abc import Callable
 
 import sympy
 
 from handcheck.circuit.model import Circuit, Part
-from handcheck.errors import HandcheckError
 from handcheck.solve.quantities import Quantity
 from handcheck.verify.angles import plain_angle
 from handcheck.verify.claims import agrees, to_complex
+from handcheck.verify.mistakes_frequency import other_frequency, worksheet_frequencies
+from handcheck.verify.mistakes_sign import reversed_nodes, sign_convention
 from handcheck.verify.present import format_number
 from handcheck.verify.rebuild import (
     Context,
@@ -53,7 +53,6 @@ from handcheck.verify.rebuild import (
 from handcheck.worksheet.evaluate import Value
 from handcheck.worksheet.expr import Binary, Call, Node, walk
 from handcheck.worksheet.units import dim_of
-from handcheck.worksheet.values import read_frequency
 
 __all__ = ["CODES", "Context", "diagnose", "worksheet_frequencies"]
 
@@ -397,134 +396,6 @@ def _magnitude_as_phasor(ctx: Context) -> str | None:
     return None
 
 
-#: Quantities whose sign is fixed by a convention (DESIGN: power absorbed is positive).
-_SIGNED_POWER = frozenset({"power", "reactive_power", "delivered_power", "delivered_reactive_power"})
-
-
-def _sign_convention(ctx: Context) -> str | None:
-    """A power or a source current with the opposite sign convention: the power a part
-    delivers written for the power it absorbs (or the reverse), a capacitor's reactive
-    power written as its positive rating in var, a source's current taken in the
-    direction it drives into the circuit. Passive sign convention versus a source's
-    own convention is a classic confusion (Nilsson & Riedel, Electric Circuits, 10th
-    ed., sec. 1.5 and 10.4; from memory)."""
-    q = ctx.quantity
-    if q is None or ctx.truth is None or ctx.truth.expr == 0 or ctx.claim.unit_text in ("dB", "dBm"):
-        return None
-    negated = -ctx.truth.expr
-    if not matches(ctx, negated):
-        return None
-    names = ", ".join(str(a) for a in q.args)
-    right = shown(ctx, ctx.truth.expr)
-    if q.name in _SIGNED_POWER:
-        reactive = "reactive" in q.name
-        delivered = q.name.startswith("delivered_")
-        kinds = {ctx.circuit.part(a).kind for a in q.args if isinstance(a, str) and ctx.circuit.has_part(a)}
-        if reactive and not delivered and kinds == {"capacitor"}:
-            return (
-                f"the number is the capacitor's rating as a positive var figure; {q.name}({names}) is the reactive power it "
-                f"absorbs, negative for a capacitor (it supplies vars): write {right}, or ask for "
-                f"delivered_reactive_power({names})"
-            )
-        what = "reactive power" if reactive else "power"
-        if delivered:
-            return (
-                f"the number is the {what} that {names} absorbs; {q.name}({names}) is what it delivers, the opposite sign: "
-                f"write {right}, or ask for {q.name.removeprefix('delivered_')}({names})"
-            )
-        return (
-            f"the number is the {what} that {names} delivers; {q.name}({names}) is the {what} it absorbs (absorbed is "
-            f"positive), the opposite sign: write {right}, or ask for delivered_{q.name}({names})"
-        )
-    if q.name == "current" and len(q.args) == 1 and isinstance(q.args[0], str) and ctx.circuit.has_part(q.args[0]):
-        part = ctx.circuit.part(q.args[0])
-        if part.kind in ("voltage", "current") and len(part.nodes) == 2:
-            first, second = part.nodes
-            return (
-                f"the number is the current that {part.id} drives out of its terminal {first} into the circuit; "
-                f"current({part.id}) is the current through it from {first} to {second} (it enters at {first}), "
-                f"the opposite sign: write {right}"
-            )
-    return None
-
-
-def _reversed_nodes(ctx: Context) -> str | None:
-    """The claim is what the circuit gives with one independent source's nodes swapped:
-    a source drawn or entered the other way round (a current source's arrow, a
-    supply's polarity). Common practice: the first thing a reviewer checks when a
-    superposition result comes out with the wrong sum. Each source is tried once, the
-    circuit solved again exactly; only when no cheaper code explains the number, and
-    within the check's time budget."""
-    if ctx.quantity is None or ctx.truth is None:
-        return None
-    sources = [
-        p for p in ctx.circuit.parts if p.kind in ("voltage", "current") and p.source is not None and len(p.nodes) == 2
-    ]
-    for part in sources[:_MOST_SOURCES]:
-        if ctx.budget is not None:
-            ctx.budget.check(f"the mistake catalogue (reversed-nodes, {part.id})")
-        first, second = part.nodes
-        reversed_parts = tuple(
-            dataclasses.replace(p, nodes=(second, first)) if p is part else p for p in ctx.circuit.parts
-        )
-        value = requantify(ctx, dataclasses.replace(ctx.circuit, parts=reversed_parts))
-        if value is None or same(value, ctx.truth.expr) or not matches(ctx, value):
-            continue
-        kind = "voltage source" if part.kind == "voltage" else "current source"
-        written = f'nodes = ["{second}", "{first}"]'
-        return (
-            f"the number is what the circuit gives with {kind} {part.id} the other way round ({written}); "
-            f'it is connected as nodes = ["{first}", "{second}"]'
-            + (
-                " (plus terminal first)"
-                if part.kind == "voltage"
-                else " (it drives current from the first node to the second)"
-            )
-            + f": with it as connected the value is {shown(ctx, ctx.truth.expr)}"
-        )
-    return None
-
-
-#: reversed-nodes tries at most this many sources (one exact solve each).
-_MOST_SOURCES = 8
-
-
-def worksheet_frequencies(quantities: Iterable[Quantity]) -> tuple[sympy.Expr, ...]:
-    """The angular frequencies (rad/s) named in ``at_frequency(Q, "...")`` anywhere in
-    the quantities (nested ones too), in order of first appearance."""
-    found: dict[sympy.Expr, None] = {}
-    pending = list(quantities)
-    while pending:
-        q = pending.pop(0)
-        if q.name == "at_frequency" and len(q.args) == 2 and isinstance(q.args[1], str):
-            with contextlib.suppress(HandcheckError):  # the step itself reports it
-                found.setdefault(read_frequency(q.args[1], q.text), None)
-        pending.extend(a for a in q.args if isinstance(a, Quantity))
-    return tuple(found)
-
-
-def _other_frequency(ctx: Context) -> str | None:
-    """A reactance or impedance taken at another frequency of the worksheet (a
-    source's, or one a step names in at_frequency): the fundamental's value reused in
-    a harmonic's analysis, or one source's frequency in the other's. Common practice (harmonic filter design notes reuse the 50 Hz
-    reactances; every reactance scales with the harmonic order)."""
-    if ctx.truth is None or ctx.truth.dim not in (dim_of("ohm"), dim_of("S")) or ctx.circuit.omega == 0:
-        return None
-    named = [w for p in ctx.circuit.parts if p.source is not None for w in p.source.frequencies]
-    others = dict.fromkeys(w for w in (*named, *ctx.frequencies) if w not in (ctx.circuit.omega, 0))
-    here = format_number(float(sympy.N(ctx.circuit.frequency)), 6)
-    for omega in list(others)[:6]:
-        hertz = format_number(float(sympy.N(omega / (2 * sympy.pi))), 6)
-        detail = f"the number is the value at {hertz} Hz, another frequency of this worksheet; the analysis is at {here} Hz, where it is {shown(ctx, ctx.truth.expr)}"
-        if ctx.tree is not None and by_author(
-            ctx, changes={"f": Value(omega / (2 * sympy.pi), dim_of("Hz")), "w": Value(omega, dim_of("Hz"))}
-        ):
-            return detail + " (the formula's f or w was taken at " + hertz + " Hz)"
-        if ctx.quantity is not None and matches(ctx, requantify(ctx, dataclasses.replace(ctx.circuit, omega=omega))):
-            return detail
-    return None
-
-
 _RULES: dict[str, Callable[[Context], str | None]] = {
     "series-as-parallel": lambda c: _series_parallel(c, series_for_parallel=True),
     "parallel-as-series": lambda c: _series_parallel(c, series_for_parallel=False),
@@ -533,7 +404,7 @@ _RULES: dict[str, Callable[[Context], str | None]] = {
     "angular-as-hertz": lambda c: _frequency_swap(c, hertz_for_angular=False) or _frequency_unit(c, False),
     "degrees-as-radians": lambda c: _angle_mode(c, degrees_as_radians=True),
     "radians-as-degrees": lambda c: _angle_mode(c, degrees_as_radians=False),
-    "sign-convention": _sign_convention,
+    "sign-convention": sign_convention,
     "reactance-sign": _reactance_sign,
     "impedance-as-admittance": _impedance_admittance,
     "power-half": _power_half,
@@ -542,8 +413,8 @@ _RULES: dict[str, Callable[[Context], str | None]] = {
     "sine-reference": _sine_reference,
     "phase-sign": _phase_sign,
     "prefix": _prefix,
-    "other-frequency": _other_frequency,
-    "reversed-nodes": _reversed_nodes,
+    "other-frequency": other_frequency,
+    "reversed-nodes": reversed_nodes,
 }
 
 
