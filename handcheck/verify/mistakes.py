@@ -31,6 +31,7 @@ from handcheck.verify.angles import plain_angle
 from handcheck.verify.claims import agrees, to_complex
 from handcheck.verify.mistakes_frequency import other_frequency, worksheet_frequencies
 from handcheck.verify.mistakes_sign import reversed_nodes, sign_convention
+from handcheck.verify.mistakes_size import magnitude_as_phasor
 from handcheck.verify.present import format_number
 from handcheck.verify.rebuild import (
     Context,
@@ -38,20 +39,16 @@ from handcheck.verify.rebuild import (
     by_author,
     flipped,
     formula_value,
-    is_phasor,
     matches,
     matches_truth,
-    node_voltages,
-    replaced,
     requantify,
-    same,
     scaled,
     shown,
     swapped,
     with_phases,
 )
 from handcheck.worksheet.evaluate import Value
-from handcheck.worksheet.expr import Binary, Call, Node, walk
+from handcheck.worksheet.expr import Call, Node, walk
 from handcheck.worksheet.units import dim_of
 
 __all__ = ["CODES", "Context", "diagnose", "worksheet_frequencies"]
@@ -221,6 +218,10 @@ def _angle_mode(ctx: Context, degrees_as_radians: bool) -> str | None:
     )
     if ctx.tree is not None and by_author(ctx, angle_scale=scale):
         return what
+    if degrees_as_radians:
+        in_formula = _degrees_in_formula(ctx)
+        if in_formula:
+            return in_formula
     shifted = with_phases(ctx.circuit, scale)
     if shifted is not None and matches(ctx, requantify(ctx, shifted)):
         return what + ", in a source's phase"
@@ -229,7 +230,8 @@ def _angle_mode(ctx: Context, degrees_as_radians: bool) -> str | None:
         if ctx.claim.angle_unit != written_in:
             # the claim's angle number is the true angle in the other unit, labelled wrongly
             magnitude = sympy.Abs(ctx.claim.value.expr)
-            angle = sympy.arg(ctx.claim.value.expr)
+            # the angle as written: "-84.0 rad" taken modulo a turn would lose the degree figure
+            angle = sympy.arg(ctx.claim.value.expr) if ctx.claim.angle is None else sympy.Float(ctx.claim.angle, 30)
             relabelled = magnitude * sympy.exp(sympy.I * angle / scale)
             magnitude_res, angle_res = ctx.claim.resolution
             if _matches_claim_value(ctx, relabelled, (magnitude_res, float(angle_res / scale))):
@@ -239,11 +241,42 @@ def _angle_mode(ctx: Context, degrees_as_radians: bool) -> str | None:
     return plain_angle(ctx, degrees_as_radians)
 
 
+_TRIG = ("sin", "cos", "tan")
+
+
+def _degrees_in_formula(ctx: Context) -> str | None:
+    """A degree figure given to sin, cos or tan in the formula, which take radians: the
+    claim is the formula's own value (``cos(57.86)`` = 0.2566, the cosine of 57.86 rad)
+    and the formula with its angles read in degrees gives the quantity (0.5320). The
+    radian-mode calculator is among the most common slips of AC work (common practice)."""
+    if ctx.tree is None or ctx.formula is None or ctx.truth is None or not by_author(ctx):
+        return None
+    calls = [n for n in walk(ctx.tree) if isinstance(n, Call) and n.function in _TRIG and n.args]
+    if not calls:
+        return None
+    for env in (ctx.true_env, ctx.full_env, ctx.claimed_env):
+        corrected = formula_value(ctx, env, angle_scale=sympy.pi / 180)
+        if corrected is None or not agrees(
+            ctx.claim, to_complex(ctx.truth.expr), ctx.tolerance, value=to_complex(corrected)
+        ):
+            continue
+        call, angle = calls[0], calls[0].args[-1]
+        text = ctx.formula[call.start : call.end].strip()
+        figure = ctx.formula[angle.start : angle.end].strip()
+        figure = figure if figure.replace(".", "").replace("_", "").isalnum() else f"({figure})"
+        return (
+            f'the number is "{text}" with {figure} read in radians, but {figure} is an angle in degrees (a calculator '
+            f"left in radian mode): with it in degrees ({figure}*pi/180) the formula gives {shown(ctx, corrected)}"
+        )
+    return None
+
+
 def _matches_claim_value(ctx: Context, value: sympy.Expr, resolution: tuple[float, float]) -> bool:
     """True when ``value``, read as the claim with that resolution, agrees with the truth."""
     if ctx.truth is None:
         return False
-    alternative = dataclasses.replace(ctx.claim, value=Value(value, ctx.claim.dim), resolution=resolution)
+    # the angle as written belongs to the claim, not to the reading tried here
+    alternative = dataclasses.replace(ctx.claim, value=Value(value, ctx.claim.dim), resolution=resolution, angle=None)
     return agrees(alternative, to_complex(ctx.truth.expr), ctx.tolerance)
 
 
@@ -321,85 +354,10 @@ def _prefix(ctx: Context) -> str | None:
     return None
 
 
-def _magnitude_as_phasor(ctx: Context) -> str | None:
-    """Magnitudes added or subtracted where the phasors belong: |V1| - |V2| for
-    V1 - V2, or |Z| taken as R + X. Kirchhoff's laws hold for phasors, not for their
-    sizes; adding meter readings round a loop is the classic slip of a first AC
-    course (common practice; every introductory text warns of it in its phasor
-    chapter, e.g. Hughes, Electrical and Electronic Technology, from memory)."""
-    if ctx.truth is None:
-        return None
-    if ctx.tree is not None and ctx.formula is not None:
-        formula = ctx.formula
-
-        def text(node: Node) -> str:
-            return formula[node.start : node.end].strip()
-
-        for node in walk(ctx.tree):
-            if not isinstance(node, Binary) or node.op not in ("+", "-"):
-                continue
-            sized = dataclasses.replace(
-                node,
-                left=Call(node.left.start, node.left.end, "abs", (node.left,)),
-                right=Call(node.right.start, node.right.end, "abs", (node.right,)),
-            )
-            tree = replaced(ctx.tree, node, sized)
-            for env in (ctx.true_env, ctx.claimed_env, ctx.full_env):
-                if not (
-                    is_phasor(formula_value(ctx, env, node.left)) or is_phasor(formula_value(ctx, env, node.right))
-                ):
-                    continue  # two numbers on the real axis: their sizes add as they are
-                value = formula_value(ctx, env, tree)
-                plain = formula_value(ctx, env)
-                if value is None or not matches(ctx, value) or (plain is not None and same(value, plain)):
-                    continue
-                verb = "added" if node.op == "+" else "subtracted"
-                return (
-                    f"the number is |{text(node.left)}| {node.op} |{text(node.right)}|: the sizes were {verb} as plain "
-                    f"numbers, but {text(node.left)} and {text(node.right)} are complex values at different angles; "
-                    f"{'add' if node.op == '+' else 'subtract'} them as complex numbers (write each as a polar or "
-                    f"rectangular value), which gives {shown(ctx, ctx.truth.expr)}"
-                )
-        return None
-    if ctx.claim.form != "real" or ctx.quantity is None:
-        return None
-    truth = to_complex(ctx.truth.expr)
-    if ctx.truth.dim in (dim_of("ohm"), dim_of("S")) and abs(truth.real) > 0 and is_phasor(ctx.truth.expr):
-        summed = abs(sympy.re(ctx.truth.expr)) + abs(sympy.im(ctx.truth.expr))
-        if matches(ctx, summed):
-            return (
-                f"the number is |{'R' if ctx.truth.dim == dim_of('ohm') else 'G'}| + |{'X' if ctx.truth.dim == dim_of('ohm') else 'B'}|: "
-                "the real and imaginary parts were added as plain numbers, but they are at right angles; "
-                f"the size is sqrt(re^2 + im^2) = {format_number(abs(truth) / float(ctx.claim.unit_factor), 5)} {ctx.claim.unit_text}"
-                f" and the value {shown(ctx, ctx.truth.expr)}"
-            )
-    q = ctx.quantity
-    if (
-        q.name == "voltage"
-        and len(q.args) == 2
-        and all(isinstance(a, str) and a in (*ctx.circuit.nodes, "gnd") for a in q.args)
-    ):
-        ends = node_voltages(ctx.circuit, (str(q.args[0]), str(q.args[1])))
-        if ends is None or not (is_phasor(ends[0]) or is_phasor(ends[1])):
-            return None
-        first, second = ends
-        a, b = q.args
-        # sizes to 30 digits (as every match is judged), not as exact radicals: those
-        # of a large circuit's node voltages take seconds to evaluate
-        size_a, size_b = abs(to_complex(first)), abs(to_complex(second))
-        for op, value in (("-", complex(size_a - size_b)), ("+", complex(size_a + size_b))):
-            if matches(ctx, value):
-                return (
-                    f"the number is |V({a})| {op} |V({b})|: the sizes of the node voltages were combined as plain numbers, "
-                    f"but they are phasors at different angles; V({a}) - V({b}) as complex numbers gives {shown(ctx, ctx.truth.expr)}"
-                )
-    return None
-
-
 _RULES: dict[str, Callable[[Context], str | None]] = {
     "series-as-parallel": lambda c: _series_parallel(c, series_for_parallel=True),
     "parallel-as-series": lambda c: _series_parallel(c, series_for_parallel=False),
-    "magnitude-as-phasor": _magnitude_as_phasor,
+    "magnitude-as-phasor": magnitude_as_phasor,
     "hertz-as-angular": lambda c: _frequency_swap(c, hertz_for_angular=True) or _frequency_unit(c, True),
     "angular-as-hertz": lambda c: _frequency_swap(c, hertz_for_angular=False) or _frequency_unit(c, False),
     "degrees-as-radians": lambda c: _angle_mode(c, degrees_as_radians=True),
