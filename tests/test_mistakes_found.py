@@ -1,6 +1,6 @@
 """Mistakes the catalogue missed or named misleadingly: R + X in a formula for |Z|, a
 degree angle labelled rad or given to cos, a harmonic step taken at the analysis
-frequency.
+frequency, and the sign slip of a quantity in a circuit driven by one source.
 
 Each true value follows from a textbook closed form (named beside it), computed below
 in plain float arithmetic (math, cmath, numpy); the claim is the number a person gets
@@ -229,6 +229,109 @@ def test_harmonic_step_taken_at_the_analysis_frequency():
     assert codes(with_formula, "X3") == ["other-frequency"]
     right = handcheck.check_text(harmonics(sig(x150, 5) + " ohm", sig(math.hypot(4, x150), 5) + " ohm"))
     assert all(s.verdict == "agrees" and not s.diagnosis for s in right.steps)
+
+
+# -- reversed-nodes: the quantity's own sign, and a source an earlier step confirms ----------
+# Bridge of two dividers on 10 V: V(a) = 10*Rb/(Ra + Rb), V(b) = 10*Rt/(Rc + Rt), I(Rt) =
+# V(b)/Rt (voltage divider; any introductory text, from memory).
+VA, VB = 10 * 2.2 / 3.2, 10 * 2.7 / 3.7
+
+
+def bridge(vab: str, it: str) -> str:
+    return (
+        HEAD
+        + f"""
+[parts]
+Vr = {{ voltage = "10 V", nodes = ["top", "gnd"] }}
+Ra = {{ resistor = "1 kohm", nodes = ["top", "a"] }}
+Rb = {{ resistor = "2.2 kohm", nodes = ["a", "gnd"] }}
+Rc = {{ resistor = "1 kohm", nodes = ["top", "b"] }}
+Rt = {{ resistor = "2.7 kohm", nodes = ["b", "gnd"] }}
+
+[[step]]
+name = "Vab"
+quantity = "voltage(a, b)"
+claim = "{vab}"
+
+[[step]]
+name = "It"
+quantity = "current(Rt)"
+claim = "{it}"
+"""
+    )
+
+
+def test_sign_slip_names_the_quantity_direction_first():
+    report = handcheck.check_text(bridge(sig(VB - VA) + " V", sig(-VB / 2.7) + " mA"))
+    assert codes(report, "Vab") == ["reversed-nodes"]
+    text = detail(report, "Vab")
+    assert text.startswith("the number is the quantity with its sign reversed: the quantity's nodes")
+    assert "voltage(b, a)" in text and text.index("voltage(b, a)") < text.index("Vr")
+    assert codes(report, "It") == ["reversed-nodes"]
+    assert "current's direction" in detail(report, "It") and "from b to gnd" in detail(report, "It")
+
+
+def test_an_earlier_step_that_agrees_rules_its_source_out():
+    # Vab agrees with its sign, so Vr was taken as connected: It's sign slip is the
+    # current's direction alone, and no source reversal is offered for it.
+    report = handcheck.check_text(bridge(sig(VA - VB) + " V", sig(-VB / 2.7) + " mA"))
+    assert finding(report, "Vab").verdict == "agrees"
+    assert finding(report, "It").verdict == "differs"
+    assert "reversed-nodes" not in codes(report, "It")
+
+
+# Two coupled coils, secondary loaded: the load current from s through Rb is
+# j w M I1/(Rb + j w L2), M = k sqrt(L1 L2), dots at the ungrounded ends (coupled-coil
+# mesh equations; Nilsson & Riedel, 10th ed., sec. 6.4 and 9.10, from memory); numpy
+# solves the two mesh equations.
+def coupled_currents() -> tuple[complex, complex]:
+    w = 2 * math.pi * 50e3
+    l1, l2, k, rd, rb = 22e-6, 47e-6, 0.7, 4.0, 15.0
+    m = k * math.sqrt(l1 * l2)
+    z = np.array([[rd + 1j * w * l1, -1j * w * m], [-1j * w * m, rb + 1j * w * l2]])
+    i1, loop2 = np.linalg.solve(z, np.array([2.0, 0.0]))
+    return complex(i1), complex(loop2)  # the second mesh current runs from s through Rb to gnd
+
+
+def coupler(i1: complex, i2: complex) -> str:
+    def polar(z: complex) -> str:
+        return f"{sig(abs(z))} A /_ {math.degrees(cmath.phase(z)):.2f} deg"
+
+    return (
+        HEAD
+        + f"""
+[parts]
+Vd = {{ voltage = "2 V", frequency = "50 kHz", nodes = ["d", "gnd"] }}
+Rd = {{ resistor = "4 ohm", nodes = ["d", "p"] }}
+L1 = {{ inductor = "22 uH", nodes = ["p", "gnd"] }}
+L2 = {{ inductor = "47 uH", nodes = ["s", "gnd"] }}
+kc = {{ coupling = "0.7", inductors = ["L1", "L2"] }}
+Rb = {{ resistor = "15 ohm", nodes = ["s", "gnd"] }}
+
+[[step]]
+name = "I1"
+quantity = "current(L1)"
+claim = "{polar(i1)}"
+
+[[step]]
+name = "I2"
+quantity = "current(Rb)"
+claim = "{polar(i2)}"
+"""
+    )
+
+
+def test_coupled_secondary_sign_after_a_primary_that_agrees():
+    i1, i2 = coupled_currents()
+    right = handcheck.check_text(coupler(i1, i2))
+    assert all(s.verdict == "agrees" for s in right.steps)
+    report = handcheck.check_text(coupler(i1, -i2))
+    assert finding(report, "I1").verdict == "agrees"
+    assert finding(report, "I2").verdict == "differs"
+    assert "reversed-nodes" not in codes(report, "I2")
+    # with the primary's sign slipped too, nothing confirms Vd: reversal is offered again
+    both = handcheck.check_text(coupler(-i1, -i2))
+    assert codes(both, "I2") == ["reversed-nodes"]
 
 
 def test_amplitudes_of_two_frequencies_added_are_not_said_to_be_at_right_angles():

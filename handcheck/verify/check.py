@@ -48,6 +48,7 @@ from handcheck.verify.findings import Diagnosis, Report, Shown, StepBase, StepFi
 from handcheck.verify.harmonics import other_frequencies_note
 from handcheck.verify.mistakes import Context, diagnose, worksheet_frequencies
 from handcheck.verify.present import describe_frequency, format_number, format_value
+from handcheck.verify.rebuild import Agreed
 from handcheck.verify.responses import check_function_of_s, check_list
 from handcheck.verify.rounding import Written, by_size, describe, inside_claim, propagate, widened, within
 from handcheck.verify.safety import cautions
@@ -125,6 +126,8 @@ class _Checker:
         self.names = set(base) | self.step_names
         self.frequencies = worksheet_frequencies(self.readable_quantities())
         self.steady_values: dict[str, Value | HandcheckError] = {}
+        #: the steps so far whose claim agrees with their quantity (for the catalogue)
+        self.agreed: list[Agreed] = []
 
     def readable_quantities(self) -> list[Quantity]:
         """Every step's quantity that parses (a step that does not reports it itself)."""
@@ -365,6 +368,7 @@ class _Checker:
             full_env=dict(self.full_env),
             budget=self.budget,
             frequencies=self.frequencies,
+            agreed=tuple(self.agreed),
         )
         unit = _unit_finding(read, shown, truth, formula_true)
         if unit is not None:
@@ -374,6 +378,8 @@ class _Checker:
             return unit
         shown["error"] = relative_error(claim, reference)
         if agrees(claim, reference, read.tolerance):
+            if quantity is not None and quantity.name not in TIME_DOMAIN and claim.form in ("real", "rect", "polar"):
+                self.agreed.append(Agreed(quantity, claim, read.tolerance))
             return StepFinding(
                 **base, **shown, verdict="agrees", message=self.formula_remark(read.tree, step, claim, read.tolerance)
             )

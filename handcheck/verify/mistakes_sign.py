@@ -6,6 +6,12 @@ from __future__ import annotations
 
 import dataclasses
 
+from handcheck.circuit.model import GROUND, Circuit
+from handcheck.errors import HandcheckError, TimeLimitError
+from handcheck.solve.phasor import solve
+from handcheck.solve.quantities import Quantity, evaluate_quantity
+from handcheck.verify.claims import agrees, to_complex
+from handcheck.verify.cycles import in_claimed_convention
 from handcheck.verify.rebuild import Context, matches, requantify, same, shown
 
 __all__ = ["reversed_nodes", "sign_convention"]
@@ -67,7 +73,13 @@ def reversed_nodes(ctx: Context) -> str | None:
     supply's polarity). Common practice: the first thing a reviewer checks when a
     superposition result comes out with the wrong sum. Each source is tried once, the
     circuit solved again exactly; only when no cheaper code explains the number, and
-    within the check's time budget."""
+    within the check's time budget.
+
+    When the reversal only negates the quantity (a single source drives it), the
+    likelier cause is the quantity's own nodes or direction taken the other way round,
+    and the detail says so first. A source is ruled out when an earlier step that
+    depends on it agrees with the circuit, sign included: that step shows the source
+    was taken as connected."""
     if ctx.quantity is None or ctx.truth is None:
         return None
     sources = [
@@ -80,22 +92,73 @@ def reversed_nodes(ctx: Context) -> str | None:
         reversed_parts = tuple(
             dataclasses.replace(p, nodes=(second, first)) if p is part else p for p in ctx.circuit.parts
         )
-        value = requantify(ctx, dataclasses.replace(ctx.circuit, parts=reversed_parts))
-        if value is None or same(value, ctx.truth.expr) or not matches(ctx, value):
+        circuit = dataclasses.replace(ctx.circuit, parts=reversed_parts)
+        value = requantify(ctx, circuit)
+        if value is None or same(value, ctx.truth.expr) or not matches(ctx, value) or _confirmed(ctx, circuit):
             continue
         kind = "voltage source" if part.kind == "voltage" else "current source"
         written = f'nodes = ["{second}", "{first}"]'
+        connected = f'nodes = ["{first}", "{second}"]' + (
+            ", plus terminal first" if part.kind == "voltage" else ", driving current from the first node to the second"
+        )
+        right = shown(ctx, ctx.truth.expr)
+        if same(value, -ctx.truth.expr):
+            return (
+                f"the number is the quantity with its sign reversed: {_direction(ctx)}, "
+                f"or {kind} {part.id} connected the other way ({written}; it is connected as {connected}); "
+                f"as connected, the value is {right}"
+            )
         return (
             f"the number is what the circuit gives with {kind} {part.id} the other way round ({written}); "
-            f'it is connected as nodes = ["{first}", "{second}"]'
-            + (
-                " (plus terminal first)"
-                if part.kind == "voltage"
-                else " (it drives current from the first node to the second)"
-            )
-            + f": with it as connected the value is {shown(ctx, ctx.truth.expr)}"
+            f"it is connected as {connected}: with it as connected the value is {right}"
         )
     return None
+
+
+def _confirmed(ctx: Context, circuit: Circuit) -> bool:
+    """True when an earlier step that agrees with the circuit would not agree with
+    this changed one: its claim confirms the circuit as it is connected."""
+    if not ctx.agreed:
+        return False
+    try:
+        solution = solve(circuit)
+    except TimeLimitError:
+        raise
+    except (HandcheckError, NotImplementedError, ZeroDivisionError):
+        return False
+    for earlier in ctx.agreed:
+        try:
+            value = evaluate_quantity(solution, earlier.quantity)
+            value = in_claimed_convention(value, earlier.quantity.name, earlier.claim.unit_text)
+            number = to_complex(value.expr)
+        except TimeLimitError:
+            raise
+        except (HandcheckError, NotImplementedError, ZeroDivisionError):
+            continue
+        if not agrees(earlier.claim, number, earlier.tolerance):
+            return True
+    return False
+
+
+def _direction(ctx: Context) -> str:
+    """How the quantity's own sign is set, in words: its nodes or its current's direction."""
+    q = ctx.quantity
+    while q is not None and q.name in ("at_frequency", "without") and q.args and isinstance(q.args[0], Quantity):
+        q = q.args[0]
+    args = [a for a in q.args if isinstance(a, str)] if q is not None else []
+    part = ctx.circuit.part(args[0]) if len(args) == 1 and ctx.circuit.has_part(args[0]) else None
+    if q is None or len(args) != len(q.args) or not args:
+        return "the quantity's nodes (or the current's direction) taken the other way round"
+    if q.name == "voltage" and part is None:
+        a, b = (args[0], GROUND) if len(args) == 1 else (args[0], args[1])
+        return f"the quantity's nodes taken the other way round (voltage({b}, {a}) for voltage({a}, {b}))"
+    if q.name == "voltage" and part is not None and len(part.nodes) >= 2:
+        return f"the voltage's nodes taken the other way round (voltage({part.id}) is v({part.nodes[0]}) - v({part.nodes[1]}))"
+    if q.name == "current" and part is not None and len(part.nodes) >= 2:
+        return f"the current's direction taken the other way round (current({part.id}) flows through it from {part.nodes[0]} to {part.nodes[1]})"
+    if q.name == "secondary_current" and part is not None and len(part.nodes) >= 3:
+        return f"the current's direction taken the other way round (secondary_current({part.id}) flows into the dotted secondary terminal {part.nodes[2]})"
+    return "the quantity's nodes (or the current's direction) taken the other way round"
 
 
 #: reversed-nodes tries at most this many sources (one exact solve each).

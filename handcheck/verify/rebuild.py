@@ -25,6 +25,7 @@ from handcheck.worksheet.evaluate import Value, evaluate
 from handcheck.worksheet.expr import Binary, Node, walk
 
 __all__ = [
+    "Agreed",
     "Context",
     "at_omega",
     "by_author",
@@ -42,6 +43,15 @@ __all__ = [
     "swapped",
     "with_phases",
 ]
+
+
+@dataclass(frozen=True)
+class Agreed:
+    """An earlier step whose claim agrees with its quantity in the circuit."""
+
+    quantity: Quantity
+    claim: Claim
+    tolerance: Tolerance
 
 
 @dataclass(frozen=True)
@@ -64,6 +74,8 @@ class Context:
     #: screen each re-solve in floating point first (:mod:`handcheck.verify.screen`);
     #: False solves every candidate exactly (the screen can only save work)
     screen: bool = True
+    #: the earlier steps that agree with the circuit (a source they confirm was not reversed)
+    agreed: tuple[Agreed, ...] = ()
 
 
 def matches(ctx: Context, value: sympy.Expr | complex | None) -> bool:
