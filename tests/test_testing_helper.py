@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import os
 from pathlib import Path
 
 import pytest
@@ -29,13 +30,20 @@ def test_a_wrong_worksheet_fails_with_the_divergence_and_diagnosis():
 
 pytest_plugins = ["pytester"]
 
+#: Inner runs are processes of their own (an in-process run forgets the modules it
+#: imported, and numpy's extensions cannot be loaded twice), without plugins of the
+#: machine that react to a parallel run.
+QUIET = ("-p", "no:benchmark", "-p", "no:cacheprovider")
+
 BROKEN = '[worksheet]\nformat = 1\ntitle = "no circuit"\n[[part]]\nid = "R1"\nkind = "resistor"\n'
 
 
 @pytest.fixture
-def notes(pytester):
+def notes(pytester, monkeypatch):
     """A repository-like folder: two worksheets (one right, one wrong), one broken
     worksheet, and TOML files that are no worksheets."""
+    root = str(WORKSHEETS.parent)  # the inner runs import this checkout's handcheck
+    monkeypatch.setenv("PYTHONPATH", os.pathsep.join(filter(None, [root, os.environ.get("PYTHONPATH")])))
     folder = pytester.mkdir("design-notes")
     (folder / "snubber.toml").write_text((WORKSHEETS / "coil-snubber.toml").read_text())
     (folder / "antialias.toml").write_text((WORKSHEETS / "adc-antialias.toml").read_text())
@@ -46,7 +54,7 @@ def notes(pytester):
 
 
 def test_the_plugin_makes_one_item_per_worksheet(pytester, notes):
-    result = pytester.runpytest_inprocess("-p", "handcheck.testing", "-v", str(pytester.path))
+    result = pytester.runpytest_subprocess(*QUIET, "-p", "handcheck.testing", "-v", str(pytester.path))
     result.assert_outcomes(passed=1, failed=2)
     text = result.stdout.str()
     assert "snubber.toml::check PASSED" in text
@@ -59,7 +67,7 @@ def test_the_plugin_makes_one_item_per_worksheet(pytester, notes):
 
 def test_a_conftest_loads_the_plugin(pytester, notes):
     pytester.makeconftest('pytest_plugins = ["handcheck.testing"]\n')
-    result = pytester.runpytest_inprocess(str(notes / "snubber.toml"))
+    result = pytester.runpytest_subprocess(*QUIET, str(notes / "snubber.toml"))
     result.assert_outcomes(passed=1)
 
 
@@ -75,7 +83,7 @@ def test_worksheet_cases_parametrize_a_folder(pytester, notes):
             assert_checks_out(path)
         """
     )
-    result = pytester.runpytest_inprocess("-v", "test_notes.py")
+    result = pytester.runpytest_subprocess(*QUIET, "-v", "test_notes.py")
     # settings.toml is a *.toml below the folder, as for `handcheck check FOLDER`: refused
     result.assert_outcomes(passed=1, failed=2)
     assert "snubber.toml] PASSED" in result.stdout.str()
