@@ -43,7 +43,7 @@ from handcheck.verify.claims import (
     relative_error,
     to_complex,
 )
-from handcheck.verify.cycles import in_claimed_convention, measure_factor
+from handcheck.verify.cycles import expected_text, measure_note
 from handcheck.verify.findings import Diagnosis, Report, Shown, StepBase, StepFinding
 from handcheck.verify.harmonics import other_frequencies_note
 from handcheck.verify.mistakes import Context, diagnose, worksheet_frequencies
@@ -148,14 +148,8 @@ class _Checker:
     def check_response(self, base: StepBase, claim: Claim, quantity: Quantity, tolerance: Tolerance) -> StepFinding:
         """A claimed network function (in s) or a claimed list (poles, zeros, band edges)."""
         if quantity.name in LIST_QUANTITIES:
-            unit = (claim.items or (claim,))[0].unit_text
-            own = evaluate_values(self.solution, quantity)
-            truths = tuple(in_claimed_convention(t, quantity.name, unit) for t in own)
-            finding = check_list(base, claim, truths, tolerance)
-            if not own or finding.expected_si is None:
-                return finding
-            first = to_complex(own[0].expr)  # expected_si: in the quantity's own measure
-            return dataclasses.replace(finding, expected_si=(first.real, first.imag))
+            truths = evaluate_values(self.solution, quantity)
+            return check_list(base, claim, truths, tolerance)
         if claim.form == "list":
             return StepFinding(**base, verdict="differs", message=f"a list is claimed, but {quantity} is one value")
         if claim.form != "laplace":
@@ -313,7 +307,6 @@ class _Checker:
                     truth = Value(abs(truth.expr), truth.dim)
             else:
                 truth = evaluate_quantity(self.solution, quantity)
-            truth = in_claimed_convention(truth, quantity.name, claim.unit_text)
         except HandcheckError as exc:
             raise self.located(exc, step, "quantity") from None
         if truth is not None and claim.unit_text == "dB":
@@ -346,13 +339,9 @@ class _Checker:
             reference = to_complex(truth.expr)
         except HandcheckError as exc:
             raise self.located(exc, step, "quantity" if step.quantity else "formula") from None
-        if quantity is not None and truth.dim == dim_of("Hz"):
-            own = reference / complex(measure_factor(quantity.name, claim.unit_text))
-        else:
-            own = reference  # expected_si: the quantity in its own measure, whatever the claim's
         shown: Shown = {
-            "expected": format_value(truth, claim),
-            "expected_si": (own.real, own.imag),
+            "expected": expected_text(truth, claim, quantity.name if quantity else None),
+            "expected_si": (reference.real, reference.imag),
             "exact": truth.expr,
         }
         context = Context(
@@ -475,8 +464,13 @@ class _Checker:
 
         settled = settle(step, finding, unit, matches)
         quantity = parse_quantity(step.quantity) if step.quantity else None
-        note = other_frequencies_note(self.circuit, quantity, claim, self.tolerance_of(step)) if quantity else None
-        return dataclasses.replace(settled, notes=(*settled.notes, note)) if note else settled
+        if quantity is None:
+            return settled
+        notes = (
+            measure_note(quantity.name, claim),
+            other_frequencies_note(self.circuit, quantity, claim, self.tolerance_of(step)),
+        )
+        return dataclasses.replace(settled, notes=(*settled.notes, *filter(None, notes)))
 
     def steady_value(self, solved: Solution, text: str) -> Value:
         """A steady-state quantity by its text, each one evaluated at most once per check

@@ -11,7 +11,6 @@ from handcheck.errors import HandcheckError, TimeLimitError
 from handcheck.solve.phasor import solve
 from handcheck.solve.quantities import Quantity, evaluate_quantity
 from handcheck.verify.claims import agrees, to_complex
-from handcheck.verify.cycles import in_claimed_convention
 from handcheck.verify.rebuild import Context, matches, requantify, same, shown
 
 __all__ = ["reversed_nodes", "sign_convention"]
@@ -129,7 +128,6 @@ def _confirmed(ctx: Context, circuit: Circuit) -> bool:
     for earlier in ctx.agreed:
         try:
             value = evaluate_quantity(solution, earlier.quantity)
-            value = in_claimed_convention(value, earlier.quantity.name, earlier.claim.unit_text)
             number = to_complex(value.expr)
         except TimeLimitError:
             raise

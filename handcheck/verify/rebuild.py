@@ -18,7 +18,6 @@ from handcheck.errors import HandcheckError, TimeLimitError
 from handcheck.solve.phasor import solve
 from handcheck.solve.quantities import Quantity, evaluate_quantity
 from handcheck.verify.claims import Claim, Tolerance, agrees, to_complex
-from handcheck.verify.cycles import in_claimed_convention
 from handcheck.verify.present import format_value
 from handcheck.verify.screen import cannot_match
 from handcheck.worksheet.evaluate import Value, evaluate
@@ -100,8 +99,7 @@ def requantify(ctx: Context, circuit: Circuit) -> sympy.Expr | None:
     if ctx.screen and cannot_match(circuit, ctx.quantity, ctx.claim, ctx.tolerance):
         return None
     try:
-        value = evaluate_quantity(solve(circuit), ctx.quantity)
-        return in_claimed_convention(value, ctx.quantity.name, ctx.claim.unit_text).expr
+        return evaluate_quantity(solve(circuit), ctx.quantity).expr
     except TimeLimitError:
         raise
     except (HandcheckError, NotImplementedError, ZeroDivisionError):

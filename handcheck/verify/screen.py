@@ -41,7 +41,6 @@ from handcheck.errors import HandcheckError
 from handcheck.solve.certified import certify
 from handcheck.solve.quantities import Quantity
 from handcheck.verify.claims import SLACK, Claim, Tolerance, to_complex
-from handcheck.verify.cycles import quantity_cycles
 
 if TYPE_CHECKING:  # pragma: no cover - typing only
     import numpy as np
@@ -332,8 +331,8 @@ def cannot_match(circuit: Circuit, quantity: Quantity, claim: Claim, tolerance: 
 
     False whenever the screen cannot tell (an unknown quantity or claim form, a
     singular or ill-conditioned system, a value near the band)."""
-    if claim.form not in ("real", "rect", "polar") or claim.items or quantity_cycles(quantity.name):
-        return False  # a frequency may be claimed in Hz or rad/s: the exact path converts it
+    if claim.form not in ("real", "rect", "polar") or claim.items:
+        return False
     near = float_quantity(circuit, quantity)
     if near is None or not (math.isfinite(near.err) and math.isfinite(abs(near.value))):
         return False
