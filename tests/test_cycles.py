@@ -2,7 +2,7 @@
 
 Worksheet format 1 compares a claim's number with the quantity in its own measure
 (natural_frequency in rad/s, cutoff_frequency in Hz), whatever the claim's unit word;
-the step shows both measures and a note. 
+the step shows both measures and a note.
 
 Sources: f = w/(2*pi), the hertz is the unit of frequency and the radian per second of
 angular frequency, and both are 1/s in SI (SI Brochure, 9th edition, 2019, section 2.3.4
