@@ -2,7 +2,9 @@
 
 One figure: the waveforms the steps name, voltages and currents each on their own axes
 with their unit, with each claimed steady-state sinusoid drawn dashed over the
-simulated one; the transient of each kind (simulated minus steady state) with the
+simulated one and each claimed instantaneous value (``at``, ``initial``) as an open
+circle beside a black cross at the exact value, each claimed ``peak`` or ``final``
+value as a dashed level beside a dotted one at the exact value; the transient of each kind (simulated minus steady state) with the
 envelope of the slowest natural mode; and phasor diagrams with the claimed and exact
 phasors side by side, one per kind and frequency (the analysis frequency and each
 frequency an ``at_frequency(...)`` step names).
@@ -22,9 +24,9 @@ from handcheck.solve.quantities import parse_quantity
 from handcheck.verify.claims import read_claim, to_complex
 from handcheck.verify.evidence import Evidence, _numeric, _signals
 from handcheck.verify.findings import Report
-from handcheck.worksheet.values import read_frequency
+from handcheck.worksheet.values import read_frequency, read_value
 
-__all__ = ["PhasorRow", "evidence_figure", "plot_evidence"]
+__all__ = ["PhasorRow", "TimeMark", "claimed_marks", "evidence_figure", "plot_evidence"]
 
 _MAX_SIGNALS = 6
 #: The figure's width in inches: fits the text width of an A4 or Letter page.
@@ -71,6 +73,96 @@ def _claimed_phasors(report: Report, circuit: Any) -> list[PhasorRow]:
         claimed, exact = to_complex(claim.value.expr) * to_peak, to_complex(step.exact) * to_peak
         rows.append(PhasorRow(step.name, unit, hz, claimed, exact, math.isclose(hz, analysis_hz, rel_tol=1e-9)))
     return rows
+
+
+@dataclass(frozen=True)
+class TimeMark:
+    """A claimed instantaneous value of a voltage or current, drawn on its waveform.
+
+    ``kind`` is ``"at"`` (the value at ``time`` s), ``"initial"`` (at t = 0+),
+    ``"peak"`` (the largest absolute value, a level) or ``"final"`` (the value the
+    waveform settles to, a level); ``claimed`` and ``exact`` are in SI units.
+    """
+
+    step: str
+    kind: str
+    signal: str
+    unit: str
+    claimed: float
+    exact: float
+    time: float | None = None
+
+
+_LEVELS = ("at", "initial", "peak", "final")
+
+
+def claimed_marks(report: Report) -> list[TimeMark]:
+    """The real claims of ``at``, ``initial``, ``peak`` and ``final`` of a voltage or
+    current, to be drawn where the reader compares them with the waveform."""
+    marks = []
+    for step in report.steps:
+        if not step.quantity or step.expected_si is None:
+            continue
+        try:
+            quantity = parse_quantity(step.quantity)
+            claim = read_claim(step.claimed)
+        except HandcheckError:
+            continue
+        args = quantity.args
+        if quantity.name not in _LEVELS or not args or getattr(args[0], "name", None) not in ("voltage", "current"):
+            continue
+        if claim.form != "real":
+            continue
+        time = None
+        if quantity.name == "at":
+            try:
+                time = float(read_value(str(args[1]), "s", f"the time in {quantity.text}"))
+            except (HandcheckError, IndexError):
+                continue
+        inner = args[0]
+        if isinstance(inner, str):
+            continue
+        marks.append(
+            TimeMark(
+                step.name,
+                quantity.name,
+                inner.text,
+                _unit(inner),
+                float(to_complex(claim.value.expr).real),
+                float(step.expected_si[0]),
+                time,
+            )
+        )
+    return marks
+
+
+def _draw_marks(marks: list[TimeMark], waves: dict[str, Any]) -> None:
+    """Claimed instants as open circles, claimed peaks and final values as dashed levels;
+    the exact value in black beside each (a cross, a dotted level). A peak is drawn on
+    the side where the simulated waveform has its largest absolute value."""
+    import numpy as np
+
+    exact_labelled: set[str] = set()
+    for mark in marks:
+        axis = waves.get(mark.unit)
+        if axis is None:
+            continue
+        label = f"{mark.step} claimed ({mark.kind})"
+        exact_label = None if mark.unit in exact_labelled else "exact value"
+        exact_labelled.add(mark.unit)
+        if mark.kind in ("at", "initial"):
+            t_ms = 0.0 if mark.time is None else mark.time * 1e3
+            axis.plot([t_ms], [mark.exact], "+", color="black", ms=9, mew=1.2, label=exact_label)
+            axis.plot([t_ms], [mark.claimed], "o", mfc="none", color="C3", ms=7, mew=1.4, label=label)
+            continue
+        sign = 1.0
+        if mark.kind == "peak":
+            simulated = [ln for ln in axis.get_lines() if ln.get_label() == f"{mark.signal} (simulated)"]
+            if simulated:
+                values = np.asarray(simulated[0].get_ydata())
+                sign = 1.0 if values.size == 0 or values[np.argmax(np.abs(values))] >= 0 else -1.0
+        axis.axhline(sign * mark.claimed, ls=(0, (4, 3)), lw=1.1, color="C3", label=label)
+        axis.axhline(sign * mark.exact, ls=":", lw=0.9, color="black", label=exact_label)
 
 
 def _frequency_of(quantity: Any, analysis_hz: float) -> tuple[float, Any]:
@@ -123,6 +215,7 @@ def evidence_figure(report: Report, evidence: Evidence) -> Any:
         axis.sharex(first)
     transients = {u: figure.add_subplot(grid[len(units) + k, :], sharex=first) for k, u in enumerate(units)}
     _draw_waves(evidence, signals, rows, waves, transients)
+    _draw_marks(claimed_marks(report), waves)
     for unit in units:
         waves[unit].set_ylabel(f"{_KIND[unit]} [{unit}]")
         transients[unit].set_ylabel(f"transient [{unit}]")
