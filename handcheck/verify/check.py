@@ -34,6 +34,7 @@ from handcheck.solve.quantities import TIME_DOMAIN, Quantity, evaluate_quantity,
 from handcheck.solve.solutions import ExactSolutions
 from handcheck.solve.timequantities import evaluate_time_quantity
 from handcheck.verify.basis import matching_quantities, settle, unit_kind
+from handcheck.verify.carried import without_true_formula
 from handcheck.verify.claims import (
     Claim,
     Tolerance,
@@ -326,7 +327,11 @@ class _Checker:
                     **base, verdict="unit", message=f"the formula is not consistent in its units: {exc.message}"
                 )
             except HandcheckError as exc:
-                raise self.located(exc, step, "formula") from None
+                cause = self.root_cause(read.tree)
+                if cause is None:
+                    raise self.located(exc, step, "formula") from None
+                self.true_env[step.name] = truth if truth is not None else claim.value
+                return without_true_formula(read.base, claim, read.tolerance, truth, quantity, cause, exc.message)
         if truth is None:
             truth = formula_true
         if truth is None:
