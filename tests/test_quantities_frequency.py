@@ -255,3 +255,37 @@ def test_a_phasor_function_of_a_network_function_says_what_to_write(quantity):
     ) as info:
         run(parts, [("H", quantity, "0.5")])
     assert "transfer(" in str(info.value) and "not a finite number" not in str(info.value)
+
+
+def test_a_network_function_with_an_irrational_mutual_inductance_is_exact():
+    # M = k sqrt(L1 L2) = 0.5 sqrt(2) mH is irrational. Closed form of two coupled coils,
+    # the secondary loaded by R2: H = s M R2 / ((R1 + s L1)(R2 + s L2) - s^2 M^2)
+    # (Nilsson & Riedel, Electric Circuits, 10th ed., section 9.10, from memory),
+    # checked against a numpy solve of the nodal equations at two frequencies.
+    r1, r2, l1, l2 = 10.0, 50.0, 1e-3, 2e-3
+    m = 0.5 * math.sqrt(l1 * l2)
+    parts = "\n".join(
+        [
+            'Vs = { voltage = "1 V", frequency = "1 kHz", nodes = ["a", "gnd"] }',
+            'R1 = { resistor = "10 ohm", nodes = ["a", "b"] }',
+            'L1 = { inductor = "1 mH", nodes = ["b", "gnd"] }',
+            'L2 = { inductor = "2 mH", nodes = ["c", "gnd"] }',
+            'K1 = { coupling = "0.5", inductors = ["L1", "L2"] }',
+            'R2 = { resistor = "50 ohm", nodes = ["c", "gnd"] }',
+        ]
+    )
+    a2, a1, a0 = l1 * l2 - m * m, r1 * l2 + r2 * l1, r1 * r2
+    claim = f"{m * r2 / a2:.6g}*s/(s^2 + {a1 / a2:.6g}*s + {a0 / a2:.6g})"
+    steps = run(parts, [("H", "network_function(voltage(c), voltage(a))", claim)])
+    assert steps["H"].verdict == "agrees"
+    s = sympy.Symbol("s")
+    (symbol,) = steps["H"].exact.free_symbols
+    for w in (1e3, 3e4):
+        jw = 1j * w
+        nodal = np.array(
+            [[-1 / r1, 0, -1, 0], [0, -1 / r2, 0, -1], [1, 0, -jw * l1, -jw * m], [0, 1, -jw * m, -jw * l2]]
+        )
+        vc = np.linalg.solve(nodal, np.array([-1 / r1, 0, 0, 0], dtype=complex))[1]
+        exact = complex(steps["H"].exact.subs(symbol, sympy.I * w).evalf(30))
+        assert exact == pytest.approx(vc, rel=1e-12)
+    assert str(symbol) == str(s)

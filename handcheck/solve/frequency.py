@@ -94,11 +94,23 @@ def _laplace_solution(solution: Solution, column: list[sympy.Expr] | None = None
     return _LaplaceSolution(solution.circuit, system, tuple(sympy.together(v) for v in x), dict(solution.u))
 
 
+def _exact_poly(expr: sympy.Expr, s: sympy.Symbol) -> sympy.Poly:
+    """``expr`` as a polynomial in s over the smallest exact domain: an irrational part
+    value (a coupling's M = k*sqrt(L1*L2)) gives an algebraic field, not sympy's EX."""
+    poly = sympy.Poly(expr, s)
+    if poly.domain.is_EX:
+        try:
+            return sympy.Poly(expr, s, extension=True)
+        except (sympy.PolynomialError, NotImplementedError):
+            return poly
+    return poly
+
+
 def _response(expr: sympy.Expr, dim: Dim, text: str) -> Response:
     s = laplace_symbol()
     num, den = sympy.fraction(sympy.cancel(sympy.together(expr)))
     try:
-        n, d = sympy.Poly(num, s), sympy.Poly(den, s)
+        n, d = _exact_poly(num, s), _exact_poly(den, s)
     except sympy.PolynomialError:
         raise _fail(f"{text} is no rational function of s", text) from None
     for poly in (n, d):
