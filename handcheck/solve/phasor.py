@@ -72,9 +72,11 @@ def _singular(system: MnaSystem, circuit: Circuit, matrix: list[list[sympy.Expr]
     )
     lines = [p.line for p in circuit.parts if p.id in parts and p.line]
     return CircuitError(
-        f"the circuit's equations are singular at {_format_frequency(circuit.omega)}: {listed} leave a voltage or "
-        "current undetermined (for example an ideal LC tank driven exactly at resonance, or a controlled source "
-        "that fixes its own control); add the parts' losses or analyse at another frequency",
+        f"the circuit's equations are singular at {_format_frequency(circuit.omega)}: {listed} "
+        f"{'leave' if len(ordered) > 1 else 'leaves'} a voltage or current undetermined (for example nodes "
+        "with no path to ground, as when parts are removed, an ideal LC tank driven exactly at resonance, or "
+        "a controlled source that fixes its own control); connect them, add the parts' losses or analyse at "
+        "another frequency",
         tuple(ordered),
         file=circuit.path,
         line=min(lines) if lines else None,
