@@ -199,3 +199,24 @@ def test_an_angle_beyond_a_full_turn_is_not_wrapped(angle, verdict):
     # turn is taken as written, since its digits cannot tell the turns apart.
     report = handcheck.check_text(RC.replace("CLAIM", f"0.7071 V /_ {angle}"))
     assert step(report, "V").verdict == verdict
+
+
+def test_a_formula_naming_an_op_amp_says_to_write_its_gain():
+    # Common practice: an inverting stage's closed-loop gain with a finite open-loop gain A
+    # is -Rf/Ri / (1 + (1 + Rf/Ri)/A); the op-amp itself is no number in a formula.
+    sheet = """
+[worksheet]
+format = 1
+title = "inverting stage"
+[parts]
+Vin = { voltage = "1 V", nodes = ["in", "gnd"] }
+Ri = { resistor = "10 kohm", nodes = ["in", "m"] }
+Rf = { resistor = "22 kohm", nodes = ["m", "out"] }
+U1 = { opamp = "100000", nodes = ["out", "gnd", "m"] }
+[[step]]
+name = "G"
+formula = "-Rf/Ri/(1 + (1 + Rf/Ri)/U1)"
+claim = "-2.2"
+"""
+    with pytest.raises(handcheck.HandcheckError, match="U1 is an op-amp, which has no value a formula can use"):
+        handcheck.check_text(sheet)

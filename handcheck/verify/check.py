@@ -195,6 +195,15 @@ class _Checker:
         except HandcheckError as exc:
             raise self.located(exc, step, "formula") from None
         for name in names_in(tree):
+            if name not in self.names and self.circuit.has_part(name):
+                part = self.circuit.part(name)
+                what = "an op-amp" if part.kind == "opamp" else f"a {part.kind}"
+                raise WorksheetError(
+                    f'step "{step.name}": {name} is {what}, which has no value a formula can use by name; '
+                    "write the number itself (for an op-amp, its open-loop gain)",
+                    file=self.worksheet.path,
+                    line=step.line_of("formula"),
+                )
             if name == step.name:
                 raise WorksheetError(
                     f'step "{step.name}": the formula uses the step itself; a formula may use only earlier steps',
