@@ -270,7 +270,7 @@ def test_a_network_function_with_an_irrational_mutual_inductance_is_exact():
             'R1 = { resistor = "10 ohm", nodes = ["a", "b"] }',
             'L1 = { inductor = "1 mH", nodes = ["b", "gnd"] }',
             'L2 = { inductor = "2 mH", nodes = ["c", "gnd"] }',
-            'K1 = { coupling = "0.5", inductors = ["L1", "L2"] }',
+            'link = { coupling = "0.5", inductors = ["L1", "L2"] }',
             'R2 = { resistor = "50 ohm", nodes = ["c", "gnd"] }',
         ]
     )
