@@ -437,7 +437,8 @@ class _Checker:
 
         if ball is None and not outside:
             message = (
-                f"follows from the rounded values of earlier steps: the written digits of {names} leave this "
+                f"follows from the rounded values of earlier steps: {names} as written (within their digits or "
+                f"stated tolerance, with what they carry from earlier steps) leave{'s' * (len(inputs) == 1)} this "
                 "value unbounded (the formula divides by a number that rounds to zero); write more digits there"
             )
             return dataclasses.replace(finding, message=message)
@@ -445,7 +446,8 @@ class _Checker:
             if not by_size(written.claim, reference):  # a plain size carries only its own digits
                 self.written[finding.name] = dataclasses.replace(written, carried=widened(written, ball))
             message = (
-                f"follows from the rounded values of earlier steps: the written digits of {names} allow "
+                f"follows from the rounded values of earlier steps: {names} as written (within their digits or "
+                f"stated tolerance, with what they carry from earlier steps) allow{'s' * (len(inputs) == 1)} "
                 f"{describe(ball, show, size)} here, and the true value {show(reference)} lies inside"
             )
             return dataclasses.replace(finding, message=message)
