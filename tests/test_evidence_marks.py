@@ -67,3 +67,36 @@ def test_the_figure_draws_each_claim_on_its_waveform():
     assert list(lines["v1 claimed (at)"].get_ydata()) == [5.5]
     assert list(lines["vpk claimed (peak)"].get_ydata()) == [17.5, 17.5]  # a level, on the positive side
     assert "vfin claimed (final)" in lines and "exact value" in lines
+
+
+RC_SHEET = """
+[worksheet]
+format = 1
+title = "Sensor supply RC charge"
+[parts]
+Vs = { voltage = "3.3 V", nodes = ["a", "gnd"] }
+R1 = { resistor = "2 kohm", nodes = ["a", "out"] }
+C1 = { capacitor = "10 uF", nodes = ["out", "gnd"] }
+[transient]
+start = "rest"
+[[step]]
+name = "vout"
+quantity = "voltage(out)"
+claim = "3.3*(1 - exp(-t/25 ms)) V"
+"""
+
+
+def test_a_claimed_time_function_is_drawn_over_the_simulated_waveform():
+    # The claim's own function, 3.3 (1 - exp(-t/25 ms)), beside the simulated charge of an
+    # RC of 20 ms, V (1 - exp(-t/RC)) (Alexander & Sadiku, 5th ed., section 7.6, from memory).
+    import numpy as np
+
+    outcome = run_text(RC_SHEET, evidence=True)
+    figure = evidence_figure(outcome.report, outcome.evidence)
+    lines = {line.get_label(): line for axis in figure.axes for line in axis.get_lines()}
+    claimed = lines["vout claimed (function of t)"]
+    t = np.asarray(claimed.get_xdata()) / 1e3
+    assert np.allclose(claimed.get_ydata(), 3.3 * (1 - np.exp(-t / 25e-3)), rtol=1e-12, atol=1e-12)
+    simulated = lines["voltage(out) (simulated)"]
+    ts = np.asarray(simulated.get_xdata()) / 1e3
+    assert np.allclose(simulated.get_ydata(), 3.3 * (1 - np.exp(-ts / 20e-3)), atol=1e-9)

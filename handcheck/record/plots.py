@@ -2,7 +2,8 @@
 
 One figure: the waveforms the steps name, voltages and currents each on their own axes
 with their unit, with each claimed steady-state sinusoid drawn dashed over the
-simulated one and each claimed instantaneous value (``at``, ``initial``) as an open
+simulated one, each claimed time function dashed over its waveform, and each claimed
+instantaneous value (``at``, ``initial``) as an open
 circle beside a black cross at the exact value, each claimed ``peak`` or ``final``
 value as a dashed level beside a dotted one at the exact value; the transient of each kind (simulated minus steady state) with the
 envelope of the slowest natural mode; and phasor diagrams with the claimed and exact
@@ -21,7 +22,7 @@ from handcheck.errors import HandcheckError, ParseError
 from handcheck.record.document import write_figure
 from handcheck.record.visible import visible
 from handcheck.solve.quantities import parse_quantity
-from handcheck.verify.claims import read_claim, to_complex
+from handcheck.verify.claims import TIME, read_claim, to_complex
 from handcheck.verify.evidence import Evidence, _numeric, _signals
 from handcheck.verify.findings import Report
 from handcheck.worksheet.values import read_frequency, read_value
@@ -136,6 +137,33 @@ def claimed_marks(report: Report) -> list[TimeMark]:
     return marks
 
 
+def _draw_claimed_functions(report: Report, waves: dict[str, Any], times: Any) -> None:
+    """Each claimed time function of a voltage or current, dashed over its waveform
+    (evaluated at 400 instants of the run, at 20 digits, for the picture only)."""
+    import numpy as np
+    import sympy
+
+    for step in report.steps:
+        if not step.quantity:
+            continue
+        try:
+            quantity = parse_quantity(step.quantity)
+            claim = read_claim(step.claimed)
+        except HandcheckError:
+            continue
+        if claim.form != "function" or quantity.name not in ("voltage", "current"):
+            continue
+        axis = waves.get(_unit(quantity))
+        if axis is None:
+            continue
+        t = np.linspace(0.0, float(times[-1]), 400)
+        try:
+            values = [float(sympy.re(sympy.N(claim.value.expr.subs(TIME, x), 20))) for x in t]
+        except (TypeError, ValueError):
+            continue
+        axis.plot(t * 1e3, values, "--", lw=1.4, color="C3", label=f"{step.name} claimed (function of t)")
+
+
 def _draw_marks(marks: list[TimeMark], waves: dict[str, Any]) -> None:
     """Claimed instants as open circles, claimed peaks and final values as dashed levels;
     the exact value in black beside each (a cross, a dotted level). A peak is drawn on
@@ -216,6 +244,7 @@ def evidence_figure(report: Report, evidence: Evidence) -> Any:
     transients = {u: figure.add_subplot(grid[len(units) + k, :], sharex=first) for k, u in enumerate(units)}
     _draw_waves(evidence, signals, rows, waves, transients)
     _draw_marks(claimed_marks(report), waves)
+    _draw_claimed_functions(report, waves, sim.times)
     for unit in units:
         waves[unit].set_ylabel(f"{_KIND[unit]} [{unit}]")
         transients[unit].set_ylabel(f"transient [{unit}]")
