@@ -146,3 +146,11 @@ def test_bad_claims():
         read_claim("R1 * 2")
     with pytest.raises(ParseError, match="one unit"):
         read_claim("12 ohm - 3j ohm")
+
+
+@pytest.mark.parametrize(("text", "meant"), [("10 uf", "uF"), ("1 Kohm", "kohm"), ("3 MHZ", "MHz"), ("4.7 nf", "nF")])
+def test_a_unit_in_the_wrong_case_is_named_in_the_message(text, meant):
+    # SI prefixes and unit symbols are case-sensitive (SI Brochure, 9th ed., 2019, sections
+    # 3 and 5.2, from memory): the message says which spelling is meant.
+    with pytest.raises(ParseError, match=f'did you mean "{meant}"'):
+        read_claim(text)

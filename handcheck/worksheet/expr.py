@@ -29,7 +29,7 @@ from dataclasses import dataclass
 from fractions import Fraction
 
 from handcheck.errors import HandcheckError, LimitError, ParseError
-from handcheck.worksheet.units import UnitError, lookup_unit
+from handcheck.worksheet.units import UnitError, lookup_unit, suggest_unit
 
 __all__ = [
     "Binary",
@@ -257,7 +257,7 @@ class _Parser:
             if tok.kind == "name" and after_number and tok.text not in self.names and tok.text not in RESERVED:
                 raise self.error(
                     f'"{tok.text}" after a number is not a unit handcheck knows (for example ohm, kohm, uF, mH, '
-                    "V, mA, Hz, rad/s, deg), nor a name in this worksheet"
+                    "V, mA, Hz, rad/s, deg), nor a name in this worksheet" + _did_you_mean(tok.text)
                 )
             if tok.kind in ("num", "name"):
                 raise self.error(
@@ -391,6 +391,7 @@ class _Parser:
             if tok.glued and tok.text not in self.names and tok.text not in RESERVED:
                 raise self.error(
                     f'"{tok.text}" is not a unit handcheck knows (for example ohm, kohm, uF, mH, V, mA, Hz, rad/s, deg)'
+                    + _did_you_mean(tok.text)
                 )
             return (), end
         words: list[tuple[str, int]] = []
@@ -471,3 +472,9 @@ def names_in(node: Node) -> list[str]:
         if isinstance(sub, Name):
             seen.setdefault(sub.ident, None)
     return list(seen)
+
+
+def _did_you_mean(word: str) -> str:
+    """``'; did you mean "uF"?'`` for a unit written in the wrong case, else ``""``."""
+    found = suggest_unit(word)
+    return f'; did you mean "{found}"?' if found else ""

@@ -215,3 +215,35 @@ def is_unit(name: str) -> bool:
     except UnitError:
         return False
     return True
+
+
+_SUGGESTED_PREFIXES = ("", "p", "n", "u", "m", "k", "M", "G")
+_SUGGESTED_UNITS = ("ohm", "F", "H", "V", "A", "Hz", "W", "VA", "var", "s", "S")
+
+
+def suggest_unit(word: str) -> str | None:
+    """A unit the mistyped ``word`` most likely means: the same letters in the case the
+    SI writes them (``"uf"`` -> ``"uF"``, ``"Kohm"`` -> ``"kohm"``, ``"ohms"`` ->
+    ``"ohm"``); None when no unit spells the same.
+
+    Parameters
+    ----------
+    word
+        A word after a number that is no unit.
+
+    Returns
+    -------
+    str or None
+
+    Examples
+    --------
+    >>> suggest_unit("uf"), suggest_unit("Kohm"), suggest_unit("MHZ"), suggest_unit("xyz")
+    ('uF', 'kohm', 'MHz', None)
+    """
+    folded = word.lower().removesuffix("s") if word.lower().endswith("ohms") else word.lower()
+    found = [p + u for p in _SUGGESTED_PREFIXES for u in _SUGGESTED_UNITS if (p + u).lower() == folded]
+    found = [f for f in found if f != word]
+    if not found:
+        return None
+    same_prefix = [f for f in found if f[:1] == word[:1]]
+    return (same_prefix or found)[0]
