@@ -53,24 +53,35 @@ class PhasorRow:
     analysis: bool
 
 
+def _claimed_steps(report: Report) -> list[tuple[Any, Any, Any]]:
+    """(step, its quantity, its claim) for every step whose quantity and claim read."""
+    found = []
+    for step in report.steps:
+        if not step.quantity:
+            continue
+        try:
+            found.append((step, parse_quantity(step.quantity), read_claim(step.claimed)))
+        except HandcheckError:
+            continue
+    return found
+
+
 def _claimed_phasors(report: Report, circuit: Any) -> list[PhasorRow]:
     """The phasor claims of voltages and currents, at the analysis frequency or at the
     frequency an ``at_frequency(...)`` step names."""
     to_peak = 1.0 if circuit.phasors == "peak" else math.sqrt(2)
     analysis_hz = float(circuit.omega) / (2 * math.pi)
     rows = []
-    for step in report.steps:
-        if not step.quantity or step.exact is None:
+    for step, named, claim in _claimed_steps(report):
+        if step.exact is None:
             continue
         try:
-            quantity = parse_quantity(step.quantity)
-            claim = read_claim(step.claimed)
-            hz, quantity = _frequency_of(quantity, analysis_hz)
+            hz, quantity = _frequency_of(named, analysis_hz)
         except HandcheckError:
             continue
         if quantity.name not in ("voltage", "current") or claim.form not in ("polar", "rect"):
             continue
-        unit = "V" if quantity.name == "voltage" else "A"
+        unit = _unit(quantity)
         claimed, exact = to_complex(claim.value.expr) * to_peak, to_complex(step.exact) * to_peak
         rows.append(PhasorRow(step.name, unit, hz, claimed, exact, math.isclose(hz, analysis_hz, rel_tol=1e-9)))
     return rows
@@ -101,13 +112,8 @@ def claimed_marks(report: Report) -> list[TimeMark]:
     """The real claims of ``at``, ``initial``, ``peak`` and ``final`` of a voltage or
     current, to be drawn where the reader compares them with the waveform."""
     marks = []
-    for step in report.steps:
-        if not step.quantity or step.expected_si is None:
-            continue
-        try:
-            quantity = parse_quantity(step.quantity)
-            claim = read_claim(step.claimed)
-        except HandcheckError:
+    for step, quantity, claim in _claimed_steps(report):
+        if step.expected_si is None:
             continue
         args = quantity.args
         if quantity.name not in _LEVELS or not args or getattr(args[0], "name", None) not in ("voltage", "current"):
@@ -143,14 +149,7 @@ def _draw_claimed_functions(report: Report, waves: dict[str, Any], times: Any) -
     import numpy as np
     import sympy
 
-    for step in report.steps:
-        if not step.quantity:
-            continue
-        try:
-            quantity = parse_quantity(step.quantity)
-            claim = read_claim(step.claimed)
-        except HandcheckError:
-            continue
+    for step, quantity, claim in _claimed_steps(report):
         if claim.form != "function" or quantity.name not in ("voltage", "current"):
             continue
         axis = waves.get(_unit(quantity))

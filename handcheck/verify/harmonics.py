@@ -20,6 +20,7 @@ from handcheck.solve.phasor import solve
 from handcheck.solve.quantities import Quantity, evaluate_quantity
 from handcheck.verify.claims import Claim, Tolerance, agrees, to_complex
 from handcheck.verify.present import format_number, format_value
+from handcheck.worksheet.evaluate import Value
 
 __all__ = ["SUMMED", "other_frequencies_note"]
 
@@ -65,7 +66,7 @@ def other_frequencies_note(circuit: Circuit, quantity: Quantity, claim: Claim, t
     total = own.expr + sum(parts)
     named = ", ".join("DC" if w == 0 else f"{format_number(float(w / (2 * sympy.pi)), 6)} Hz" for w in others)
     here = "DC" if circuit.omega == 0 else f"{format_number(float(circuit.frequency), 6)} Hz"
-    total_value = type(own)(total, own.dim)
+    total_value = Value(total, own.dim)
     note = (
         f"{quantity.text} is the part at the analysis frequency ({here}) only; the sources also run at "
         f"{named}, and over every frequency together it is {format_value(total_value, claim)}"
