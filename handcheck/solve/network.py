@@ -70,6 +70,12 @@ degree 128):
   recurrence and the adjugate recursion runs on K's nonzero entries in
   integers: at N = 128 (386 unknowns) 0.03 s against 0.84 s for
   ``fmpq_mat.charpoly`` and 0.13 s against 0.43 s for the recursion;
+  since then the matrices stay sparse through the whole reduction (only the
+  block that is solved goes to python-flint's dense ``fmpq_mat`` and back):
+  the reduction, characteristic polynomial, adjugate vectors and the output
+  voltage take 0.08 s at N = 64 against 0.24 s with dense flint-backed
+  matrices, and 0.22-0.29 s at N = 128 against 1.06 s, most of it having gone
+  into converting dense 386 x 386 matrices between sympy and python-flint;
 * the same algorithm on the general route (sympy's sparse pure-Python
   matrices and its Berkowitz characteristic polynomial; used for algebraic
   entries or without python-flint): 1.07-1.15 s;
@@ -296,7 +302,7 @@ def _hessenberg_charpoly(entries: dict, r: int) -> list | None:
     return [*coeffs, *([flint.fmpq(0)] * (r + 1 - len(coeffs)))]
 
 
-def _adjugate_columns(ss: StateSpace, d: list, deadline: float | None) -> Any:
+def _adjugate_columns(ss: StateSpace, d: list, deadline: float | None, use_flint: bool = True) -> Any:
     """Coefficient vectors of ``u(sigma) = adj(sigma I + K) g`` as columns (a
     DomainMatrix, or :class:`_IntegerColumns` on the python-flint path).
 
@@ -311,8 +317,8 @@ def _adjugate_columns(ss: StateSpace, d: list, deadline: float | None) -> Any:
 
     Km, g = ss.K, ss.g
     r = Km.shape[0]
-    if getattr(Km.rep, "is_DFM", False) and getattr(g.rep, "is_DFM", False):
-        return _adjugate_flint(Km.to_dfm().rep, g.to_dfm().rep, d, deadline)
+    if use_flint and _flint_rationals(Km.domain):
+        return _adjugate_flint(Km.to_dod(), g.to_dod(), r, d, deadline)
     cols = [None] * r
     u = g
     cols[r - 1] = u
@@ -326,30 +332,38 @@ def _adjugate_columns(ss: StateSpace, d: list, deadline: float | None) -> Any:
     return DomainMatrix.hstack(*cols)
 
 
-def _adjugate_flint(Kf: Any, gf: Any, d: list, deadline: float | None) -> Any:
-    """:func:`_adjugate_columns` on python-flint's ``fmpq_mat``, in integers.
+def _flint_rationals(dom: Any) -> bool:
+    """Whether ``dom`` is sympy's ``QQ`` with python-flint's ``fmpq`` as elements."""
+    if not dom.is_QQ:
+        return False
+    try:
+        import flint
+    except ImportError:  # pragma: no cover - python-flint is a dependency
+        return False
+    return dom.dtype is flint.fmpq
 
-    With ``K = Kz / delta`` and ``g = gz / gamma`` (common denominators) the
-    coefficients of ``det(sigma I + K)`` are ``d_j = E_j / delta^(r-j)`` with
-    integers ``E_j`` (those of ``det(sigma I + Kz)``), and ``u_j = w_j / (delta^(r-1-j)
-    gamma)`` where ``w_{r-1} = gz``, ``w_{j-1} = E_j gz - Kz w_j``: the same recursion
-    in integers, multiplying only K's nonzero entries, with one division per entry
-    at the end instead of a reduced fraction after every operation. The
-    certificate ``Kz w_0 = E_0 gz`` is checked as in :func:`_adjugate_columns`.
+
+def _adjugate_flint(K: dict, gd: dict, r: int, d: list, deadline: float | None) -> _IntegerColumns:
+    """:func:`_adjugate_columns` over python-flint's ``fmpq``, in integers.
+
+    ``K`` and ``gd`` are the nonzero entries (``{row: {col: fmpq}}``) of ``K`` and of
+    the column ``g``. With ``K = Kz / delta`` and ``g = gz / gamma`` (common
+    denominators) the coefficients of ``det(sigma I + K)`` are ``d_j = E_j /
+    delta^(r-j)`` with integers ``E_j`` (those of ``det(sigma I + Kz)``), and ``u_j =
+    w_j / (delta^(r-1-j) gamma)`` where ``w_{r-1} = gz``, ``w_{j-1} = E_j gz - Kz w_j``:
+    the same recursion in integers, multiplying only K's nonzero entries, with one
+    division per entry at the end instead of a reduced fraction after every
+    operation. The certificate ``Kz w_0 = E_0 gz`` is checked as in
+    :func:`_adjugate_columns`.
     """
     import math
 
     import flint
 
-    r = Kf.nrows()
-    entries = Kf.entries()
-    g = [gf[i, 0] for i in range(r)]
-    delta = math.lcm(*(int(e.q) for e in entries if e != 0), 1)
+    g = [gd.get(i, {}).get(0, flint.fmpq(0)) for i in range(r)]
+    delta = math.lcm(*(int(e.q) for row in K.values() for e in row.values()), 1)
     gamma = math.lcm(*(int(e.q) for e in g if e != 0), 1)
-    rows = []
-    for i in range(r):
-        cols = [c for c in range(r) if entries[i * r + c] != 0]
-        rows.append([(c, int(entries[i * r + c] * delta)) for c in cols])
+    rows = [[(c, int(v * delta)) for c, v in sorted(K.get(i, {}).items())] for i in range(r)]
     gz = [int(e * gamma) for e in g]
     E = [d[j] * flint.fmpq(delta) ** (r - j) for j in range(r + 1)]
     if any(e.q != 1 for e in E):  # cannot happen for a characteristic polynomial of K
@@ -371,20 +385,30 @@ def _adjugate_flint(Kf: Any, gf: Any, d: list, deadline: float | None) -> Any:
     if times_k(vectors[-1]) != [Ez[0] * x for x in gz]:
         raise ArithmeticError("characteristic polynomial failed its check K u0 = d0 g")
     vectors.reverse()  # vectors[j] holds w_j, the coefficient of sigma**j times delta^(r-1-j) gamma
-    scale = [flint.fmpz(delta) ** (r - 1 - j) * gamma for j in range(r)]
-    return _IntegerColumns(flint.fmpz_mat(r, r, [vectors[j][i] for i in range(r) for j in range(r)]), scale)
+    return _IntegerColumns(vectors, [flint.fmpz(delta) ** (r - 1 - j) * gamma for j in range(r)])
 
 
 class _IntegerColumns:
-    """The adjugate vectors as integers: column j of ``matrix`` divided by ``scale[j]``
-    (made into fractions only for the unknowns asked for)."""
+    """The adjugate vectors as integers: ``vectors[j]`` divided by ``scale[j]`` is the
+    coefficient vector of ``sigma**j`` (made into fractions only for the unknowns
+    asked for)."""
 
-    def __init__(self, matrix: Any, scale: list) -> None:
-        self.matrix, self.scale = matrix, scale
+    def __init__(self, vectors: list[list[int]], scale: list) -> None:
+        self.vectors, self.scale = vectors, scale
 
-    def times(self, row: Any) -> list:
-        """``row * U`` for a 1 x r ``fmpq_mat``, as a list of fmpq."""
-        return [p / sc for p, sc in zip((row * self.matrix).entries(), self.scale, strict=True)]
+    def times(self, row: dict) -> list:
+        """``row * U`` for a row given by its nonzero entries ``{col: fmpq}``, as a list of fmpq."""
+        import flint
+
+        terms = [(int(v.p), int(v.q), c) for c, v in row.items()]
+        out = []
+        for w, sc in zip(self.vectors, self.scale, strict=True):
+            total = flint.fmpq(0)
+            for p, q, c in terms:
+                if w[c]:
+                    total += flint.fmpq(p * w[c], q)
+            out.append(total / sc)
+        return out
 
 
 class NetworkFunctions:
@@ -415,10 +439,10 @@ class NetworkFunctions:
         low = [ck * dj for dj in d]  # c_k D(sigma)
         if self._umat is not None:
             row = ss.w_row(k)
-            if isinstance(self._umat, type(row)):
+            if isinstance(self._umat, _IntegerColumns):
+                products = self._umat.times(row.to_dod().get(0, {}))
+            else:
                 products = (row * self._umat).to_list()[0]
-            else:  # integer columns from _adjugate_flint
-                products = self._umat.times(row.to_dfm().rep)
             for j, w in enumerate(products):
                 low[j] = low[j] + w
         s = laplace_symbol()
@@ -451,20 +475,17 @@ def _prepare(G: Any, C: Any, b: Any, time_limit: float | None, use_flint: bool) 
             use_flint = False
     else:
         use_flint = False
+    # sparse throughout: a circuit's matrices are mostly zeros; the blocks that are
+    # solved go to python-flint's dense matrices and back (see handcheck.solve.pencil)
     Gm = DomainMatrix(Gd, (n, n), dom)
     Cm = DomainMatrix(Cd, (n, n), dom)
     bm = DomainMatrix(bd, (n, 1), dom)
-    if use_flint:
-        dense = [M.to_dense() for M in (Gm, Cm, bm)]
-        # dense only when sympy keeps it in flint; otherwise sparse pure Python
-        if all(getattr(M.rep, "is_DFM", False) for M in dense):
-            Gm, Cm, bm = dense
     check_deadline(deadline, "conversion")
 
-    ss = reduce_pencil(Gm, Cm, bm, range(n), deadline)
+    ss = reduce_pencil(Gm, Cm, bm, range(n), deadline, use_flint)
     d = _det_shifted(ss.K, use_flint)
     check_deadline(deadline, "characteristic polynomial")
-    umat = _adjugate_columns(ss, d, deadline) if ss.K.shape[0] else None
+    umat = _adjugate_columns(ss, d, deadline, use_flint) if ss.K.shape[0] else None
     return NetworkFunctions(ss, d, umat, dom, n, deadline)
 
 
