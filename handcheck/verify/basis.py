@@ -20,7 +20,7 @@ unit that does not match); this module adds no check of its own.
 from __future__ import annotations
 
 import dataclasses
-from collections.abc import Callable, Iterable
+from collections.abc import Callable, Iterable, Mapping
 
 import sympy
 
@@ -32,7 +32,7 @@ from handcheck.worksheet.evaluate import Value
 from handcheck.worksheet.model import StepSpec
 from handcheck.worksheet.units import dim_name, dim_of
 
-__all__ = ["basis_of", "formula_only_note", "matching_quantities", "settle", "unit_kind"]
+__all__ = ["basis_of", "formula_only_inputs_note", "formula_only_note", "matching_quantities", "settle", "unit_kind"]
 
 #: The start of the note every formula-basis step carries.
 FORMULA_ONLY = "checked only against its own formula, not against the circuit"
@@ -99,6 +99,30 @@ def formula_only_note(unit: str, matches: tuple[str, ...] = ()) -> str:
     if kinds:
         return f"{FORMULA_ONLY}: to check it, add the quantity it computes, such as quantity = {kinds}"
     return f"{FORMULA_ONLY}: to check it, add the quantity it computes (docs/worksheet.md lists them)"
+
+
+def formula_only_inputs_note(
+    finding: StepFinding, used: Iterable[str], earlier: Mapping[str, tuple[StepSpec, StepFinding]]
+) -> str | None:
+    """The note on a step whose formula fails on the true inputs (verdict ``formula``)
+    when it uses earlier steps checked against their own formulas only: their claims
+    stand only for their formulas' values, so a wrong formula there lands here; the
+    note names them as the likely source (the verdict and the first divergence stay)."""
+    if finding.verdict != "formula":
+        return None
+    names = [
+        n
+        for n in dict.fromkeys(used)
+        if n in earlier and basis_of(*earlier[n]) == "formula" and earlier[n][1].verdict == "agrees"
+    ]
+    if not names:
+        return None
+    which = ", ".join(names)
+    its = "its own formula" if len(names) == 1 else "their own formulas"
+    return (
+        f"it uses {which}, checked against {its} only, not against the circuit: if this step's formula is "
+        f"right, the slip is likely in {which}; give {names[0]} a quantity to check it against the circuit"
+    )
 
 
 def _candidates(circuit: Circuit, unit: str) -> Iterable[str]:

@@ -33,17 +33,9 @@ from handcheck.solve.phasor import Solution
 from handcheck.solve.quantities import TIME_DOMAIN, Quantity, evaluate_quantity, evaluate_values, parse_quantity
 from handcheck.solve.solutions import ExactSolutions
 from handcheck.solve.timequantities import evaluate_time_quantity
-from handcheck.verify.basis import matching_quantities, settle, unit_kind
+from handcheck.verify.basis import formula_only_inputs_note, matching_quantities, settle, unit_kind
 from handcheck.verify.carried import without_true_formula
-from handcheck.verify.claims import (
-    Claim,
-    Tolerance,
-    agrees,
-    read_claim,
-    read_tolerance,
-    relative_error,
-    to_complex,
-)
+from handcheck.verify.claims import Claim, Tolerance, agrees, read_claim, read_tolerance, relative_error, to_complex
 from handcheck.verify.cycles import expected_text, measure_note
 from handcheck.verify.findings import Diagnosis, Report, Shown, StepBase, StepFinding
 from handcheck.verify.harmonics import other_frequencies_note
@@ -57,7 +49,7 @@ from handcheck.verify.waveform import check_waveform, comparison_span
 from handcheck.worksheet.evaluate import Value, evaluate
 from handcheck.worksheet.expr import Node, names_in, parse
 from handcheck.worksheet.model import StepSpec, Worksheet
-from handcheck.worksheet.units import DIMENSIONLESS, dim_of
+from handcheck.worksheet.units import DIMENSIONLESS, dim_of, suggest_for
 
 __all__ = ["check", "part_environment"]
 
@@ -96,7 +88,9 @@ def _unit_finding(read: _Read, shown: Shown, truth: Value, formula_true: Value |
     claim, step = read.claim, read.step
     if claim.dim != truth.dim:
         what = "the quantity is in" if step.quantity else "the formula gives"
-        message = f"the claim is in {claim.dim or 'no unit'}, but {what} {truth.dim or 'no unit'}"
+        meant = suggest_for(claim.unit_text, truth.dim)
+        hint = f'; did you mean "{meant}"?' if meant else ""
+        message = f"the claim is in {claim.dim or 'no unit'}, but {what} {truth.dim or 'no unit'}{hint}"
         return StepFinding(**read.base, **shown, verdict="unit", message=message)
     if formula_true is not None and formula_true.dim != truth.dim:
         message = f"the formula gives {formula_true.dim or 'no unit'}, but the quantity is in {truth.dim or 'no unit'}"
@@ -479,6 +473,10 @@ class _Checker:
             return matching_quantities(self.circuit, unit, finding.exact, lambda text: self.steady_value(solved, text))
 
         settled = settle(step, finding, unit, matches)
+        if finding.verdict == "formula" and step.formula:
+            earlier = {s.name: (s, self.findings[s.name]) for s in self.worksheet.steps if s.name in self.findings}
+            used = formula_only_inputs_note(finding, names_in(parse(step.formula, self.names)), earlier)
+            settled = dataclasses.replace(settled, notes=(*settled.notes, used)) if used else settled
         quantity = parse_quantity(step.quantity) if step.quantity else None
         if quantity is None:
             return settled

@@ -26,7 +26,6 @@ from collections.abc import Callable
 import sympy
 
 from handcheck.circuit.model import Circuit, Part
-from handcheck.solve.quantities import Quantity
 from handcheck.verify.angles import plain_angle
 from handcheck.verify.claims import agrees, to_complex
 from handcheck.verify.mistakes_frequency import other_frequency, worksheet_frequencies
@@ -41,6 +40,7 @@ from handcheck.verify.rebuild import (
     formula_value,
     matches,
     matches_truth,
+    names_in_quantity,
     requantify,
     scaled,
     shown,
@@ -123,18 +123,6 @@ def _with_nodes(circuit: Circuit, parts: list[Part]) -> Circuit:
     return dataclasses.replace(circuit, parts=tuple(parts), nodes=tuple(nodes))
 
 
-def _names_in(q: Quantity) -> set[str]:
-    """Every node or part name a quantity refers to, nested quantities included (not
-    a substring of its text: a node "m" is not inside "impedance")."""
-    names: set[str] = set()
-    for arg in q.args:
-        if isinstance(arg, Quantity):
-            names |= _names_in(arg)
-        else:
-            names.add(arg)
-    return names
-
-
 def _rewired(ctx: Context, series_for_parallel: bool) -> str | None:
     """Two parts in parallel put in series (or two in series put in parallel), one
     pair at a time, and the quantity solved again."""
@@ -163,7 +151,7 @@ def _rewired(ctx: Context, series_for_parallel: bool) -> str | None:
                     for p in circuit.parts
                     if middle in p.nodes or (isinstance(p.control, tuple) and middle in p.control)
                 ]
-                if middle == "gnd" or len(touching) != 2 or middle in _names_in(ctx.quantity):
+                if middle == "gnd" or len(touching) != 2 or middle in names_in_quantity(ctx.quantity):
                     continue
                 ends = [n for n in (*first.nodes, *second.nodes) if n != middle]
                 parts[i] = dataclasses.replace(first, nodes=(ends[0], ends[1]))
@@ -394,6 +382,9 @@ def _angle_left_out(ctx: Context) -> bool:
     phasor a little would "reproduce" it. No diagnosis is offered then."""
     if ctx.claim.form != "polar" or ctx.truth is None:
         return False
+    truth = to_complex(ctx.truth.expr)
+    if truth.real < 0 and abs(truth.imag) <= 1e-6 * abs(truth):
+        return False  # 180 deg from the claim: a sign, not an angle left out
     if sympy.arg(ctx.claim.value.expr) != 0:
         return False
     magnitude = abs(to_complex(ctx.truth.expr))

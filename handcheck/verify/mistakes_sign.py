@@ -1,6 +1,7 @@
 """The catalogue's sign mistakes (second edition): ``sign-convention`` (a power or a
-source current claimed with the opposite sign convention) and ``reversed-nodes``
-(the claim is what the circuit gives with one source's nodes swapped)."""
+source current claimed with the opposite sign convention, or an inverting stage's
+gain written without its minus sign) and ``reversed-nodes`` (the claim is what the
+circuit gives with one source's nodes swapped)."""
 
 from __future__ import annotations
 
@@ -11,7 +12,7 @@ from handcheck.errors import HandcheckError, TimeLimitError
 from handcheck.solve.phasor import solve
 from handcheck.solve.quantities import Quantity, evaluate_quantity
 from handcheck.verify.claims import agrees, to_complex
-from handcheck.verify.rebuild import Context, matches, requantify, same, shown
+from handcheck.verify.rebuild import Context, matches, names_in_quantity, requantify, same, shown
 
 __all__ = ["reversed_nodes", "sign_convention"]
 
@@ -32,6 +33,9 @@ def sign_convention(ctx: Context) -> str | None:
     negated = -ctx.truth.expr
     if not matches(ctx, negated):
         return None
+    inverted = _dropped_minus(ctx, q)
+    if inverted is not None:
+        return inverted
     names = ", ".join(str(a) for a in q.args)
     right = shown(ctx, ctx.truth.expr)
     if q.name in _SIGNED_POWER:
@@ -63,6 +67,58 @@ def sign_convention(ctx: Context) -> str | None:
                 f"current({part.id}) is the current through it from {first} to {second} (it enters at {first}), "
                 f"the opposite sign: write {right}"
             )
+    return None
+
+
+#: Quantities whose sign an inverting stage sets: a gain, or a voltage after the stage.
+_GAINS = frozenset({"transfer", "dc_gain", "hf_gain"})
+
+
+def _dropped_minus(ctx: Context, q: Quantity) -> str | None:
+    """An inverting op-amp stage's gain (or a voltage after it) claimed without its
+    minus sign: the truth is negative (180 deg from the input) and the claim is its
+    size, as "Rf/Rin" gives it. The gain of the inverting amplifier is -Rf/Rin (Sedra &
+    Smith, Microelectronic Circuits, 7th ed., sec. 2.2, from memory); quoting its size
+    for the gain is common practice in design notes, and the sign is then lost
+    downstream."""
+    assert ctx.truth is not None
+    value = to_complex(ctx.truth.expr)
+    if not value.real < 0 or abs(value.imag) > 1e-6 * abs(value) or q.name not in (*_GAINS, "voltage"):
+        return None
+    stage = _inverting_stage(ctx.circuit, names_in_quantity(q))
+    if stage is None:
+        return None
+    amp, feedback, inputs = stage
+    ratio = f"-{feedback}/{inputs}"
+    right = shown(ctx, ctx.truth.expr)
+    if q.name in _GAINS:
+        return (
+            f"the number is the gain without its minus sign: the inverting stage {amp} gives {ratio} (the output "
+            f"is 180 deg from the input): write {right}; magnitude({q.text}) is the size without the sign"
+        )
+    return (
+        f"the number is the voltage without the minus sign of the inverting stage {amp}: it gives {ratio} times "
+        f"its input (180 deg from it): write {right}; magnitude({q.text}) is the size without the sign"
+    )
+
+
+def _inverting_stage(circuit: Circuit, names: set[str]) -> tuple[str, str, str] | None:
+    """The op-amp of an inverting stage whose output the quantity names (its output
+    node, or a part on it), with its feedback part (inverting input to output) and its
+    input part (into the inverting input from elsewhere): their ids, or "Zf" and "Zin"."""
+    passive = [p for p in circuit.parts if p.kind in ("resistor", "inductor", "capacitor")]
+    for amp in circuit.parts:
+        if amp.kind != "opamp" or len(amp.nodes) != 3:
+            continue
+        out, _, minus = amp.nodes
+        on_output = {out} | {p.id for p in circuit.parts if out in p.nodes}
+        if not names & on_output:
+            continue
+        feedback = [p for p in passive if set(p.nodes) == {minus, out}]
+        inputs = [p for p in passive if minus in p.nodes and out not in p.nodes]
+        if feedback and inputs:
+            resistive = len(feedback) == len(inputs) == 1 and {feedback[0].kind, inputs[0].kind} == {"resistor"}
+            return (amp.id, feedback[0].id, inputs[0].id) if resistive else (amp.id, "Zf", "Zin")
     return None
 
 

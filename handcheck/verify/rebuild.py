@@ -33,6 +33,7 @@ __all__ = [
     "is_phasor",
     "matches",
     "matches_truth",
+    "names_in_quantity",
     "node_voltages",
     "replaced",
     "requantify",
@@ -104,6 +105,15 @@ def requantify(ctx: Context, circuit: Circuit) -> sympy.Expr | None:
         raise
     except (HandcheckError, NotImplementedError, ZeroDivisionError):
         return None
+
+
+def names_in_quantity(q: Quantity) -> set[str]:
+    """Every node or part name a quantity refers to, nested quantities included (not
+    a substring of its text: a node "m" is not inside "impedance")."""
+    names: set[str] = set()
+    for arg in q.args:
+        names |= names_in_quantity(arg) if isinstance(arg, Quantity) else {arg}
+    return names
 
 
 def node_voltages(circuit: Circuit, nodes: tuple[str, ...]) -> tuple[sympy.Expr, ...] | None:

@@ -8,7 +8,8 @@ step's percentage, or under "digits" up to the claim's resolution (the relative
 digits of its written numbers added, see :func:`handcheck.verify.claims.read_claim`). A list claim agrees when it
 has as many values as the quantity and each claimed value, paired with the nearest
 true value not yet taken, agrees with it (each within its own digits or the
-percentage).
+percentage). A claimed function that differs is tried against the frequency-unit
+slip (s scaled by 2*pi, codes ``hertz-as-angular`` and ``angular-as-hertz``).
 """
 
 from __future__ import annotations
@@ -19,7 +20,7 @@ import mpmath
 import sympy
 
 from handcheck.verify.claims import LAPLACE, Claim, Tolerance, agrees, relative_error, to_complex
-from handcheck.verify.findings import Expected, StepBase, StepFinding, Verdict
+from handcheck.verify.findings import Diagnosis, Expected, StepBase, StepFinding
 from handcheck.verify.present import describe_rational, format_number, format_value
 from handcheck.worksheet.evaluate import Value
 
@@ -72,9 +73,23 @@ def check_function_of_s(base: StepBase, claim: Claim, truth: Value, tolerance: T
         return StepFinding(
             **base, **shown, verdict="agrees", error=0.0, message="the same rational function of s, exactly"
         )
-    f_true = sympy.lambdify(LAPLACE, truth.expr, "mpmath")
-    f_claim = sympy.lambdify(LAPLACE, claim.value.expr, "mpmath")
     grid = _grid(truth.expr, claim.value.expr)
+    error, worst = _largest_difference(truth.expr, claim.value.expr, grid)
+    limit = tolerance.relative if tolerance.relative is not None else max(claim.resolution[0], 1e-12)
+    message = (
+        f"compared at {GRID} frequencies from {format_number(grid[0], 4)} to {format_number(grid[-1], 4)} rad/s; "
+        f"largest relative difference {error:.3g} at {format_number(worst, 4)} rad/s (allowed {limit:.3g})"
+    )
+    if error <= limit:
+        return StepFinding(**base, **shown, verdict="agrees", error=error, message=message)
+    found = _s_scaled(truth.expr, claim.value.expr, limit, f"{describe_rational(truth.expr)} {claim.unit_text}".strip())
+    return StepFinding(**base, **shown, verdict="differs", error=error, message=message, diagnosis=found)
+
+
+def _largest_difference(truth: sympy.Expr, claimed: sympy.Expr, grid: list[float]) -> tuple[float, float]:
+    """The largest abs(Hc(jw) - H(jw)) / abs(H(jw)) over the grid, and the w where it is."""
+    f_true = sympy.lambdify(LAPLACE, truth, "mpmath")
+    f_claim = sympy.lambdify(LAPLACE, claimed, "mpmath")
     error, worst = 0.0, grid[0]
     for w in grid:
         s = mpmath.mpc(0, w)
@@ -86,13 +101,39 @@ def check_function_of_s(base: StepBase, claim: Claim, truth: Value, tolerance: T
         e = abs(written - exact) / abs(exact) if exact != 0 else abs(written)
         if e > error:
             error, worst = e, w
-    limit = tolerance.relative if tolerance.relative is not None else max(claim.resolution[0], 1e-12)
-    message = (
-        f"compared at {GRID} frequencies from {format_number(grid[0], 4)} to {format_number(grid[-1], 4)} rad/s; "
-        f"largest relative difference {error:.3g} at {format_number(worst, 4)} rad/s (allowed {limit:.3g})"
-    )
-    verdict: Verdict = "agrees" if error <= limit else "differs"
-    return StepFinding(**base, **shown, verdict=verdict, error=error, message=message)
+    return error, worst
+
+
+def _s_scaled(truth: sympy.Expr, claimed: sympy.Expr, limit: float, right: str) -> tuple[Diagnosis, ...]:
+    """The frequency-unit slip inside H(s): the claim is the true function with s
+    multiplied by 2*pi (its poles and zeros at 1/(2*pi) of the circuit's, figures in
+    hertz where s = jw needs rad/s, as a habitual 2*pi*f written with s for f gives)
+    or divided by it (2*pi applied to figures already in rad/s). Hertz and radians per
+    second confused is common practice's most frequent slip in filter notes; s is in
+    rad/s (DESIGN, "Readings that the tests rely on")."""
+    for factor, code, how in (
+        (
+            2 * sympy.pi,
+            "hertz-as-angular",
+            "multiplied by 2*pi: its poles and zeros sit at 1/(2*pi) of the circuit's, "
+            "their values in hertz where s needs rad/s (s = jw is angular already: a 2*pi*s, as in 2*pi*f, does not "
+            "belong in H(s))",
+        ),
+        (
+            1 / (2 * sympy.pi),
+            "angular-as-hertz",
+            "divided by 2*pi: its poles and zeros sit at 2*pi times the "
+            "circuit's (2*pi applied to figures already in rad/s)",
+        ),
+    ):
+        moved = truth.subs(LAPLACE, factor * LAPLACE)
+        if sympy.cancel(sympy.together(moved - truth)) == 0:
+            continue  # a function without s (or of s only through a constant) tells nothing
+        grid = _grid(moved, claimed)
+        if _largest_difference(moved, claimed, grid)[0] <= limit:
+            detail = f"the claim is the network function with s {how}: write {right}, what the circuit gives"
+            return (Diagnosis(code, detail),)
+    return ()
 
 
 def check_list(base: StepBase, claim: Claim, truths: tuple[Value, ...], tolerance: Tolerance) -> StepFinding:

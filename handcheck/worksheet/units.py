@@ -247,3 +247,33 @@ def suggest_unit(word: str) -> str | None:
         return None
     same_prefix = [f for f in found if f[:1] == word[:1]]
     return (same_prefix or found)[0]
+
+
+def suggest_for(word: str, wanted: Dim) -> str | None:
+    """The unit a ``word`` read as another dimension most likely means where ``wanted``
+    belongs: a prefixed hour in lower case where henry belongs (pint reads ``"mh"`` as
+    the millihour) gives ``"mH"``; None otherwise.
+
+    Parameters
+    ----------
+    word
+        A unit as written, which is a unit, but of another dimension than ``wanted``.
+    wanted
+        The dimension the value or claim must have.
+
+    Returns
+    -------
+    str or None
+
+    Examples
+    --------
+    >>> suggest_for("mh", dim_of("H")), suggest_for("uh", dim_of("H")), suggest_for("ms", dim_of("H"))
+    ('mH', 'uH', None)
+    """
+    if wanted != _NAMED["H"] or len(word) < 2 or not word.endswith("h"):
+        return None
+    candidate = word[:-1] + "H"
+    try:
+        return candidate if lookup_unit(candidate).dim == wanted else None
+    except UnitError:
+        return None

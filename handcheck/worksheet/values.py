@@ -14,7 +14,7 @@ from handcheck.errors import HandcheckError, UnitError, WorksheetError
 from handcheck.worksheet.evaluate import evaluate
 from handcheck.worksheet.expr import Number, one_line, parse, walk
 from handcheck.worksheet.model import Worksheet
-from handcheck.worksheet.units import DIMENSIONLESS, Dim, dim_of
+from handcheck.worksheet.units import DIMENSIONLESS, Dim, dim_of, suggest_for
 
 __all__ = ["EXAMPLES", "read_angle", "read_frequency", "read_span", "read_value"]
 
@@ -80,7 +80,10 @@ def _read_value(text: str, unit: str, what: str, *, file: str | None, line: int 
             )
         found = str(value.dim) or "no unit"
         want = unit or "a plain number"
-        raise UnitError(f'{what} "{text}" is in {found}, but must be in {want}', file=file, line=line)
+        words = [w for n in walk(tree) if isinstance(n, Number) for w, power in n.unit if power == 1]
+        meant = next(filter(None, (suggest_for(w, expected) for w in words)), None)
+        hint = f'; did you mean "{meant}"?' if meant else ""
+        raise UnitError(f'{what} "{text}" is in {found}, but must be in {want}{hint}', file=file, line=line)
     if value.expr.has(sympy.I) or not value.expr.is_real:
         raise WorksheetError(f'{what} "{text}" must be a real number', file=file, line=line)
     return value.expr
