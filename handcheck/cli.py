@@ -232,12 +232,13 @@ def _run(args: argparse.Namespace) -> int:
             timer.cancel()
     evidence = result.evidence
     if simulating:
-        from handcheck.verify.evidence import describe
+        from handcheck.record.evidence_text import evidence_lines
+        from handcheck.record.text import terminal_width
 
         print(
             json.dumps(evidence_dict(evidence), ensure_ascii=False)
             if args.json
-            else "\n".join(visible(line) for line in describe(evidence))
+            else "\n".join(visible(line) for line in evidence_lines(evidence, terminal_width()))
         )
         if plot and not _plots(result, plot):
             return EXIT_BAD_INPUT

@@ -13,6 +13,7 @@ import pytest
 import handcheck
 import handcheck.verify.evidence as evidence_module
 from handcheck.circuit.build import build
+from handcheck.record.evidence_text import evidence_lines
 from handcheck.simulate import simulate
 from handcheck.simulate.run import FIT_PERIODS
 from handcheck.verify.evidence import (
@@ -21,7 +22,6 @@ from handcheck.verify.evidence import (
     STRETCH_CAP,
     closed_form_at,
     comparison_samples,
-    describe,
     gather_evidence,
 )
 
@@ -188,7 +188,7 @@ def test_a_sample_between_the_rule_s_picks_is_not_compared(ct, monkeypatch):
 def test_the_ct_evidence_states_its_rule_and_shows_decay_and_steady_state(ct):
     _, _, found = ct
     assert found.ok, found.problems
-    text = "\n".join(describe(found))
+    text = " ".join(" ".join(evidence_lines(found)).split())
     assert f"closed form against numerical at {found.compared} of {found.samples} samples" in text
     assert "double precision with numpy" in text
     assert found.compared <= 2 * STRETCH_CAP + STRETCH_CAP + SPREAD_SAMPLES + 2

@@ -1,6 +1,6 @@
 """Design-note slips that used to get no diagnosis: an inverting gain without its minus
 sign, an extra 2*pi inside a claimed H(s), a later step blamed for a formula-only step's
-error, and a millihenry written "mh".
+error, a millihenry written "mh", and the evidence lines wrapped in plain words.
 
 Every worksheet is invented. Each true value comes from an independent numpy nodal
 solution or a textbook closed form named beside it; the claims are the numbers a person
@@ -16,6 +16,7 @@ import pytest
 from test_mistakes_found import codes, detail, finding, sig
 
 import handcheck
+from handcheck.pipeline import run
 from handcheck.record.text import render
 
 HEAD = '[worksheet]\nformat = 1\ntitle = "design-note slips"\n'
@@ -281,3 +282,16 @@ def test_a_claim_in_mh_asks_for_henry_and_a_real_time_unit_gets_no_guess():
     with pytest.raises(handcheck.HandcheckError) as caught:
         handcheck.check_text(choke("2 ms"))
     assert "did you mean" not in str(caught.value)
+
+
+# -- 5. the evidence in the terminal ---------------------------------------------------------
+def test_evidence_lines_are_wrapped_and_in_plain_words(tmp_path):
+    path = tmp_path / "trap.toml"
+    path.write_text(trap("-1/(2*pi*f*C1)", -XC_WRONG))
+    result = run(path, evidence=True)
+    assert result.report is not None
+    text = render(result.report, "test", evidence=result.evidence, width=72)
+    block = text[text.index("numerical evidence") :].split("\n\n")[0]
+    assert all(len(line) <= 72 for line in block.splitlines())
+    assert "descriptor" not in text
+    assert "follows from the states at each instant" in " ".join(block.split())

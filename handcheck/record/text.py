@@ -132,10 +132,10 @@ def render(
         for note in step_notes(report, step):
             lines.extend(_wrap(note, indent))
     if evidence is not None:
-        from handcheck.verify.evidence import describe
+        from handcheck.record.evidence_text import evidence_lines
 
         lines.append("")
-        lines.extend(describe(evidence))
+        lines.extend(evidence_lines(evidence, columns))
     if audit:  # the audit's modules are loaded only for a worksheet that has one
         from handcheck.record.audit import audit_lines
 

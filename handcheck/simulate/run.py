@@ -431,6 +431,19 @@ def _outputs(model: StateModel, Q: np.ndarray) -> tuple[dict[str, np.ndarray], d
     return voltages, currents
 
 
+def _unknowns_text(index: int) -> str:
+    """How the circuit's other unknowns follow from its states, in words (``index`` is
+    the differential-algebraic index of the circuit equations: 0 or 1 when they follow
+    from the states at each instant, 2 or more when derivatives of sources enter)."""
+    if index <= 1:
+        return "every other node voltage and current follows from the states at each instant"
+    return (
+        "some node voltages or currents follow from the rate of change of a source or state "
+        f"(a loop of capacitors and voltage sources, or a cut of inductors and current sources: "
+        f"{index} levels of derivatives), handled exactly"
+    )
+
+
 def _rules_text(
     grid: _Grid,
     scale: _TimeScale,
@@ -448,7 +461,7 @@ def _rules_text(
     lines = [
         f"Method: exact discretisation x(t + h) = expm(A h) x(t) of {states} circuit state(s) "
         "augmented with the sources' own generators (oscillators for sinusoids, level and slope for "
-        f"straight pieces); descriptor index {index}.",
+        f"straight pieces); {_unknowns_text(index)}.",
         f"Step h = {step:.6g} s, equal to the sample interval (the step is never larger than the sample interval).",
         f"Samples: {total} intervals over {span:.6g} s (at least {min_samples} required).",
     ]

@@ -31,7 +31,6 @@ __all__ = [
     "Evidence",
     "closed_form_at",
     "comparison_samples",
-    "describe",
     "gather_evidence",
     "sample_rule",
 ]
@@ -432,27 +431,3 @@ def gather_evidence(
         transient=transient,
         fit=fit,
     )
-
-
-def describe(evidence: Evidence) -> list[str]:
-    """The evidence as lines of text for a terminal."""
-    lines = ["numerical evidence (independent time-domain solution):"]
-    lines.extend(f"  {line}" for line in evidence.rules.splitlines() if line.strip())
-    lines.append(f"  {evidence.settling}")
-    if evidence.phasor_agreement is not None:
-        lines.append(
-            f"  fitted phasors against exact ones: largest difference {evidence.phasor_agreement:.2g} of the drive"
-        )
-        for name, fitted, want in evidence.phasors:
-            lines.append(
-                f"    {name:<14} fitted {abs(fitted):.6g} ∠ {math.degrees(math.atan2(fitted.imag, fitted.real)):.4f} deg"
-                f"   exact {abs(want):.6g} ∠ {math.degrees(math.atan2(want.imag, want.real)):.4f} deg (peak)"
-            )
-    lines.append(f"  Kirchhoff's current law: largest residual {evidence.kcl_relative:.2g} of the largest current")
-    if evidence.comparison_rule:
-        lines.append(f"  {evidence.comparison_rule}")
-    for name, difference in evidence.waveforms:
-        lines.append(f"  closed form against numerical, {name}: largest difference {difference:.2g} of its peak")
-    lines.extend(f"  note: {n}" for n in evidence.notes)
-    lines.extend(f"  PROBLEM: {p}" for p in evidence.problems)
-    return lines
