@@ -6,13 +6,14 @@ the loader calls them so that no later stage reads worksheet text.
 
 from __future__ import annotations
 
+import functools
 from fractions import Fraction
 
 import sympy
 
 from handcheck.errors import HandcheckError, UnitError, WorksheetError
-from handcheck.worksheet.evaluate import evaluate
-from handcheck.worksheet.expr import Number, one_line, parse, walk
+from handcheck.worksheet.evaluate import Value, evaluate
+from handcheck.worksheet.expr import Node, Number, one_line, parse, walk
 from handcheck.worksheet.model import Worksheet
 from handcheck.worksheet.units import DIMENSIONLESS, Dim, dim_of, suggest_for
 
@@ -63,10 +64,17 @@ def read_value(text: str, unit: str, what: str, *, file: str | None = None, line
         raise one_line(exc) from None
 
 
+@functools.lru_cache(maxsize=1024)
+def _constant(text: str) -> tuple[Node, Value]:
+    """The parse and exact value of a constant's text (kept: a large circuit repeats
+    a handful of values in hundreds of parts)."""
+    tree = parse(text)
+    return tree, evaluate(tree, {}, text)
+
+
 def _read_value(text: str, unit: str, what: str, *, file: str | None, line: int | None) -> sympy.Expr:
     try:
-        tree = parse(text)
-        value = evaluate(tree, {}, text)
+        tree, value = _constant(text)
     except HandcheckError as exc:
         raise exc.located(file, line) from None
     expected = dim_of(unit) if unit else DIMENSIONLESS
