@@ -268,7 +268,7 @@ claim = "{claim}"
     )
 
 
-@pytest.mark.parametrize(("written", "meant"), [("2 mh", "mH"), ("470 uh", "uH")])
+@pytest.mark.parametrize(("written", "meant"), [("2 mh", "mH"), ("470 uh", "uH"), ("1.5 h", "H")])
 def test_an_inductor_in_lower_case_h_asks_for_henry(written, meant):
     with pytest.raises(handcheck.HandcheckError) as caught:
         handcheck.check_text(choke(written))

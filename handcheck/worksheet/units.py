@@ -251,8 +251,8 @@ def suggest_unit(word: str) -> str | None:
 
 def suggest_for(word: str, wanted: Dim) -> str | None:
     """The unit a ``word`` read as another dimension most likely means where ``wanted``
-    belongs: a prefixed hour in lower case where henry belongs (pint reads ``"mh"`` as
-    the millihour) gives ``"mH"``; None otherwise.
+    belongs: an hour in lower case, prefixed or not, where henry belongs (pint reads
+    ``"mh"`` as the millihour) gives ``"mH"``; None otherwise.
 
     Parameters
     ----------
@@ -267,10 +267,10 @@ def suggest_for(word: str, wanted: Dim) -> str | None:
 
     Examples
     --------
-    >>> suggest_for("mh", dim_of("H")), suggest_for("uh", dim_of("H")), suggest_for("ms", dim_of("H"))
-    ('mH', 'uH', None)
+    >>> suggest_for("mh", dim_of("H")), suggest_for("h", dim_of("H")), suggest_for("ms", dim_of("H"))
+    ('mH', 'H', None)
     """
-    if wanted != _NAMED["H"] or len(word) < 2 or not word.endswith("h"):
+    if wanted != _NAMED["H"] or not word.endswith("h"):
         return None
     candidate = word[:-1] + "H"
     try:
