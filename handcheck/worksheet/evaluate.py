@@ -11,10 +11,12 @@ from __future__ import annotations
 from collections.abc import Callable, Iterator, Mapping
 from dataclasses import dataclass
 from fractions import Fraction
+from itertools import islice
 
 import sympy
 
 from handcheck.errors import HandcheckError, LimitError, ParseError, UnitError
+from handcheck.worksheet import pifraction
 from handcheck.worksheet.expr import Binary, Call, Name, Node, Number, Unary, one_line, parse, printable
 from handcheck.worksheet.units import DIMENSIONLESS, Dim, lookup_unit
 
@@ -98,11 +100,22 @@ def _parallel(a: sympy.Expr, b: sympy.Expr) -> sympy.Expr:
     return a * b / (a + b)
 
 
-#: Operations above which abs() of a number avoids splitting it into real and imaginary parts.
+#: Operations above which abs() of a number avoids splitting it into real and imaginary parts;
+#: also the distinct subexpressions above which a value is large: arithmetic on it is done
+#: in canonical form where it has one (:mod:`handcheck.worksheet.pifraction`).
 _SMALL = 40
 
 
+def _large(expr: sympy.Expr) -> bool:
+    """True when ``expr`` has more than ``_SMALL`` distinct subexpressions."""
+    return next(islice(distinct_nodes(expr), _SMALL, None), None) is not None
+
+
 def _abs(v: sympy.Expr) -> sympy.Expr:
+    split = pifraction.parts(v) if _large(v) else None
+    if split is not None:
+        # sqrt(|v|^2) unevaluated: sympy would ask the sign of the large radicand
+        return sympy.Pow(split[2], sympy.S.Half, evaluate=False)
     if v.is_number and sympy.count_ops(v) > _SMALL:
         # sqrt(v conj(v)) is exact too, and costs no splitting into real and imaginary
         # parts (which grows with the size of v); the comparisons evaluate it certified.
@@ -158,6 +171,13 @@ class _Evaluator:
         self.env = env
         self.angle_scale = angle_scale
         self.functions = {**FUNCTIONS, **functions} if functions else FUNCTIONS
+        self.compact: set[sympy.Expr] = set()  # values made in canonical form by this evaluator
+
+    def fast(self, value: sympy.Expr | None) -> sympy.Expr | None:
+        """Note a value made in canonical form (None: there was none)."""
+        if value is not None:
+            self.compact.add(value)
+        return value
 
     def quote(self, node: Node) -> str:
         return self.text[node.start : node.end].strip()
@@ -169,7 +189,8 @@ class _Evaluator:
             return self.name(node)
         if isinstance(node, Unary):
             inner = self.run(node.operand)
-            return Value(-inner.expr, inner.dim)
+            negated = self.fast(pifraction.negated(inner.expr)) if _large(inner.expr) else None
+            return Value(-inner.expr if negated is None else negated, inner.dim)
         if isinstance(node, Binary):
             return self.checked(node, self.binary(node))
         if isinstance(node, Call):
@@ -183,9 +204,20 @@ class _Evaluator:
         )
 
     def checked(self, node: Node, value: Value) -> Value:
-        """The value, if it is finite and its exact numbers are of a workable size."""
+        """The value, if it is finite and its exact numbers are of a workable size.
+
+        A value of more than ``_SMALL`` distinct subexpressions that is a fraction of
+        polynomials in pi is rewritten in its canonical form
+        (:mod:`handcheck.worksheet.pifraction`), which keeps a chain of steps linear.
+        """
         expr = value.expr
         nodes = list(distinct_nodes(expr))
+        if len(nodes) > _SMALL and expr not in self.compact and not _NOT_FINITE_SET.intersection(nodes):
+            short = pifraction.canonical(expr, _MAX_BITS)
+            if short is not None:
+                expr = short
+                value = Value(short, value.dim)
+                nodes = list(distinct_nodes(expr))
         if any(node in _NOT_FINITE_SET for node in nodes):
             raise ParseError(
                 f'"{self.quote(node)}" has no finite value (a division by zero, or a function at a pole '
@@ -228,6 +260,12 @@ class _Evaluator:
         hint = f"; known names: {known}" if known else ""
         raise ParseError(f'unknown name "{ident}"{hint}', self.text, node.start + 1)
 
+    def combined(self, op: str, left: sympy.Expr, right: sympy.Expr) -> sympy.Expr | None:
+        """``left op right`` in canonical form when an operand is large (None: not done so)."""
+        if not (_large(left) or _large(right)):
+            return None
+        return self.fast(pifraction.combine(op, left, right, _MAX_BITS))
+
     def binary(self, node: Binary) -> Value:
         left = self.run(node.left)
         right = self.run(node.right)
@@ -239,19 +277,24 @@ class _Evaluator:
                     f'cannot {what} "{self.quote(node.left)}" ({left.dim or "no unit"}) and '
                     f'"{self.quote(node.right)}" ({right.dim or "no unit"}) in "{self.quote(node)}"'
                 )
+            fast = self.combined(op, left.expr, right.expr)
+            if fast is not None:
+                return Value(fast, left.dim)
             if op == "+":
                 return Value(left.expr + right.expr, left.dim)
             if op == "-":
                 return Value(left.expr - right.expr, left.dim)
             return Value(_parallel(left.expr, right.expr), left.dim)
         if op == "*":
-            return Value(left.expr * right.expr, left.dim * right.dim)
+            fast = self.combined(op, left.expr, right.expr)
+            return Value(left.expr * right.expr if fast is None else fast, left.dim * right.dim)
         if op == "/":
             if right.expr == 0:
                 raise ParseError(
                     f'division by zero: "{self.quote(node.right)}" is exactly 0', self.text, node.right.start + 1
                 )
-            return Value(left.expr / right.expr, left.dim / right.dim)
+            fast = self.combined(op, left.expr, right.expr)
+            return Value(left.expr / right.expr if fast is None else fast, left.dim / right.dim)
         if op == "^":
             return self.power(node, left, right)
         if op == "angle":
