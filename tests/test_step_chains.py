@@ -158,3 +158,16 @@ def test_a_step_of_the_chain_stays_exact_in_the_formula_language():
     certified = certify(value.expr)  # ball arithmetic; sympy's evalf of this form is slow
     assert certified is not None and certified.bound < 1e-14
     np.testing.assert_allclose(certified.value, reference, rtol=1e-14)
+
+
+def test_the_record_shows_a_long_chain_value_by_its_decimals():
+    # the exact form of step 30 is far longer than the record typesets; its decimal
+    # text is the certified value (reference: the mpmath recurrence above)
+    from handcheck.record.formula import exact_display
+
+    report = run_text(chain_worksheet(30), time_limit=30).report
+    assert report is not None and report.steps[-1].exact is not None
+    shown, decimal = exact_display(report.steps[-1].exact)
+    assert shown is None
+    real, imag = decimal.removesuffix("j").split(" - ")
+    np.testing.assert_allclose(complex(float(real), -float(imag)), reference_chain(30)[-1], rtol=1e-11)

@@ -19,6 +19,8 @@ from collections.abc import Mapping
 import sympy
 
 from handcheck.errors import HandcheckError
+from handcheck.solve.certified import certify
+from handcheck.worksheet.evaluate import distinct_nodes
 from handcheck.worksheet.expr import Binary, Call, Name, Node, Number, Unary, parse
 
 __all__ = [
@@ -252,6 +254,23 @@ def number_display(value: sympy.Expr, unit: str = "") -> sympy.Expr:
     return Polar(with_unit(abs(number), unit), sympy.Mul(Digits(f"{angle:.6g}"), _symbol("deg"), evaluate=False))
 
 
+def _digits_at_least(exact: sympy.Expr) -> int:
+    """A lower bound on the length of ``exact`` as text: its distinct subexpressions, and the
+    digits of its distinct rationals.
+
+    Each is printed at least once (an operation with its sign, a number with its digits);
+    counting them needs no printing.
+    """
+    digits = 0
+    for node in distinct_nodes(exact):
+        digits += 1  # every distinct subexpression prints one character at least
+        if isinstance(node, sympy.Rational):
+            digits += int((abs(node.p).bit_length() + node.q.bit_length() - 2) * math.log10(2))
+            if digits > MAX_EXACT_TEXT:
+                break
+    return digits
+
+
 def exact_display(exact: sympy.Expr) -> tuple[sympy.Expr | None, str]:
     """An exact value for display (``j`` for the imaginary unit), and its decimal text.
 
@@ -265,10 +284,13 @@ def exact_display(exact: sympy.Expr) -> tuple[sympy.Expr | None, str]:
         The display expression (None when the exact form is too long to typeset) and
         the value to 12 significant digits.
     """
-    value = complex(sympy.N(exact, 15))
+    # ball arithmetic, and text in no order: sympy's N walks a large value as a tree, and its
+    # printer orders the terms of a sum by their numerical values
+    certified = certify(exact)
+    value = certified.value if certified is not None else complex(sympy.N(exact, 15))
     re_text, im_text = f"{value.real:.12g}", f"{abs(value.imag):.12g}"
     sign = "-" if value.imag < 0 else "+"
     decimal = re_text if value.imag == 0 else f"{re_text} {sign} {im_text}j"
-    if len(sympy.sstr(exact)) > MAX_EXACT_TEXT:
+    if _digits_at_least(exact) > MAX_EXACT_TEXT or len(sympy.sstr(exact, order="none")) > MAX_EXACT_TEXT:
         return None, decimal
     return exact.xreplace({sympy.I: sympy.Symbol("j")}), decimal
