@@ -155,9 +155,13 @@ def test_a_step_of_the_chain_stays_exact_in_the_formula_language():
         for _ in range(40):
             z = 1 + z * (1j * mpmath.pi) / (z + 1j * mpmath.pi)
         reference = complex(z)
+    assert from_expr(value.expr) is not None  # still in canonical form (degree 80 in pi)
     certified = certify(value.expr)  # ball arithmetic; sympy's evalf of this form is slow
     assert certified is not None and certified.bound < 1e-14
     np.testing.assert_allclose(certified.value, reference, rtol=1e-14)
+    size = certify(evaluate_text("abs(z)", {"z": value}).expr)
+    assert size is not None
+    np.testing.assert_allclose(size.value, abs(reference), rtol=1e-14)
 
 
 def test_the_record_shows_a_long_chain_value_by_its_decimals():

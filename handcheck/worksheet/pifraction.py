@@ -30,8 +30,11 @@ import sympy
 
 __all__ = ["PiFraction", "canonical", "combine", "from_expr", "negated", "parts", "to_expr"]
 
-#: Largest whole power converted (the evaluator refuses larger ones anyway).
+#: Largest whole power of a value converted (the evaluator refuses larger ones anyway).
 MAX_POWER = 64
+#: Largest power of pi converted: a canonical form's own terms (degree about twice the
+#: length of a chain of steps).
+MAX_DEGREE = 100_000
 
 
 @dataclass(frozen=True)
@@ -131,7 +134,7 @@ def _convert(expr: sympy.Basic, memo: dict[sympy.Basic, PiFraction | None]) -> P
             out = parts[0]
             for p in parts[1:]:
                 out = combine(out, p)  # type: ignore[arg-type]
-    elif isinstance(expr, sympy.Pow) and expr.base is sympy.pi and expr.exp.is_Integer and 0 < expr.exp <= MAX_POWER:
+    elif isinstance(expr, sympy.Pow) and expr.base is sympy.pi and expr.exp.is_Integer and 0 < expr.exp <= MAX_DEGREE:
         out = PiFraction(flint.fmpq_poly([0] * int(expr.exp) + [1]), flint.fmpq_poly([]), flint.fmpq_poly([1]))
     elif isinstance(expr, sympy.Pow) and expr.exp.is_Integer and abs(int(expr.exp)) <= MAX_POWER:
         base = _convert(expr.base, memo)
