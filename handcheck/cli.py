@@ -335,25 +335,11 @@ def _plot(result: Any, out: str) -> None:
     _written("plots", path, existed)
 
 
-def _refuse(
-    args: argparse.Namespace, message: str, *, bare: str | None = None, file: str | None = None, line: int | None = None
-) -> int:
-    """Exit status 2: the one-line message on stderr.
-
-    With ``--json`` and one worksheet, stdout also gets one JSON object whose ``error``
-    holds the message without its location (``bare``), and the file and line where known (a
-    batch's array holds its own error entries instead; docs/errors.md).
-    """
-    say(message)
-    if getattr(args, "json", False) and not _is_batch(args):
-        from handcheck import __version__
-
-        error = {"message": message if bare is None else bare, "file": file or args.file, "line": line}
-        print(
-            json.dumps(
-                {"handcheck": __version__, "worksheet": args.file, "ok": False, "error": error}, ensure_ascii=False
-            )
-        )
+def _refuse(args: argparse.Namespace, message: str) -> int:
+    """Exit status 2: the one-line message on stderr. With --json, stdout of one worksheet
+    stays empty, as the first edition's callers rely on (a batch's array holds an error
+    object instead)."""
+    say(f"{message}")
     return EXIT_BAD_INPUT
 
 
@@ -396,18 +382,12 @@ def main(argv: Sequence[str] | None = None) -> int:
         where = "" if exc.file else f"{args.file}: "
         if getattr(args, "junit", None) and not _is_batch(args) and "is the worksheet itself" not in str(exc):
             _junit_refused(args, f"{where}{exc}")
-        return _refuse(
-            args, f"{where}{exc}", bare=str(exc).removeprefix(exc.where()), file=exc.file or args.file, line=exc.line
-        )
+        return _refuse(args, f"{where}{exc}")
     except OSError as exc:  # a plot that cannot be written, for one
         target = exc.filename or args.file
-        return _refuse(args, f"{target}: {exc.strerror or exc}", bare=str(exc.strerror or exc), file=str(target))
+        return _refuse(args, f"{target}: {exc.strerror or exc}")
     except RecursionError:
-        return _refuse(
-            args,
-            f"{args.file}: an expression is nested too deeply to read",
-            bare="an expression is nested too deeply to read",
-        )
+        return _refuse(args, f"{args.file}: an expression is nested too deeply to read")
     except KeyboardInterrupt:
         say("interrupted")
         return 130
