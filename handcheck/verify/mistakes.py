@@ -383,8 +383,8 @@ def _angle_left_out(ctx: Context) -> bool:
     if ctx.claim.form != "polar" or ctx.truth is None:
         return False
     truth = to_complex(ctx.truth.expr)
-    if truth.real < 0 and abs(truth.imag) <= 1e-6 * abs(truth):
-        return False  # 180 deg from the claim: a sign, not an angle left out
+    if truth.real < 0 and matches(ctx, -ctx.truth.expr):
+        return False  # 180 deg from the claim within its digits: a sign, not an angle left out
     if sympy.arg(ctx.claim.value.expr) != 0:
         return False
     magnitude = abs(to_complex(ctx.truth.expr))

@@ -5,13 +5,16 @@ circuit gives with one source's nodes swapped)."""
 
 from __future__ import annotations
 
+import cmath
 import dataclasses
+import math
 
-from handcheck.circuit.model import GROUND, Circuit
+from handcheck.circuit.model import GROUND, Circuit, Part
 from handcheck.errors import HandcheckError, TimeLimitError
 from handcheck.solve.phasor import solve
 from handcheck.solve.quantities import Quantity, evaluate_quantity
 from handcheck.verify.claims import agrees, to_complex
+from handcheck.verify.present import format_number
 from handcheck.verify.rebuild import Context, matches, names_in_quantity, requantify, same, shown
 
 __all__ = ["reversed_nodes", "sign_convention"]
@@ -76,30 +79,49 @@ _GAINS = frozenset({"transfer", "dc_gain", "hf_gain"})
 
 def _dropped_minus(ctx: Context, q: Quantity) -> str | None:
     """An inverting op-amp stage's gain (or a voltage after it) claimed without its
-    minus sign: the truth is negative (180 deg from the input) and the claim is its
-    size, as "Rf/Rin" gives it. The gain of the inverting amplifier is -Rf/Rin (Sedra &
-    Smith, Microelectronic Circuits, 7th ed., sec. 2.2, from memory); quoting its size
-    for the gain is common practice in design notes, and the sign is then lost
-    downstream."""
+    minus sign: the truth lies on the negative side (near 180 deg from the input) and
+    the claim is the truth negated, as "Rf/Rin" gives it. The gain of the inverting
+    amplifier is -Rf/Rin, and with a finite open-loop gain A it is
+    -(Rf/Rin)/(1 + (1 + Rf/Rin)/A); a one-pole op-amp (``gbw``) turns it a little off
+    180 deg (Sedra & Smith, Microelectronic Circuits, 7th ed., sec. 2.2 and 2.8, from
+    memory). Quoting its size for the gain is common practice in design notes, and the
+    sign is then lost downstream."""
     assert ctx.truth is not None
     value = to_complex(ctx.truth.expr)
-    if not value.real < 0 or abs(value.imag) > 1e-6 * abs(value) or q.name not in (*_GAINS, "voltage"):
+    if not value.real < 0 or q.name not in (*_GAINS, "voltage"):
         return None
     stage = _inverting_stage(ctx.circuit, names_in_quantity(q))
     if stage is None:
         return None
     amp, feedback, inputs = stage
-    ratio = f"-{feedback}/{inputs}"
+    ratio = _stage_gain(ctx.circuit.part(amp), f"{feedback}/{inputs}")
     right = shown(ctx, ctx.truth.expr)
+    turn = _turn(value)
     if q.name in _GAINS:
         return (
             f"the number is the gain without its minus sign: the inverting stage {amp} gives {ratio} (the output "
-            f"is 180 deg from the input): write {right}; magnitude({q.text}) is the size without the sign"
+            f"is {turn} from the input): write {right}; magnitude({q.text}) is the size without the sign"
         )
     return (
         f"the number is the voltage without the minus sign of the inverting stage {amp}: it gives {ratio} times "
-        f"its input (180 deg from it): write {right}; magnitude({q.text}) is the size without the sign"
+        f"its input ({turn} from it): write {right}; magnitude({q.text}) is the size without the sign"
     )
+
+
+def _stage_gain(amp: Part, ratio: str) -> str:
+    """The inverting stage's gain in words: -ratio for an ideal op-amp, the finite-gain
+    form with its open-loop gain A (and its one pole, with a ``gbw``)."""
+    if amp.value == 0:
+        return f"-{ratio}"
+    gain = f"-({ratio})/(1 + (1 + {ratio})/A) with its open-loop gain A = {format_number(float(amp.value), 6)}"
+    return gain if amp.gbw is None else f"{gain} at DC (its gbw adds one pole at gbw/A)"
+
+
+def _turn(value: complex) -> str:
+    """How far the output is turned from the input: 180 deg, or the angle itself."""
+    if abs(value.imag) <= 1e-6 * abs(value):
+        return "180 deg"
+    return f"{format_number(math.degrees(cmath.phase(value)), 4)} deg"
 
 
 def _inverting_stage(circuit: Circuit, names: set[str]) -> tuple[str, str, str] | None:
