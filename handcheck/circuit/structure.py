@@ -334,29 +334,6 @@ def _check_dangling(circuit: Circuit, named: frozenset[str] = frozenset()) -> No
     )
 
 
-def _check_exact_numbers(circuit: Circuit) -> None:
-    """An op-amp's gbw in Hz brings pi into the equations; a coupling may bring a square
-    root. The exact solver takes either, not both at once (no field holds pi and a
-    square root together there)."""
-    import sympy
-
-    poles = [p for p in circuit.parts if p.kind == "opamp" and p.gbw is not None and not p.gbw.is_Rational]
-    if not poles:
-        return
-    for part in circuit.parts:
-        if part.kind == "coupling":
-            first, second = (circuit.part(i) for i in part.inductors)
-            if not sympy.nsimplify(part.value * sympy.sqrt(first.value * second.value)).is_Rational:
-                raise CircuitError(
-                    f"op-amp {poles[0].id} has its gbw in Hz, which puts pi into the equations, and coupling "
-                    f"{part.id} makes an irrational mutual inductance k*sqrt(L1*L2); handcheck cannot solve "
-                    "both exactly together: write the gbw in rad/s, or a k for which k*sqrt(L1*L2) is rational",
-                    (poles[0].id, part.id),
-                    file=circuit.path,
-                    line=poles[0].line,
-                )
-
-
 def check_structure(circuit: Circuit, named: frozenset[str] = frozenset()) -> None:
     """Raise :class:`CircuitError` naming the parts if the circuit cannot be solved as drawn.
 
@@ -368,7 +345,6 @@ def check_structure(circuit: Circuit, named: frozenset[str] = frozenset()) -> No
     _check_islands(circuit)
     _check_voltage_loops(circuit, dc=False)
     _check_current_cuts(circuit, dc=False)
-    _check_exact_numbers(circuit)
 
 
 def check_dc(circuit: Circuit) -> None:

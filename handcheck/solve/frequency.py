@@ -26,7 +26,7 @@ import sympy
 from handcheck.errors import ParseError
 from handcheck.solve.network import laplace_symbol, solve_rational
 from handcheck.solve.phasor import Solution
-from handcheck.solve.rational import pi_field
+from handcheck.solve.rational import algebraic_pi_field, pi_field
 from handcheck.worksheet.evaluate import Value
 from handcheck.worksheet.units import Dim, dim_of
 
@@ -100,9 +100,13 @@ def _exact_poly(expr: sympy.Expr, s: sympy.Symbol) -> sympy.Poly:
     poly = sympy.Poly(expr, s)
     if poly.domain.is_EX:
         try:
-            return sympy.Poly(expr, s, extension=True)
+            poly = sympy.Poly(expr, s, extension=True)
         except (sympy.PolynomialError, NotImplementedError):
             return poly
+    if poly.domain.is_EX:  # pi (a gbw in Hz) and a square root (a coupling) together
+        field = algebraic_pi_field(poly.coeffs())
+        if field is not None:
+            return sympy.Poly(expr, s, domain=field)
     return poly
 
 
@@ -123,7 +127,7 @@ def _response(expr: sympy.Expr, dim: Dim, text: str) -> Response:
     if d.is_zero:
         raise _fail(f"{text}: the second quantity is identically 0, so the ratio is not defined", text)
     lc = d.LC()
-    return Response(sympy.Poly(n.as_expr() / lc, s), sympy.Poly(d.as_expr() / lc, s), dim)
+    return Response(_exact_poly(n.as_expr() / lc, s), _exact_poly(d.as_expr() / lc, s), dim)
 
 
 def impedance_function(solution: Solution, args: tuple[str, ...], text: str) -> Response:
@@ -195,14 +199,14 @@ def _split(poly: sympy.Poly, w: sympy.Symbol) -> tuple[sympy.Poly, sympy.Poly]:
             re_part += term
         else:
             im_part += term / sympy.I
-    return sympy.Poly(re_part, w), sympy.Poly(im_part, w)
+    return _exact_poly(re_part, w), _exact_poly(im_part, w)
 
 
 def _positive_roots(poly: sympy.Poly) -> list[sympy.Expr]:
     """The distinct positive real roots of a real polynomial, exact, ascending."""
     if poly.is_zero or poly.degree() <= 0:
         return []
-    squarefree = sympy.Poly(sympy.quo(poly, sympy.gcd(poly, poly.diff())), poly.gen)
+    squarefree = _exact_poly(sympy.quo(poly, sympy.gcd(poly, poly.diff())).as_expr(), poly.gen)
     if pi_field(squarefree.domain):  # pi from an op-amp's gbw in Hz: the roots of handcheck.solve.roots
         from handcheck.solve.roots import factor_roots
 

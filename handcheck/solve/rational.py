@@ -17,7 +17,14 @@ from typing import TYPE_CHECKING, Any
 if TYPE_CHECKING:  # pragma: no cover - typing only
     import sympy
 
-__all__ = ("RationalFunction", "laplace_symbol", "number_field", "pi_field", "to_sympy_number")
+__all__ = (
+    "RationalFunction",
+    "algebraic_pi_field",
+    "laplace_symbol",
+    "number_field",
+    "pi_field",
+    "to_sympy_number",
+)
 
 
 def laplace_symbol() -> sympy.Symbol:
@@ -229,6 +236,39 @@ def number_field(exprs: list) -> tuple[Any, list]:
     if pi_field(K):
         F = K.get_field()  # pi from a gain-bandwidth product in Hz: the field QQ(pi), pi transcendental
         return F, [F.convert(e, K) for e in elems]
+    if K.is_EX:
+        mixed = algebraic_pi_field(exprs)
+        if mixed is not None:  # pi and a square root together: the field QQ<a>(pi)
+            return mixed, [mixed.from_sympy(e) for e in exprs]
     if not (K.is_QQ or K.is_QQ_I or K.is_AlgebraicField):
         raise TypeError(f"entries must be rational or algebraic numbers; they span {K}")
     return K, elems
+
+
+def algebraic_pi_field(exprs: list) -> Any:
+    """The field ``QQ<a>(pi)`` holding ``exprs``, or None when they are not all in one.
+
+    An op-amp's gbw in Hz brings pi into the equations and a coupling's mutual
+    inductance k*sqrt(L1*L2) a square root; sympy's domain constructor puts the two
+    together in its inexact-symbolic domain, so the field is built here: each number
+    is written as a ratio of polynomials in pi (pi replaced by a symbol, which is exact
+    because pi is transcendental), their coefficients span an algebraic field ``QQ<a>``
+    (primitive element), and the numbers lie in its field of fractions in pi.
+    """
+    import sympy
+    from sympy.polys.constructor import construct_domain
+
+    p = sympy.Dummy("p")
+    coefficients: list = []
+    for e in exprs:
+        num, den = sympy.fraction(sympy.together(e.subs(sympy.pi, p)))
+        try:
+            coefficients += sympy.Poly(num, p).coeffs() + sympy.Poly(den, p).coeffs()
+        except sympy.PolynomialError:
+            return None
+    A, _ = construct_domain(coefficients, extension=True)
+    if A.is_ZZ or A.is_QQ:
+        A = sympy.QQ
+    elif not A.is_AlgebraicField:
+        return None
+    return A.frac_field(sympy.pi)
