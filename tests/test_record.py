@@ -25,7 +25,7 @@ from handcheck.cli import main
 from handcheck.pipeline import record_inputs
 from handcheck.record.document import seal, write_atomic
 from handcheck.record.formula import latex_of, mathml_of, typeset_formula
-from handcheck.record.write import compare, make_record, read_record, recorded_worksheet
+from handcheck.record.write import compare, make_record, read_record, record_plots, recorded_worksheet
 from handcheck.worksheet.load import load, loads
 
 WORKSHEETS = sorted((Path(__file__).parent.parent / "worksheets").glob("*.toml"))
@@ -58,8 +58,9 @@ def bundled(tmp_path_factory: pytest.TempPathFactory) -> dict[str, dict[str, Pat
         for sheet in WORKSHEETS:
             inputs = gather(load(sheet), evidence=sheet.name == WITH_EVIDENCE, quiet=True)
             made[sheet.name] = {}
+            plots = record_plots(inputs)  # drawn once for the three formats
             for suffix in (".html", ".md", ".json"):
-                data, side = make_record(inputs, suffix, sheet.stem)
+                data, side = make_record(inputs, suffix, sheet.stem, plots)
                 for name, content in side.items():
                     write_atomic(folder / name, content)
                 made[sheet.name][suffix] = write_atomic(folder / f"{sheet.stem}{suffix}", data)
@@ -169,14 +170,15 @@ def test_markdown_links_its_plots_beside_it(bundled: dict) -> None:
     assert record["evidence"] is not None
 
 
+@pytest.mark.slow  # draws the plots of one record twice
 def test_the_same_inputs_give_the_same_bytes(monkeypatch: pytest.MonkeyPatch) -> None:
     monkeypatch.setenv("SOURCE_DATE_EPOCH", EPOCH)
     inputs = gather(load(WORKSHEETS[0].parent / WITH_EVIDENCE), evidence=True, quiet=True)
     first = make_record(inputs, ".html")[0]
-    second = make_record(inputs, ".html")[0]
-    assert first == second
+    plots = record_plots(inputs)
+    assert make_record(inputs, ".html", plots=plots)[0] == first  # drawn again, the same bytes
     monkeypatch.setenv("SOURCE_DATE_EPOCH", str(int(EPOCH) + 86400))
-    assert make_record(inputs, ".html")[0] != first
+    assert make_record(inputs, ".html", plots=plots)[0] != first
 
 
 def test_the_digest_covers_every_byte_but_its_own_line(bundled: dict) -> None:
@@ -347,6 +349,7 @@ def _console_messages(stderr: str) -> list[str]:
 
 
 @needs_chromium
+@pytest.mark.slow  # starts headless Chromium (1-4 s a page)
 @pytest.mark.parametrize("sheet", [w.name for w in WORKSHEETS])
 def test_browser_shows_every_verdict_and_sizes_every_formula(bundled: dict, sheet: str, tmp_path: Path) -> None:
     page = bundled[sheet][".html"]
@@ -370,6 +373,7 @@ def test_browser_shows_every_verdict_and_sizes_every_formula(bundled: dict, shee
 
 
 @needs_chromium
+@pytest.mark.slow  # starts headless Chromium (1-4 s a page)
 def test_browser_screenshot_and_printed_pages(bundled: dict, tmp_path: Path) -> None:
     page = bundled[WITH_EVIDENCE][".html"]
     shot = tmp_path / "shot.png"
@@ -392,6 +396,7 @@ def test_browser_screenshot_and_printed_pages(bundled: dict, tmp_path: Path) -> 
 
 
 @needs_chromium
+@pytest.mark.slow  # starts headless Chromium (1-4 s a page)
 def test_browser_runs_nothing_from_a_worksheet(tmp_path: Path, make_worksheet) -> None:
     inputs = gather(loads(payload_worksheet(make_worksheet), "payload.toml"), evidence=False, quiet=True)
     page = tmp_path / "payload.html"
@@ -418,6 +423,7 @@ _HEADINGS = (
 
 
 @needs_chromium
+@pytest.mark.slow  # starts headless Chromium (1-4 s a page)
 @pytest.mark.parametrize("sheet", [w.name for w in WORKSHEETS])
 def test_printed_pages_keep_each_heading_with_what_it_introduces(bundled: dict, sheet: str, tmp_path: Path) -> None:
     pdftotext = shutil.which("pdftotext")

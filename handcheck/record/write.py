@@ -49,8 +49,22 @@ def _svg_of(draw: Any) -> str:
     return svg.strip()
 
 
-def _plots(inputs: Inputs) -> list[dict[str, str]]:
-    """The evidence plots and the Bode plot as SVG text."""
+def record_plots(inputs: Inputs) -> list[dict[str, str]]:
+    """The record's plots (the evidence plots, then one Bode plot a network function) as SVG text.
+
+    Drawing is the slow part of a record (matplotlib, text as paths); pass the result to
+    :func:`make_record` to write several formats of one record without drawing again.
+
+    Parameters
+    ----------
+    inputs : Inputs
+        From :func:`handcheck.pipeline.record_inputs`.
+
+    Returns
+    -------
+    list of dict
+        One ``{"title", "svg"}`` a plot, in the order the record shows them.
+    """
     plots = []
     if inputs.evidence is not None:
         from handcheck.record.plots import plot_evidence
@@ -69,7 +83,9 @@ def _plots(inputs: Inputs) -> list[dict[str, str]]:
     return plots
 
 
-def make_record(inputs: Inputs, suffix: str, stem: str = "record") -> tuple[bytes, dict[str, bytes]]:
+def make_record(
+    inputs: Inputs, suffix: str, stem: str = "record", plots: list[dict[str, str]] | None = None
+) -> tuple[bytes, dict[str, bytes]]:
     """The sealed record in the format of ``suffix``, and the files that go beside it.
 
     Parameters
@@ -80,6 +96,8 @@ def make_record(inputs: Inputs, suffix: str, stem: str = "record") -> tuple[byte
         ``.html``, ``.md`` or ``.json``.
     stem : str
         The record file's name without suffix (names the plot files of a Markdown record).
+    plots : list of dict, optional
+        From :func:`record_plots` of the same ``inputs``; drawn here when not given.
 
     Returns
     -------
@@ -91,7 +109,8 @@ def make_record(inputs: Inputs, suffix: str, stem: str = "record") -> tuple[byte
     from handcheck.record.model import build_record
     from handcheck.record.render import render_html, render_json, render_markdown
 
-    plots = _plots(inputs)
+    drawn = record_plots(inputs) if plots is None else plots
+    plots = [dict(plot) for plot in drawn]  # the Markdown format adds its file names to them
     side: dict[str, bytes] = {}
     if suffix == ".md":
         for index, plot in enumerate(plots, start=1):
