@@ -7,6 +7,7 @@ abs of mpc); |v| = sqrt(v conj(v)) for every complex v (from memory).
 from __future__ import annotations
 
 import mpmath
+import pytest
 import sympy
 
 from handcheck.worksheet.evaluate import FUNCTIONS
@@ -22,6 +23,7 @@ def _chain(steps: int) -> sympy.Expr:
     return z
 
 
+@pytest.mark.slow  # a 200-digit value through abs() and mpmath
 def test_abs_of_a_large_number_matches_mpmath_and_stays_exact():
     z = _chain(6)
     assert sympy.count_ops(z) > 40  # the large-number branch

@@ -92,6 +92,7 @@ def test_records_and_index_for_a_folder(folder: Path, tmp_path: Path, capsys) ->
         assert (out / f"{name}.html").read_text(encoding="utf-8").startswith("<!DOCTYPE html>")
 
 
+@pytest.mark.slow  # records a folder twice
 def test_exit_status_without_the_broken_file(folder: Path, tmp_path: Path, capsys) -> None:
     (folder / "broken.toml").unlink()
     code, _, _ = run(capsys, "record", str(folder), "-o", str(tmp_path / "r"), "--no-evidence")
@@ -187,6 +188,7 @@ def _reseal_with_another_verdict(record: Path) -> None:
     record.write_bytes(seal(json.dumps(data, ensure_ascii=False, indent=2) + "\n"))
 
 
+@pytest.mark.slow  # reverifies with --jobs 2: worker processes start
 def test_reverify_a_folder_of_records(folder: Path, tmp_path: Path, capsys) -> None:
     (folder / "broken.toml").unlink()
     out = tmp_path / "records"
@@ -219,6 +221,7 @@ def test_reverify_a_folder_without_records_is_refused(tmp_path: Path, capsys) ->
     assert (code, out) == (2, "") and "holds no record" in err
 
 
+@pytest.mark.slow  # starts two pools of worker processes
 def test_workers_see_the_environment_of_the_moment(monkeypatch) -> None:
     # A forkserver keeps the environment it started with (Python docs, multiprocessing,
     # "Contexts and start methods"): a variable set after the first pool must still

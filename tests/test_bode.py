@@ -189,6 +189,7 @@ def test_no_curve_without_a_network_function() -> None:
     assert curves == ()
 
 
+@pytest.mark.slow  # draws and writes Bode figures
 def test_check_plot_writes_the_bode_plot_and_the_record_carries_it(tmp_path: Path) -> None:
     from handcheck.cli import main
 
@@ -285,6 +286,7 @@ def test_a_ratio_of_a_voltage_to_a_current_is_drawn_as_an_impedance() -> None:
     plt.close(figure)
 
 
+@pytest.mark.slow  # draws and writes Bode figures
 def test_several_curves_stack_to_the_width_of_a_page_and_the_record_has_one_figure_each(tmp_path: Path) -> None:
     from handcheck.cli import main
 

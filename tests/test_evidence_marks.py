@@ -59,6 +59,7 @@ def test_marks_hold_the_claims_and_the_exact_values():
     assert marks["vfin"].exact == pytest.approx(V) and marks["vfin"].signal == "voltage(c)"
 
 
+@pytest.mark.slow  # simulates and draws the evidence figure
 def test_the_figure_draws_each_claim_on_its_waveform():
     outcome = run_text(SHEET, evidence=True)
     figure = evidence_figure(outcome.report, outcome.evidence)
@@ -86,6 +87,7 @@ claim = "3.3*(1 - exp(-t/25 ms)) V"
 """
 
 
+@pytest.mark.slow  # simulates and draws the evidence figure
 def test_a_claimed_time_function_is_drawn_over_the_simulated_waveform():
     # The claim's own function, 3.3 (1 - exp(-t/25 ms)), beside the simulated charge of an
     # RC of 20 ms, V (1 - exp(-t/RC)) (Alexander & Sadiku, 5th ed., section 7.6, from memory).

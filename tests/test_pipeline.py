@@ -103,6 +103,7 @@ def test_check_text_takes_a_name():
         handcheck.check_text("[worksheet]\nformat = 1\n", name="bad.toml")
 
 
+@pytest.mark.slow  # waits for the watchdog to end a run
 def test_watchdog_ends_a_run_that_overruns_its_limit():
     # A single long library call (here: a sleep) cannot reach a safe point; the
     # watchdog ends the process with exit status 2 and one line on stderr.

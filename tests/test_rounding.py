@@ -16,6 +16,7 @@ import math
 from fractions import Fraction
 from itertools import product
 
+import pytest
 import sympy
 from hypothesis import HealthCheck, Phase, given, settings
 from hypothesis import strategies as st
@@ -188,6 +189,7 @@ SEEDED = settings(
 )
 
 
+@pytest.mark.slow  # 25 random worksheets checked
 @SEEDED
 @given(**CIRCUITS, digits=st.lists(st.integers(2, 5), min_size=len(STEPS), max_size=len(STEPS)))
 def test_a_correct_derivation_with_rounded_claims_never_diverges(r, c_nf, v, f, digits):
@@ -197,6 +199,7 @@ def test_a_correct_derivation_with_rounded_claims_never_diverges(r, c_nf, v, f, 
     assert all(s.verdict == "agrees" for s in report.steps)
 
 
+@pytest.mark.slow  # 25 random worksheets checked
 @SEEDED
 @given(
     **CIRCUITS,

@@ -170,6 +170,7 @@ def _ladder_current(sections: list[tuple[float, str, float]], omega: float, sour
     return complex((source - v[0]) / sections[0][0])
 
 
+@pytest.mark.slow  # eight random ladders, each checked twice
 @settings(
     max_examples=8,
     derandomize=True,

@@ -53,6 +53,7 @@ def notes(pytester, monkeypatch):
     return folder
 
 
+@pytest.mark.slow  # runs pytest in a subprocess
 def test_the_plugin_makes_one_item_per_worksheet(pytester, notes):
     result = pytester.runpytest_subprocess(*QUIET, "-p", "handcheck.testing", "-v", str(pytester.path))
     result.assert_outcomes(passed=1, failed=2)
@@ -65,12 +66,14 @@ def test_the_plugin_makes_one_item_per_worksheet(pytester, notes):
     assert "broken.toml" in text and "Traceback" not in text
 
 
+@pytest.mark.slow  # runs pytest in a subprocess
 def test_a_conftest_loads_the_plugin(pytester, notes):
     pytester.makeconftest('pytest_plugins = ["handcheck.testing"]\n')
     result = pytester.runpytest_subprocess(*QUIET, str(notes / "snubber.toml"))
     result.assert_outcomes(passed=1)
 
 
+@pytest.mark.slow  # runs pytest in a subprocess
 def test_worksheet_cases_parametrize_a_folder(pytester, notes):
     (notes / "broken.toml").unlink()
     pytester.makepyfile(
