@@ -29,7 +29,7 @@ import sympy
 from handcheck.audit.ring import AuditError, RatFunc, Ring
 from handcheck.circuit.kinds import KINDS
 from handcheck.circuit.model import Circuit
-from handcheck.worksheet.audit import AuditQuantity, FormulaSpec
+from handcheck.worksheet.audit import AuditQuantity, FormulaSpec, gbw_symbol
 from handcheck.worksheet.evaluate import Value, evaluate
 from handcheck.worksheet.units import DIMENSIONLESS, Dim, dim_of
 
@@ -85,6 +85,10 @@ def formula_value(formula: FormulaSpec, circuit: Circuit, symbols: tuple[str, ..
             env[part.id] = Value(sympy.Symbol(part.id, positive=True), dim)
         elif part.kind not in ("switch",):
             env[part.id] = Value(part.value, dim)
+        if part.kind == "opamp" and part.gbw is not None and not circuit.has_part(gbw_symbol(part.id)):
+            name = gbw_symbol(part.id)  # the gbw in Hz, as "1 MHz" reads in a formula
+            hz = sympy.Symbol(name, positive=True) if name in symbols else part.gbw / (2 * sympy.pi)
+            env[name] = Value(hz, _HZ)
     assert formula.expression is not None and formula.expression_text is not None
     return evaluate(formula.expression, env, formula.expression_text)
 

@@ -19,11 +19,21 @@ import sympy
 
 from handcheck.audit.eliminate import Cramer, solve_fraction_free
 from handcheck.audit.ring import AuditError, RatFunc, Ring
+from handcheck.circuit.kinds import kind_unit
 from handcheck.circuit.mna import MnaSystem, stamp
 from handcheck.circuit.model import GROUND, Circuit, Part
-from handcheck.worksheet.audit import AuditQuantity
+from handcheck.worksheet.audit import AuditQuantity, gbw_owner, gbw_symbol
 
-__all__ = ["SymbolicCircuit", "impedance_function", "signal", "symbolic_circuit", "transfer_function"]
+__all__ = [
+    "SymbolicCircuit",
+    "gbw_part",
+    "impedance_function",
+    "signal",
+    "symbol_kinds",
+    "symbol_unit",
+    "symbolic_circuit",
+    "transfer_function",
+]
 
 S = sympy.Symbol("s")
 
@@ -79,11 +89,40 @@ def symbolic_circuit(
         With a ring of ``s``, the symbols and ``pi``.
     """
     ring = Ring(("s", *symbols, "pi"))
-    parts = tuple(
-        dataclasses.replace(p, value=sympy.Symbol(p.id, positive=True)) if p.id in symbols else p for p in circuit.parts
-    )
-    symbolic = dataclasses.replace(circuit, parts=parts)
+    parts: list[Part] = []
+    for part in circuit.parts:
+        changes: dict[str, Any] = {}
+        if part.id in symbols:
+            changes["value"] = sympy.Symbol(part.id, positive=True)
+        if part.kind == "opamp" and part.gbw is not None and gbw_symbol(part.id) in symbols:
+            changes["gbw"] = 2 * sympy.pi * sympy.Symbol(gbw_symbol(part.id), positive=True)  # the symbol is in Hz
+        parts.append(dataclasses.replace(part, **changes) if changes else part)
+    symbolic = dataclasses.replace(circuit, parts=tuple(parts))
     return SymbolicCircuit(symbolic, ring, stamp(symbolic), check)
+
+
+def gbw_part(circuit: Circuit, name: str) -> Part | None:
+    """The op-amp whose gain-bandwidth product the audit symbol ``name`` (``U1_gbw``) is, or None."""
+    if circuit.has_part(name):
+        return None
+
+    def has_gbw(ident: str) -> bool:
+        return circuit.has_part(ident) and circuit.part(ident).kind == "opamp" and circuit.part(ident).gbw is not None
+
+    owner = gbw_owner(name, has_gbw)
+    return circuit.part(owner) if owner is not None else None
+
+
+def symbol_kinds(circuit: Circuit, symbols: tuple[str, ...]) -> dict[str, str]:
+    """Each part's kind, and "gbw" for an op-amp's gbw symbol (like symbols may be set equal)."""
+    kinds: dict[str, str] = {p.id: p.kind for p in circuit.parts}
+    kinds.update({name: "gbw" for name in symbols if gbw_part(circuit, name) is not None})
+    return kinds
+
+
+def symbol_unit(circuit: Circuit, name: str) -> str:
+    """The unit of an audit symbol's value: its part kind's, or Hz for a gbw."""
+    return "Hz" if gbw_part(circuit, name) is not None else kind_unit(circuit.part(name).kind)
 
 
 def _drive(sc: SymbolicCircuit) -> list[sympy.Expr]:

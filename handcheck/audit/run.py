@@ -19,11 +19,10 @@ from handcheck.audit.compare import formula_value, holds_when, likely_mistakes, 
 from handcheck.audit.display import true_expression
 from handcheck.audit.errors import ErrorModel, Ranges, lowest_root_exact, monte_carlo, nominal_error, worst_case
 from handcheck.audit.findings import AuditFinding
-from handcheck.audit.network import SymbolicCircuit, symbolic_circuit
+from handcheck.audit.network import SymbolicCircuit, gbw_part, symbol_kinds, symbol_unit, symbolic_circuit
 from handcheck.audit.ring import AuditError, RatFunc
 from handcheck.audit.sampling import sympy_values
 from handcheck.audit.truth import Truth, coefficients_in_s, magnitude_squared, true_value
-from handcheck.circuit.kinds import kind_unit
 from handcheck.circuit.model import Circuit
 from handcheck.errors import HandcheckError
 from handcheck.verify.findings import Diagnosis
@@ -42,6 +41,8 @@ def _symbols(sheet: AuditSheet, worksheet: Worksheet, circuit: Circuit) -> tuple
             line=sheet.line,
         )
     for ident in symbols:
+        if gbw_part(circuit, ident) is not None:
+            continue
         part = circuit.part(ident)
         if part.kind == "opamp" and part.value == 0:
             raise AuditError(
@@ -55,7 +56,8 @@ def _symbols(sheet: AuditSheet, worksheet: Worksheet, circuit: Circuit) -> tuple
 def _ranges(sheet: AuditSheet, circuit: Circuit, symbols: tuple[str, ...]) -> tuple[Ranges, tuple[str, ...]]:
     nominal, box, notes = [], [], []
     for ident in symbols:
-        value = Fraction(int(circuit.part(ident).value.p), int(circuit.part(ident).value.q))
+        exact = _nominal(circuit, ident)
+        value = Fraction(int(exact.p), int(exact.q))
         nominal.append(value)
         variation = sheet.variation(ident)
         if variation is None:
@@ -69,6 +71,23 @@ def _ranges(sheet: AuditSheet, circuit: Circuit, symbols: tuple[str, ...]) -> tu
             if not low <= value <= high:
                 notes.append(f"the nominal value of {ident} lies outside its range")
     return Ranges(symbols, tuple(nominal), tuple(box)), tuple(notes)
+
+
+def _nominal(circuit: Circuit, ident: str) -> sympy.Rational:
+    """A symbol's nominal value: the part's value, or an op-amp's gbw in Hz."""
+    amp = gbw_part(circuit, ident)
+    if amp is None:
+        return circuit.part(ident).value  # type: ignore[return-value]
+    assert amp.gbw is not None
+    hz = sympy.nsimplify(amp.gbw / (2 * sympy.pi))
+    if not hz.is_Rational:
+        raise AuditError(
+            f"the gbw of op-amp {amp.id} is written in rad/s; to keep it as the symbol {ident} (in Hz) write it in "
+            f'Hz, like gbw = "1 MHz"',
+            file=circuit.path,
+            line=amp.line,
+        )
+    return hz
 
 
 def _at_frequency(sc: SymbolicCircuit, ratio: RatFunc) -> tuple[RatFunc, str]:
@@ -143,7 +162,7 @@ def _closed_form(sc: SymbolicCircuit, truth: Truth, value: sympy.Expr, symbols: 
     assert truth.value is not None
     ratio = formula / truth.value
     d = ratio - ring.fraction(sympy.Integer(1))
-    kinds = {p.id: p.kind for p in sc.circuit.parts}
+    kinds = symbol_kinds(sc.circuit, symbols)
     equivalent = d.is_zero
     point, kind = _at_frequency(sc, ratio) if truth.in_s else (ratio, "sqrt" if squared else "ratio")
     fast = ratio if truth.in_s and sc.circuit.omega != 0 else None
@@ -180,7 +199,7 @@ def _root_form(
     residual = ring.fraction(sympy.Integer(0))
     for k, coefficient in enumerate(coefficients_in_s(ring, truth.poly)):
         residual = residual + RatFunc.make(ring, coefficient, ring.constant(1)) * u.power(k)
-    kinds = {p.id: p.kind for p in sc.circuit.parts}
+    kinds = symbol_kinds(sc.circuit, symbols)
     result["equivalent"] = residual.is_zero
     result["holds_when"] = holds_when(residual, symbols, kinds, limits=False)
     result["method"] = (
@@ -225,7 +244,7 @@ def _audit_formula(
         "line": formula.line,
         "notes": notes,
         "error_frequency": float(sc.circuit.frequency) if truth.in_s else None,
-        "units": tuple((n, kind_unit(sc.circuit.part(n).kind)) for n in ranges.names),
+        "units": tuple((n, symbol_unit(sc.circuit, n)) for n in ranges.names),
     }
     if formula.expression is None:
         base["method"] = "spread of the quantity over the tolerances"

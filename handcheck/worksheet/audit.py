@@ -22,10 +22,13 @@ from handcheck.worksheet.units import DIMENSIONLESS, dim_of
 
 __all__ = [
     "AUDIT_QUANTITIES",
+    "GBW_KEYS",
     "AuditQuantity",
     "AuditSheet",
     "FormulaSpec",
     "Variation",
+    "gbw_owner",
+    "gbw_symbol",
     "read_audit",
 ]
 
@@ -65,6 +68,24 @@ _VALUE_UNITS = {
     "cccs": "",
     "opamp": "",
 }
+
+
+#: An op-amp's gain-bandwidth product kept as an audit symbol is named after the op-amp:
+#: ``U1_gbw`` for op-amp U1, in Hz; its part keys are ``gbw_tolerance`` and ``gbw_range``.
+GBW_SUFFIX = "_gbw"
+GBW_KEYS = ("gbw_tolerance", "gbw_range")
+_PART_KEYS = ("tolerance", "range")
+
+
+def gbw_symbol(ident: str) -> str:
+    """The audit symbol of op-amp ``ident``'s gain-bandwidth product."""
+    return ident + GBW_SUFFIX
+
+
+def gbw_owner(name: str, has_gbw: Callable[[str], bool]) -> str | None:
+    """The op-amp whose gbw the audit symbol ``name`` is (None when it is none)."""
+    ident = name.removesuffix(GBW_SUFFIX)
+    return ident if ident != name and has_gbw(ident) else None
 
 
 @dataclass(frozen=True)
@@ -194,6 +215,12 @@ class _AuditReader:
         self.path = path
         self.locate = locate
         self.kinds = part_kinds
+        parts = data.get("parts", {})
+        self.gbws = frozenset(
+            gbw_symbol(ident)
+            for ident, body in (parts.items() if isinstance(parts, dict) else ())
+            if part_kinds.get(ident) == "opamp" and isinstance(body, dict) and "gbw" in body
+        ) - frozenset(part_kinds)
 
     def fail(self, message: str, line: int | None) -> WorksheetError:
         return WorksheetError(printable(message), file=self.path, line=line)
@@ -251,12 +278,15 @@ class _AuditReader:
                 'symbols in [audit] must be a list of part ids in quotes, like symbols = ["R1", "C1"]', line
             )
         for ident in value:
+            if ident in self.gbws:
+                continue  # an op-amp's gain-bandwidth product
             if ident not in self.kinds:
                 raise self.fail(f'symbols in [audit] names "{ident}", which is not a part of [parts]', line)
             if self.kinds[ident] not in _VALUE_UNITS:
                 raise self.fail(
                     f'"{ident}" in symbols of [audit] is a {self.kinds[ident]}; only parts with a value (resistors, '
-                    "inductors, capacitors, controlled-source gains, op-amp gains) can be kept as symbols",
+                    "inductors, capacitors, controlled-source gains, op-amp gains, and an op-amp's gbw as U1_gbw) can "
+                    "be kept as symbols",
                     line,
                 )
         if len(set(value)) != len(value):
@@ -288,7 +318,7 @@ class _AuditReader:
             tree = None
             if text is not None:
                 text = " ".join(text.split())
-                tree = parse(text, {*self.kinds, "s"})
+                tree = parse(text, {*self.kinds, *self.gbws, "s"})
                 self.check_names(name, tree, text, self.locate(where, "expression"))
         except HandcheckError as exc:
             exc.message = f'formula "{name}": {exc.message}'
@@ -299,7 +329,7 @@ class _AuditReader:
 
     def check_names(self, name: str, tree: Node, text: str, line: int | None) -> None:
         for ident in names_in(tree):
-            if ident not in self.kinds and ident not in ("s", "w", "f", "pi", "j", "ω"):
+            if ident not in self.kinds and ident not in self.gbws and ident not in ("s", "w", "f", "pi", "j", "ω"):
                 raise self.fail(f'formula "{name}": "{ident}" in "{text}" is not a part id (nor s, w, f or pi)', line)
 
     def variations(self) -> tuple[Variation, ...]:
@@ -308,27 +338,61 @@ class _AuditReader:
         for ident, body in parts.items() if isinstance(parts, dict) else ():
             if isinstance(body, dict) and ("tolerance" in body or "range" in body):
                 found.append(self.variation(ident, body))
+            if isinstance(body, dict) and any(key in body for key in GBW_KEYS):
+                found.append(self.gbw_variation(ident, body))
         return tuple(found)
+
+    def gbw_variation(self, ident: str, body: Mapping[str, Any]) -> Variation:
+        """``gbw_tolerance`` or ``gbw_range`` of an op-amp with a gbw: the variation of ``U1_gbw``, in Hz."""
+        line = self.locate("parts", ident)
+        symbol = gbw_symbol(ident)
+        if symbol not in self.gbws:
+            raise self.fail(
+                f'part "{ident}" has no gbw; only an op-amp with a gbw takes gbw_tolerance or gbw_range, like '
+                f'{{ opamp = "200000", gbw = "1 MHz", gbw_range = ["0.7 MHz", "1.3 MHz"], nodes = [...] }}',
+                line,
+            )
+        texts = body.get("gbw_range")
+        for text in texts if isinstance(texts, list) else ():
+            if isinstance(text, str) and any(word.startswith("rad") for word, _ in _units_of(text)):
+                raise self.fail(
+                    f'gbw_range of part "{ident}": write "{text}" in Hz (kHz, MHz), the unit of the symbol {symbol}',
+                    line,
+                )
+        return self.spread(ident, symbol, body, GBW_KEYS, "Hz", '["0.7 MHz", "1.3 MHz"]', line)
 
     def variation(self, ident: str, body: Mapping[str, Any]) -> Variation:
         line = self.locate("parts", ident)
         kind = self.kinds.get(ident, "")
         if kind not in _VALUE_UNITS:
             raise self.fail(f'part "{ident}" is a {kind}; only parts with a value take a tolerance or a range', line)
-        if "tolerance" in body and "range" in body:
-            raise self.fail(f'part "{ident}" has both a tolerance and a range; give one', line)
-        if "tolerance" in body:
-            return Variation(ident, tolerance=self.tolerance(ident, body["tolerance"], line), line=line)
-        value = body["range"]
+        return self.spread(ident, ident, body, _PART_KEYS, _VALUE_UNITS[kind], '["9 kohm", "11 kohm"]', line)
+
+    def spread(
+        self,
+        ident: str,
+        symbol: str,
+        body: Mapping[str, Any],
+        keys: tuple[str, str],
+        unit: str,
+        like: str,
+        line: int | None,
+    ) -> Variation:
+        """The variation of ``symbol`` from the part's tolerance key or range key (``keys``)."""
+        tolerance_key, range_key = keys
+        if tolerance_key in body and range_key in body:
+            raise self.fail(f'part "{ident}" has both a {tolerance_key} and a {range_key}; give one', line)
+        if tolerance_key in body:
+            return Variation(symbol, tolerance=self.tolerance(ident, body[tolerance_key], line), line=line)
+        value = body[range_key]
         if not isinstance(value, list) or len(value) != 2 or not all(isinstance(v, str) for v in value):
             raise self.fail(
-                f'range of part "{ident}" must be two values in quotes, like range = ["9 kohm", "11 kohm"]', line
+                f'{range_key} of part "{ident}" must be two values in quotes, like {range_key} = {like}', line
             )
-        unit = _VALUE_UNITS[kind]
-        low, high = (self.value(text, unit, f'range of part "{ident}"', line) for text in value)
+        low, high = (self.value(text, unit, f'{range_key} of part "{ident}"', line) for text in value)
         if not 0 < low < high:
-            raise self.fail(f'range of part "{ident}" must go from a positive low value to a higher one', line)
-        return Variation(ident, low=low, high=high, line=line)
+            raise self.fail(f'{range_key} of part "{ident}" must go from a positive low value to a higher one', line)
+        return Variation(symbol, low=low, high=high, line=line)
 
     def tolerance(self, ident: str, value: Any, line: int | None) -> Fraction:
         text = value.strip() if isinstance(value, str) else ""
@@ -358,6 +422,15 @@ class _AuditReader:
             hint = "; write it with its unit" if unit and not has_unit else ""
             raise self.fail(f'{what}: "{text}" must be an exact value {need}{hint}', line)
         return value.expr
+
+
+def _units_of(text: str) -> list[tuple[str, int]]:
+    """The unit words of a value as written (none when it does not parse: the reader says why)."""
+    try:
+        tree = parse(text)
+    except HandcheckError:
+        return []
+    return [pair for node in walk(tree) if isinstance(node, Number) for pair in node.unit]
 
 
 def read_audit(data: Mapping[str, Any], path: str, locate: Locate, part_kinds: Mapping[str, str]) -> AuditSheet | None:

@@ -16,7 +16,7 @@ from typing import Any
 
 from handcheck.circuit.kinds import KINDS
 from handcheck.errors import HandcheckError, LimitError, WorksheetError
-from handcheck.worksheet.audit import read_audit
+from handcheck.worksheet.audit import GBW_KEYS, read_audit
 from handcheck.worksheet.expr import RESERVED, printable
 from handcheck.worksheet.model import PartSpec, StepSpec, Worksheet
 from handcheck.worksheet.nesting import MAX_NESTING, check_nesting
@@ -408,7 +408,9 @@ class _Reader:
         if old and kind in ("voltage", "current"):
             raise self.old_keys(ident, kind, body, old, line)
         for key in body:
-            if key != kind and key not in allowed and key not in (*_VARIATION_KEYS, "gbw"):  # gbw: read_part_values
+            if (
+                key != kind and key not in allowed and key not in (*_VARIATION_KEYS, "gbw", *GBW_KEYS)
+            ):  # gbw: read_part_values
                 raise self.fail(
                     f'part "{ident}" ({kind}) has an unknown key "{key}"{_suggest(key, allowed)}; '
                     f"a {kind} takes: {', '.join((kind, *allowed))}",
