@@ -29,6 +29,9 @@ from handcheck.record.write import compare, make_record, read_record, record_plo
 from handcheck.worksheet.load import load, loads
 
 WORKSHEETS = sorted((Path(__file__).parent.parent / "worksheets").glob("*.toml"))
+#: one worker runs this file, so that the module fixture ``bundled`` is made once (pyproject.toml)
+pytestmark = pytest.mark.xdist_group("record")
+
 EPOCH = "1700000000"  # 2023-11-14T22:13:20Z
 WITH_EVIDENCE = "coil-snubber.toml"
 
