@@ -21,6 +21,7 @@ from handcheck.audit.errors import ErrorModel, Ranges, lowest_root_exact, monte_
 from handcheck.audit.findings import AuditFinding
 from handcheck.audit.network import SymbolicCircuit, gbw_part, symbol_kinds, symbol_unit, symbolic_circuit
 from handcheck.audit.ring import AuditError, RatFunc
+from handcheck.audit.rootlimits import root_limits
 from handcheck.audit.sampling import sympy_values
 from handcheck.audit.truth import Truth, coefficients_in_s, magnitude_squared, true_value
 from handcheck.circuit.model import Circuit
@@ -201,7 +202,8 @@ def _root_form(
         residual = residual + RatFunc.make(ring, coefficient, ring.constant(1)) * u.power(k)
     kinds = symbol_kinds(sc.circuit, symbols)
     result["equivalent"] = residual.is_zero
-    result["holds_when"] = holds_when(residual, symbols, kinds, limits=False)
+    limits = root_limits(ring, truth.poly, coefficients_in_s(ring, truth.poly), u, ranges.names, ranges.nominal)
+    result["holds_when"] = limits + holds_when(residual, symbols, kinds, limits=False)
     result["method"] = (
         "exact: whether the formula solves the defining polynomial in w^2 identically; lowest positive root certified at the nominal values"
     )
