@@ -99,7 +99,7 @@ def _function(expr: sympy.Expr, memo: dict[sympy.Expr, Any]) -> Any:
         "cos": lambda z: z.cos(),
         "tan": lambda z: z.tan(),
         "atan": lambda z: z.atan(),
-        "Abs": lambda z: flint.acb(z.abs()),
+        "Abs": lambda z: flint.acb(abs(z)),
         "re": lambda z: flint.acb(z.real),
         "im": lambda z: flint.acb(z.imag),
         "arg": lambda z: flint.acb(z.arg()),
