@@ -31,15 +31,29 @@ from handcheck.worksheet.pifraction import canonical, combine, from_expr, parts,
 R1, C1, FREQUENCY = "1.2", "2.2e-6", 1000
 
 
-def reference_chain(steps: int) -> list[complex]:
-    """Xc, Z0, Z1, ..., Z(steps) of the chain, from mpmath at 40 digits."""
+#: Factors of the series resistance that take a chain out of the fractions of
+#: polynomials in pi: the formula's text and the same number in mpmath.
+FACTORS = {
+    "": lambda: mpmath.mpf(1),
+    "sqrt(2)": lambda: mpmath.sqrt(2),
+    "cos(0.3)": lambda: mpmath.cos(mpmath.mpf("0.3")),
+    "exp(-0.5 ms/(2.2 ms))": lambda: mpmath.exp(-mpmath.mpf("0.5") / mpmath.mpf("2.2")),
+}
+
+
+def reference_chain(steps: int, factor: str = "") -> list[complex]:
+    """Xc, Z0, Z1, ..., Z(steps) of the chain, from mpmath at 40 digits.
+
+    With a ``factor``, the series term of every step is ``R1*factor``.
+    """
     with mpmath.workdps(40):
         r, c = mpmath.mpf(R1), mpmath.mpf(C1)
+        g = FACTORS[factor]()
         xc = -1 / (2 * mpmath.pi * FREQUENCY * c)
         values = [mpmath.mpc(xc), mpmath.mpc(r)]
         z = mpmath.mpc(r)
         for _ in range(steps):
-            z = r + z * (1j * xc) / (z + 1j * xc)
+            z = r * g + z * (1j * xc) / (z + 1j * xc)
             values.append(z)
         return [complex(v) for v in values]
 
@@ -49,13 +63,15 @@ def _written(z: complex) -> str:
     return f"{mpmath.nstr(z.real, 4)} {sign} {mpmath.nstr(abs(z.imag), 4)}j ohm"
 
 
-def chain_worksheet(steps: int, wrong_at: int | None = None) -> str:
+def chain_worksheet(steps: int, wrong_at: int | None = None, factor: str = "") -> str:
     """The worksheet of a chain of ``steps`` steps after Xc and Z0.
 
     Every claim is the reference value to 4 digits, except step ``wrong_at``'s,
-    claimed 3 % too large.
+    claimed 3 % too large. With a ``factor``, each step's formula is
+    ``R1*factor + (Z(k-1) || (j*Xc))``.
     """
-    values = reference_chain(steps)
+    values = reference_chain(steps, factor)
+    series = f"R1*{factor}" if factor else "R1"
     lines = [
         "[worksheet]",
         "format = 1",
@@ -77,7 +93,12 @@ def chain_worksheet(steps: int, wrong_at: int | None = None) -> str:
     ]
     for k in range(1, steps + 1):
         z = values[k + 1] * (1.03 if k == wrong_at else 1)
-        lines += ["[[step]]", f'name = "Z{k}"', f'formula = "R1 + (Z{k - 1} || (j*Xc))"', f'claim = "{_written(z)}"']
+        lines += [
+            "[[step]]",
+            f'name = "Z{k}"',
+            f'formula = "{series} + (Z{k - 1} || (j*Xc))"',
+            f'claim = "{_written(z)}"',
+        ]
     return "\n".join(lines) + "\n"
 
 

@@ -17,6 +17,7 @@ import sympy
 
 from handcheck.errors import HandcheckError, LimitError, ParseError, UnitError
 from handcheck.worksheet import pifraction
+from handcheck.worksheet.certified import Held, certify
 from handcheck.worksheet.expr import Binary, Call, Name, Node, Number, Unary, one_line, parse, printable
 from handcheck.worksheet.units import DIMENSIONLESS, Dim, lookup_unit
 
@@ -208,16 +209,21 @@ class _Evaluator:
 
         A value of more than ``_SMALL`` distinct subexpressions that is a fraction of
         polynomials in pi is rewritten in its canonical form
-        (:mod:`handcheck.worksheet.pifraction`), which keeps a chain of steps linear.
+        (:mod:`handcheck.worksheet.pifraction`), which keeps a chain of steps linear;
+        any other number that ball arithmetic certifies is held by name
+        (:class:`~handcheck.worksheet.certified.Held`), its exact expression its
+        definition (an expression in symbols, such as a source function of ``t``, is not).
         """
         expr = value.expr
         nodes = list(distinct_nodes(expr))
+        held = False
         if len(nodes) > _SMALL and expr not in self.compact and not _NOT_FINITE_SET.intersection(nodes):
             short = pifraction.canonical(expr, _MAX_BITS)
             if short is not None:
                 expr = short
                 value = Value(short, value.dim)
                 nodes = list(distinct_nodes(expr))
+            held = short is None
         if any(node in _NOT_FINITE_SET for node in nodes):
             raise ParseError(
                 f'"{self.quote(node)}" has no finite value (a division by zero, or a function at a pole '
@@ -231,6 +237,8 @@ class _Evaluator:
         for power in nodes:
             if isinstance(power, sympy.Pow) and power.exp.is_Rational and power.exp.q > MAX_ROOT:
                 raise self.too_deep(node, power.exp)
+        if held and not any(isinstance(n, sympy.Symbol) for n in nodes) and certify(expr) is not None:
+            return Value(Held(expr), value.dim)
         return value
 
     def too_deep(self, node: Node, exponent: sympy.Rational) -> LimitError:
