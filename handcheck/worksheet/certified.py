@@ -68,7 +68,7 @@ def _ball(expr: sympy.Expr, memo: dict[sympy.Expr, Any]) -> Any:
     if hit is not None:
         return hit
     if isinstance(expr, Held):
-        out = _ball(expr.definition, memo)
+        out = expr.ball(memo)
     elif expr.is_Rational:
         out = flint.acb(flint.arb(flint.fmpq(int(expr.p), int(expr.q))))
     elif expr is sympy.pi:
@@ -247,11 +247,30 @@ class Held(sympy.AtomicExpr):
     is_number = True
     is_commutative = True
     definition: sympy.Expr
+    _balls: dict[int, Any]
+    _certified: list[Certified | None]
 
     def __new__(cls, definition: sympy.Expr) -> Held:
         obj = super().__new__(cls)
         obj.definition = definition
+        obj._balls = {}  # its ball at each working precision, made once (not pickled)
+        obj._certified = []  # certify(obj), once
         return obj
+
+    def ball(self, memo: dict[sympy.Expr, Any]) -> Any:
+        """The ball of the definition at the working precision (python-flint's ``ctx.prec``)."""
+        import flint
+
+        prec = flint.ctx.prec
+        if prec not in self._balls:
+            self._balls[prec] = _ball(self.definition, memo)
+        return self._balls[prec]
+
+    def certified(self) -> Certified | None:
+        """:func:`certify` of this number, computed once."""
+        if not self._certified:
+            self._certified.append(certify(self))
+        return self._certified[0]
 
     def __getnewargs__(self) -> tuple[sympy.Expr]:
         return (self.definition,)
@@ -272,23 +291,23 @@ class Held(sympy.AtomicExpr):
     # sympy's own assumptions would round the value; a held number answers only what its
     # ball proves (None: not known)
     def _eval_is_zero(self) -> bool | None:
-        c = certify(self)
+        c = self.certified()
         return False if c is not None and abs(c.value) > 2 * c.bound else None
 
     def _eval_is_extended_real(self) -> bool | None:
-        c = certify(self)
+        c = self.certified()
         return False if c is not None and abs(c.value.imag) > c.bound else None
 
     def _eval_is_extended_positive(self) -> bool | None:
-        c = certify(self)
+        c = self.certified()
         return False if c is not None and (abs(c.value.imag) > c.bound or c.value.real < -c.bound) else None
 
     def _eval_is_extended_negative(self) -> bool | None:
-        c = certify(self)
+        c = self.certified()
         return False if c is not None and (abs(c.value.imag) > c.bound or c.value.real > c.bound) else None
 
     def _shown(self) -> str:
-        certified = certify(self)
+        certified = self.certified()
         return "(held value)" if certified is None else _decimal(certified.value)
 
     def _sympystr(self, printer: object) -> str:
