@@ -168,6 +168,19 @@ def test_gbw_in_hz_with_a_coupling_cutoff_is_the_two_pole_closed_form():
     assert_allclose(abs(h[1]) / abs(h[0]), 1 / math.sqrt(2), rtol=1e-12)
 
 
+def test_gbw_in_hz_with_a_coupling_step_response_is_the_two_pole_closed_form():
+    # Step response of K*a*b/((s + a)(s + b)): K*(1 - b/(b - a) e^(-a t) + a/(b - a) e^(-b t))
+    # (partial fractions, any circuits text, from memory), K = (M/L1)*A0/(1 + A0*beta).
+    parts = COUPLED.replace('"1 V", frequency = "20 kHz"', '"1*step(t) V"')
+    wave = transient_solution(build(handcheck.loads(worksheet(parts)))).node_voltage("out").as_expr()
+    a, b = COIL_POLE, LOOP_POLE
+    gain = K * sympy.sqrt(L2 / L1) * A0 / (1 + A0 * BETA)
+    t = sympy.Symbol("t")
+    closed = gain * (1 - b / (b - a) * sympy.exp(-a * t) + a / (b - a) * sympy.exp(-b * t))
+    for point in (sympy.Integer(0), sympy.Rational(1, 10**6), sympy.Rational(5, 10**6), sympy.Rational(1, 10**4)):
+        assert sympy.N(wave.subs(t, point) - closed.subs(t, point), 30) == pytest.approx(0, abs=1e-25)
+
+
 def test_a_worksheet_with_gbw_in_hz_and_an_irrational_coupling_checks_out():
     reference = complex(coupled_response().subs(S, sympy.I * 2 * sympy.pi * 20_000))
     a, b = float(COIL_POLE), float(LOOP_POLE)

@@ -361,7 +361,10 @@ def _natural_modes(
     responses = solve_column(system, circuit, generic, deadline)
     polynomial = sympy.Poly(1, laplace_s(), domain=responses[0].den.domain)
     for rf in responses:
-        polynomial = polynomial.lcm(rf.den)
+        if polynomial.degree() == 0:
+            polynomial = rf.den
+        elif not polynomial.rem(rf.den).is_zero:  # a multiple already: no gcd (slow over QQ<a>(pi))
+            polynomial = polynomial.lcm(rf.den)
     polynomial = polynomial.monic()
     if polynomial.degree() > max_order:
         raise LimitError(
