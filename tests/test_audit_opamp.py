@@ -152,3 +152,54 @@ def test_a_gbw_tolerance_on_a_part_without_gbw_is_refused():
     with pytest.raises(handcheck.HandcheckError) as info:
         handcheck.check_text(text)
     assert 'part "Rin" has no gbw' in info.value.message
+
+
+# An R-C low-pass (R1 = 1 kohm, C1 = 1 nF) buffered by a non-inverting stage of noise gain
+# 10 on the one-pole op-amp: two real poles, a = 1/(R1*C1) and b = 2*pi*(GBW/A0)*(1 + A0*beta),
+# whose -3 dB point solves (1 + x/a^2)(1 + x/b^2) = 2 for x = w^2 (solved by hand here), a
+# polynomial with pi in its coefficients once U1_gbw is a symbol.
+BUFFERED = (
+    HEAD
+    + f"""
+[parts]
+Vin = {{ voltage = "1 V", frequency = "1 kHz", nodes = ["in", "gnd"] }}
+R1 = {{ resistor = "1 kohm", tolerance = "1%", nodes = ["in", "a"] }}
+C1 = {{ capacitor = "1 nF", tolerance = "5%", nodes = ["a", "gnd"] }}
+U1 = {{ opamp = "{A0}", gbw = "1 MHz", gbw_tolerance = "30%", nodes = ["out", "a", "n"] }}
+Rf = {{ resistor = "9 kohm", nodes = ["out", "n"] }}
+Rg = {{ resistor = "1 kohm", nodes = ["n", "gnd"] }}
+
+[audit]
+samples = 500
+
+[[formula]]
+name = "rc"
+quantity = "cutoff_frequency({H})"
+expression = "1/(2*pi*R1*C1)"
+"""
+)
+
+
+def two_pole_cutoff(r1: float, c1: float, gbw: float) -> float:
+    a, b = 1 / (r1 * c1), 2 * math.pi * gbw / A0 * (1 + A0 * BETA)
+    x = (math.sqrt((a * a + b * b) ** 2 + 4 * a * a * b * b) - a * a - b * b) / 2
+    return math.sqrt(x) / (2 * math.pi)
+
+
+def rc_error(r1: float = 1e3, c1: float = 1e-9, gbw: float = GBW) -> float:
+    return 1 / (2 * math.pi * r1 * c1) / two_pole_cutoff(r1, c1, gbw) - 1
+
+
+def test_a_cutoff_with_no_closed_form_takes_the_gbw_symbol():
+    (finding,) = run_text(BUFFERED).audit
+    assert finding.verdict == "differs"
+    assert_allclose(finding.nominal_error, rc_error(), rtol=1e-9)
+    assert set(finding.holds_when) == {"R1 -> oo", "C1 -> oo", "U1_gbw -> oo"}
+    # the reference error vanishes along the reported limits and not along the others
+    for far in (rc_error(r1=1e9), rc_error(c1=1e-3), rc_error(gbw=1e12)):
+        assert abs(far) < 1e-5
+    for stays in (rc_error(r1=1e-3), rc_error(c1=1e-15), rc_error(gbw=1)):
+        assert abs(stays) > 0.1
+    assert finding.worst_case is not None
+    corners = [rc_error(r, c, g) for r in (990, 1010) for c in (0.95e-9, 1.05e-9) for g in (0.7e6, 1.3e6)]
+    assert finding.worst_case.low <= min(corners) * (1 + 1e-9) and max(corners) <= finding.worst_case.high * (1 + 1e-9)

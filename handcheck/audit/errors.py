@@ -81,29 +81,44 @@ def _columns(model: ErrorModel, names: tuple[str, ...], values: Sequence[Any]) -
 def lowest_root_exact(
     poly: Any, names: tuple[str, ...], ring_names: tuple[str, ...], point: Sequence[Fraction]
 ) -> float:
-    """The lowest positive root u of P at exact part values, from certified complex roots (python-flint)."""
-    values = {ring_names.index(n): p for n, p in zip(names, point, strict=True)}
-    coefficients: dict[int, Fraction] = {}
-    for raw, coeff in zip(poly.monoms(), poly.coeffs(), strict=True):
-        monom = tuple(int(e) for e in raw)
-        term = Fraction(int(coeff))
-        for index, power in enumerate(monom[1:], start=1):
-            if power:
-                term *= values[index] ** power
-        coefficients[monom[0]] = coefficients.get(monom[0], Fraction(0)) + term
-    top = max(coefficients)
-    exact = flint.fmpq_poly(
-        [flint.fmpq(c.numerator, c.denominator) for c in (coefficients.get(k, Fraction(0)) for k in range(top + 1))]
-    )
-    best = math.inf
-    roots: list[Any] = list(exact.complex_roots())  # (ball, multiplicity) pairs
-    for root, _ in roots:
-        if (
-            root.imag.contains(0)
-            and root.real > 0
-            and abs(float(root.imag.mid())) < 1e-30 + 1e-20 * abs(float(root.real.mid()))
-        ):
-            best = min(best, float(root.real.mid()))
+    """The lowest positive root u of P at exact part values, from certified complex roots (python-flint).
+
+    With rational coefficients the roots are isolated exactly (``fmpq_poly.complex_roots``);
+    when pi is among them (an op-amp's gbw in Hz) the coefficients are balls holding the
+    exact numbers at :data:`PRECISION` bits and the roots are isolated by ``acb_poly.roots``,
+    each a ball that provably contains one root.
+    """
+    values: dict[int, Any] = {ring_names.index(n): p for n, p in zip(names, point, strict=True)}
+    with_pi = "pi" in ring_names and any(int(raw[ring_names.index("pi")]) for raw in poly.monoms())
+    with flint.ctx.workprec(PRECISION):
+        if with_pi:
+            values = {i: flint.arb(flint.fmpq(v.numerator, v.denominator)) for i, v in values.items()}
+            values[ring_names.index("pi")] = flint.arb.pi()
+        zero: Any = flint.arb(0) if with_pi else Fraction(0)
+        coefficients: dict[int, Any] = {}
+        for raw, coeff in zip(poly.monoms(), poly.coeffs(), strict=True):
+            monom = tuple(int(e) for e in raw)
+            term = flint.arb(int(coeff)) if with_pi else Fraction(int(coeff))
+            for index, power in enumerate(monom[1:], start=1):
+                if power:
+                    term *= values[index] ** power
+            coefficients[monom[0]] = coefficients.get(monom[0], zero) + term
+        ordered = [coefficients.get(k, zero) for k in range(max(coefficients) + 1)]
+        roots: list[Any]
+        if with_pi:
+            roots = list(flint.acb_poly([flint.acb(c) for c in ordered]).roots())
+        else:
+            exact = flint.fmpq_poly([flint.fmpq(c.numerator, c.denominator) for c in ordered])
+            pairs: list[Any] = list(exact.complex_roots())  # (ball, multiplicity) pairs
+            roots = [pair[0] for pair in pairs]
+        best = math.inf
+        for root in roots:
+            if (
+                root.imag.contains(0)
+                and root.real > 0
+                and abs(float(root.imag.mid())) < 1e-30 + 1e-20 * abs(float(root.real.mid()))
+            ):
+                best = min(best, float(root.real.mid()))
     if not math.isfinite(best):
         raise AuditError("at the nominal values the defining polynomial has no positive root: no such frequency")
     return best
