@@ -46,6 +46,7 @@ def test_the_page_has_two_worked_audits() -> None:
     assert len(_worked()) == 2
 
 
+@pytest.mark.slow  # each a full audit with its Monte Carlo run
 @pytest.mark.parametrize(("name", "worksheet", "printed"), _worked(), ids=[w[0] for w in _worked()])
 def test_worked_audit_output(
     name: str,

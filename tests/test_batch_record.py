@@ -66,6 +66,7 @@ def reference(capsys, path: Path) -> dict:
     return json.loads(out)
 
 
+@pytest.mark.slow  # records a folder, figures drawn
 def test_records_and_index_for_a_folder(folder: Path, tmp_path: Path, capsys) -> None:
     out = tmp_path / "records"
     code, _, err = run(capsys, "record", str(folder), "-o", str(out), "--no-evidence")
@@ -102,6 +103,7 @@ def test_exit_status_without_the_broken_file(folder: Path, tmp_path: Path, capsy
     assert code == 0
 
 
+@pytest.mark.slow  # records a folder, figures drawn
 def test_index_escapes_a_hostile_title(folder: Path, tmp_path: Path, capsys) -> None:
     text = (DEMOS / "coil-snubber.toml").read_text(encoding="utf-8")
     old = re.search(r'^title = ".*"$', text, re.MULTILINE)
@@ -124,6 +126,7 @@ def test_index_escapes_a_hostile_title(folder: Path, tmp_path: Path, capsys) -> 
     assert links(out / "index.html").scripts == 0
 
 
+@pytest.mark.slow  # records a folder, figures drawn
 def test_markdown_records_and_index(folder: Path, tmp_path: Path, capsys) -> None:
     out = tmp_path / "md"
     code, _, _ = run(capsys, "record", str(folder), "-o", str(out), "--format", "md", "--no-evidence")
@@ -136,6 +139,7 @@ def test_markdown_records_and_index(folder: Path, tmp_path: Path, capsys) -> Non
     assert "no record:" in index and not (out / "index.html").exists()
 
 
+@pytest.mark.slow  # records a folder, figures drawn
 def test_one_file_keeps_the_single_record(folder: Path, tmp_path: Path, capsys) -> None:
     target = tmp_path / "one.html"
     code, _, _ = run(capsys, "record", str(folder / "coil-snubber.toml"), "-o", str(target), "--no-evidence")

@@ -112,6 +112,7 @@ claim = "3.2 mA /_ 95 deg"
 """
 
 
+@pytest.mark.slow  # simulates and draws the evidence figure
 def test_phasor_diagram_shows_a_coinciding_claim_and_magnifies_a_small_phasor() -> None:
     import matplotlib.pyplot as plt
 
