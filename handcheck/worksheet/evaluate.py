@@ -107,9 +107,50 @@ def _parallel(a: sympy.Expr, b: sympy.Expr) -> sympy.Expr:
 _SMALL = 40
 
 
+#: Nodes of a value's tree (each repeated subexpression counted every time) above which
+#: it is large too: the first steps of a chain have few distinct subexpressions, but
+#: their trees double with every step, and sympy's arithmetic walks the tree (a division
+#: by step 8 of a chain took 2.6 s).
+_TREE = 400
+
+
+def _tree_size(expr: sympy.Basic, size: dict[sympy.Basic, int]) -> int:
+    """Nodes of the tree of ``expr``, each distinct subexpression sized once (memo ``size``)."""
+    if expr not in size:
+        size[expr] = 1 + sum(_tree_size(a, size) for a in expr.args)
+    return size[expr]
+
+
 def _large(expr: sympy.Expr) -> bool:
-    """True when ``expr`` has more than ``_SMALL`` distinct subexpressions."""
-    return next(islice(distinct_nodes(expr), _SMALL, None), None) is not None
+    """True when ``expr`` has more than ``_SMALL`` distinct subexpressions, or a tree of
+    more than ``_TREE`` nodes."""
+    nodes = list(islice(distinct_nodes(expr), _SMALL + 1))
+    return len(nodes) > _SMALL or _tree_size(expr, {}) > _TREE  # a walk of at most _SMALL nodes
+
+
+def held(expr: sympy.Expr, nodes: list[sympy.Basic] | None = None) -> sympy.Expr:
+    """``expr`` held by name (:class:`~handcheck.worksheet.certified.Held`) when it is large.
+
+    Only a number that ball arithmetic certifies is held: an expression in symbols
+    (a source function of ``t``, a part kept as a symbol) or one with no certified
+    value stays as it is.
+    """
+    if nodes is None:
+        if not _large(expr):
+            return expr
+        nodes = list(distinct_nodes(expr))
+    if any(isinstance(n, sympy.Symbol) for n in nodes) or certify(expr) is None:
+        return expr
+    return Held(expr)
+
+
+_SYMPY = {
+    "+": lambda a, b: a + b,
+    "-": lambda a, b: a - b,
+    "*": lambda a, b: a * b,
+    "/": lambda a, b: a / b,
+    "||": _parallel,
+}
 
 
 def _abs(v: sympy.Expr) -> sympy.Expr:
@@ -216,14 +257,18 @@ class _Evaluator:
         """
         expr = value.expr
         nodes = list(distinct_nodes(expr))
-        held = False
-        if len(nodes) > _SMALL and expr not in self.compact and not _NOT_FINITE_SET.intersection(nodes):
+        hold = False
+        if (
+            (len(nodes) > _SMALL or _large(expr))
+            and expr not in self.compact
+            and not _NOT_FINITE_SET.intersection(nodes)
+        ):
             short = pifraction.canonical(expr, _MAX_BITS)
             if short is not None:
                 expr = short
                 value = Value(short, value.dim)
                 nodes = list(distinct_nodes(expr))
-            held = short is None
+            hold = short is None
         if any(node in _NOT_FINITE_SET for node in nodes):
             raise ParseError(
                 f'"{self.quote(node)}" has no finite value (a division by zero, or a function at a pole '
@@ -237,9 +282,7 @@ class _Evaluator:
         for power in nodes:
             if isinstance(power, sympy.Pow) and power.exp.is_Rational and power.exp.q > MAX_ROOT:
                 raise self.too_deep(node, power.exp)
-        if held and not any(isinstance(n, sympy.Symbol) for n in nodes) and certify(expr) is not None:
-            return Value(Held(expr), value.dim)
-        return value
+        return Value(held(expr, nodes), value.dim) if hold else value
 
     def too_deep(self, node: Node, exponent: sympy.Rational) -> LimitError:
         return LimitError(
@@ -269,10 +312,18 @@ class _Evaluator:
         raise ParseError(f'unknown name "{ident}"{hint}', self.text, node.start + 1)
 
     def combined(self, op: str, left: sympy.Expr, right: sympy.Expr) -> sympy.Expr | None:
-        """``left op right`` in canonical form when an operand is large (None: not done so)."""
+        """``left op right`` when an operand is large (None: not done so).
+
+        In canonical form where both operands have one; else by sympy, on the large
+        operands held by name (a canonical form of pi times sqrt(2) has none, and
+        sympy's division asks the assumptions of its every term).
+        """
         if not (_large(left) or _large(right)):
             return None
-        return self.fast(pifraction.combine(op, left, right, _MAX_BITS))
+        fast = self.fast(pifraction.combine(op, left, right, _MAX_BITS))
+        if fast is not None or (pifraction.from_expr(left) is not None and pifraction.from_expr(right) is not None):
+            return fast  # None: no value, or too wide; sympy does it and reports what it finds
+        return _SYMPY[op](held(left), held(right))
 
     def binary(self, node: Binary) -> Value:
         left = self.run(node.left)
@@ -336,7 +387,8 @@ class _Evaluator:
             raise ParseError(
                 f'division by zero: "{self.quote(node)}" raises 0 to a negative power', self.text, node.start + 1
             )
-        return Value(base.expr**exponent.expr, dim)
+        whole = exponent.expr.is_Integer and pifraction.from_expr(base.expr) is not None
+        return Value((base.expr if whole else held(base.expr)) ** exponent.expr, dim)
 
     def call(self, node: Call) -> Value:
         fn = self.functions.get(node.function)
@@ -370,7 +422,8 @@ class _Evaluator:
             dim = args[0].dim
         if node.function in ("ln", "log10") and args[0].expr == 0:
             raise ParseError(f"{name} of exactly 0 is not defined", self.text, node.start + 1)
-        exprs = [a.expr for a in args]
+        # abs() and db() split a canonical form themselves
+        exprs = [a.expr if node.function in ("abs", "db") else held(a.expr) for a in args]
         if self.angle_scale is not None and node.function in _TRIG:
             exprs[-1] = exprs[-1] * self.angle_scale
         return Value(fn.rule(*exprs), dim)
