@@ -27,12 +27,14 @@ def _paragraphs(evidence: Any) -> list[tuple[int, str]]:
         found.append(
             (2, f"fitted phasors against exact ones: largest difference {evidence.phasor_agreement:.2g} of the drive")
         )
+        # in the worksheet's own convention, as its claims are written
+        shown = 1 / math.sqrt(2) if evidence.convention == "rms" else 1.0
         for name, fitted, want in evidence.phasors:
             found.append(
                 (
                     4,
-                    f"{name:<14} fitted {abs(fitted):.6g} ∠ {_angle(fitted):.4f} deg   "
-                    f"exact {abs(want):.6g} ∠ {_angle(want):.4f} deg (peak)",
+                    f"{name:<14} fitted {abs(fitted) * shown:.6g} ∠ {_angle(fitted):.4f} deg   "
+                    f"exact {abs(want) * shown:.6g} ∠ {_angle(want):.4f} deg ({evidence.convention})",
                 )
             )
     found.append((2, f"Kirchhoff's current law: largest residual {evidence.kcl_relative:.2g} of the largest current"))

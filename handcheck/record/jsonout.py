@@ -73,6 +73,8 @@ def evidence_dict(evidence: Any) -> dict[str, Any]:
         "periods_to_settle": _number(evidence.periods_to_settle),
         "kcl_residual": _number(evidence.kcl_relative),
         "phasor_agreement": _number(evidence.phasor_agreement),
+        # the evidence's phasors are peak values whatever the worksheet's convention (said here)
+        "phasors_are": "peak",
         "phasors": [
             {"signal": name, "fitted": [_number(f.real), _number(f.imag)], "exact": [_number(e.real), _number(e.imag)]}
             for name, f, e in evidence.phasors

@@ -262,7 +262,10 @@ def evidence_figure(report: Report, evidence: Evidence) -> Any:
     for index, ((hz, unit), members) in enumerate(groups.items()):
         axes = figure.add_subplot(grid[2 * len(units) + index // columns, index % columns])
         at = f" at {_hz_text(hz)}" if several or hz != float(circuit.omega) / (2 * math.pi) else ""
-        _phasor_diagram(axes, [(r.step, r.claimed, r.exact) for r in members], unit, at)
+        # drawn in the worksheet's own convention, as its claims are written
+        shown = 1 / math.sqrt(2) if circuit.phasors == "rms" else 1.0
+        drawn = [(r.step, r.claimed * shown, r.exact * shown) for r in members]
+        _phasor_diagram(axes, drawn, f"{unit}, {circuit.phasors}", at)
     return figure
 
 
@@ -445,7 +448,7 @@ def _phasor_diagram(axes: Any, rows: list[tuple[str, complex, complex]], unit: s
     axes.set_aspect("equal")
     axes.axhline(0, color="grey", lw=0.5)
     axes.axvline(0, color="grey", lw=0.5)
-    axes.set_title(f"phasors [{unit}, peak]{at}", fontsize=9)
+    axes.set_title(f"phasors [{unit}]{at}", fontsize=9)
     key = [
         Line2D([], [], color="black", lw=2, label="exact"),
         Line2D([], [], color="black", lw=1.3, ls="--", marker="o", mfc="none", label="claimed"),

@@ -65,6 +65,7 @@ class Evidence:
     kcl_relative: float
     kcl_where: str
     phasors: tuple[tuple[str, complex, complex], ...] = ()  # (signal, fitted peak phasor, exact peak phasor)
+    convention: str = "peak"  # the worksheet's phasors ("peak" or "rms"): the unit a person reads them in
     phasor_agreement: float | None = None
     waveforms: tuple[tuple[str, float], ...] = ()  # (quantity, largest difference relative to peak)
     problems: tuple[str, ...] = ()
@@ -421,6 +422,7 @@ def gather_evidence(
         kcl_relative=float(kcl.relative),
         kcl_where=f"node {kcl.node}, t = {kcl.time:.4g} s" if kcl.node is not None and kcl.time is not None else "",
         phasors=tuple(rows),
+        convention=circuit.phasors,
         phasor_agreement=phasor_worst,
         waveforms=tuple(waveforms),
         problems=tuple(problems),
