@@ -54,6 +54,9 @@ def test_evidence_phasors_are_shown_in_the_worksheets_convention(convention: str
     # 10 V in the worksheet's convention: |Vout| = 10/sqrt(2) in that same convention
     assert f"exact {10 / math.sqrt(2):.6g} ∠ -45.0000 deg ({convention})" in row
     assert f"fitted {10 / math.sqrt(2):.6g} ∠" in row
+    # the drive's angle is 0: a fitted -1e-12 deg is shown as 0.0000, not -0.0000
+    drive = _row(evidence_lines(result.evidence), "voltage(in)")
+    assert drive.count("∠ 0.0000 deg") == 2 and "-0.0000" not in drive
     # the JSON keeps peak values, and says so
     data = evidence_dict(result.evidence)
     assert data["phasors_are"] == "peak"

@@ -15,8 +15,10 @@ from typing import Any
 __all__ = ["evidence_lines"]
 
 
-def _angle(z: complex) -> float:
-    return math.degrees(math.atan2(z.imag, z.real))
+def _angle(z: complex) -> str:
+    """The angle of ``z`` in degrees to four decimals ("0.0000", never "-0.0000")."""
+    text = f"{math.degrees(math.atan2(z.imag, z.real)):.4f}"
+    return "0.0000" if float(text) == 0 else text
 
 
 def _paragraphs(evidence: Any) -> list[tuple[int, str]]:
@@ -33,8 +35,8 @@ def _paragraphs(evidence: Any) -> list[tuple[int, str]]:
             found.append(
                 (
                     4,
-                    f"{name:<14} fitted {abs(fitted) * shown:.6g} ∠ {_angle(fitted):.4f} deg   "
-                    f"exact {abs(want) * shown:.6g} ∠ {_angle(want):.4f} deg ({evidence.convention})",
+                    f"{name:<14} fitted {abs(fitted) * shown:.6g} ∠ {_angle(fitted)} deg   "
+                    f"exact {abs(want) * shown:.6g} ∠ {_angle(want)} deg ({evidence.convention})",
                 )
             )
     found.append((2, f"Kirchhoff's current law: largest residual {evidence.kcl_relative:.2g} of the largest current"))
