@@ -38,12 +38,13 @@ from handcheck.verify.carried import without_true_formula
 from handcheck.verify.claims import Claim, Tolerance, agrees, read_claim, read_tolerance, relative_error, to_complex
 from handcheck.verify.cycles import expected_text, measure_note
 from handcheck.verify.findings import Diagnosis, Report, Shown, StepBase, StepFinding
+from handcheck.verify.following import Following, follows, root_cause, rounded
 from handcheck.verify.harmonics import other_frequencies_note
 from handcheck.verify.mistakes import Context, diagnose, worksheet_frequencies
-from handcheck.verify.present import describe_frequency, format_number, format_value
+from handcheck.verify.present import describe_frequency, format_value
 from handcheck.verify.rebuild import Agreed
 from handcheck.verify.responses import check_function_of_s, check_list
-from handcheck.verify.rounding import Written, by_size, describe, inside_claim, propagate, widened, within
+from handcheck.verify.rounding import Written
 from handcheck.verify.safety import cautions
 from handcheck.verify.waveform import check_waveform, comparison_span
 from handcheck.worksheet.evaluate import Value, evaluate
@@ -330,7 +331,7 @@ class _Checker:
                     **base, verdict="unit", message=f"the formula is not consistent in its units: {exc.message}"
                 )
             except HandcheckError as exc:
-                cause = self.root_cause(read.tree)
+                cause = root_cause(read.tree, self.findings)
                 if cause is None:
                     raise self.located(exc, step, "formula") from None
                 self.true_env[step.name] = truth if truth is not None else claim.value
@@ -391,11 +392,11 @@ class _Checker:
         if tree is None:
             return self.diagnosed(StepFinding(**base, **shown, verdict="differs"), context)
         try:
-            recomputed, follows = self.follows(claim, tree, step.formula or "", tolerance)
+            following = self.follows(claim, tree, step.formula or "", tolerance)
         except HandcheckError as exc:
             raise self.located(exc, step, "formula") from None
-        shown["recomputed"] = format_value(recomputed, claim)
-        if not follows:
+        shown["recomputed"] = format_value(following.recomputed, claim)
+        if not following.follows:
             return self.diagnosed(StepFinding(**base, **shown, verdict="arithmetic"), context)
         assert formula_true is not None
         if step.quantity and not agrees(claim, reference, tolerance, value=to_complex(formula_true.expr)):
@@ -406,57 +407,19 @@ class _Checker:
         method = self.diagnosed(StepFinding(**base, **shown, verdict="formula"), context, only=("magnitude-as-phasor",))
         if method.diagnosis:
             return method
-        cause = self.root_cause(tree)
+        cause = root_cause(tree, self.findings)
         if cause is not None:
             return StepFinding(**base, **shown, verdict="carried", caused_by=cause)
-        return self.rounded(StepFinding(**base, **shown, verdict="agrees"), tree, Written(claim, tolerance), truth)
-
-    def rounded(self, finding: StepFinding, tree: Node, written: Written, truth: Value) -> StepFinding:
-        """A claim that follows from earlier numbers that all agree: ``agrees`` when
-        their written digits, carried through the formula as balls (module rounding),
-        reach the true value; else ``formula`` (a plain size used as a number)."""
-        inputs = {n: self.written[n] for n in names_in(tree) if n in self.written and n in self.findings}
-        ball = propagate(tree, self.true_env, inputs)
-        reference = to_complex(truth.expr)
-        outside = [n for n in inputs if not inside_claim(inputs[n], to_complex(self.true_env[n].expr))]
-        names = ", ".join(inputs)
-
-        def show(z: complex) -> str:
-            return format_value(
-                Value(sympy.Float(z.real, 17) + sympy.I * sympy.Float(z.imag, 17), truth.dim), written.claim
-            )
-
-        def size(x: float) -> str:
-            return f"{format_number(x / float(written.claim.unit_factor), 4)} {written.claim.unit_text}".strip()
-
-        if ball is None and not outside:
-            message = (
-                f"follows from the rounded values of earlier steps: {names} as written (within their digits or "
-                f"stated tolerance, with what they carry from earlier steps) leave{'s' * (len(inputs) == 1)} this "
-                "value unbounded (the formula divides by a number that rounds to zero); write more digits there"
-            )
-            return dataclasses.replace(finding, message=message)
-        if ball is not None and within(written, ball, reference):
-            if not by_size(written.claim, reference):  # a plain size carries only its own digits
-                self.written[finding.name] = dataclasses.replace(written, carried=widened(written, ball))
-            message = (
-                f"follows from the rounded values of earlier steps: {names} as written (within their digits or "
-                f"stated tolerance, with what they carry from earlier steps) allow{'s' * (len(inputs) == 1)} "
-                f"{describe(ball, show, size)} here, and the true value {show(reference)} lies inside"
-            )
-            return dataclasses.replace(finding, message=message)
-        outside = [n for n in outside if by_size(inputs[n].claim, to_complex(self.true_env[n].expr))]
-        if outside:
-            which = ", ".join(outside)
-            message = (
-                f"the claim follows from the numbers written for {names}, but {which} "
-                f"{'is' if len(outside) == 1 else 'are'} written as a plain number that does not stand for "
-                f"the value (the size of a complex value); used as a number in this formula it does not give "
-                f"the true value {show(reference)}: write {which} as a polar or rectangular value"
-            )
-        else:
-            message = "the claim follows from the numbers written in earlier steps, but not from their values"
-        return dataclasses.replace(finding, verdict="formula", message=message)
+        finding, carried = rounded(
+            StepFinding(**base, **shown, verdict="agrees"),
+            tree,
+            Written(claim, tolerance),
+            truth,
+            (self.true_env, self.written),
+        )
+        if carried is not None:
+            self.written[step.name] = carried
+        return finding
 
     def settled(self, step: StepSpec, solved: Solution | None) -> StepFinding:
         """The step's finding with its basis and notes; a formula-only step is told
@@ -504,14 +467,14 @@ class _Checker:
         if tree is None:
             return None
         try:
-            recomputed, follows = self.follows(claim, tree, step.formula or "", tolerance)
+            following = self.follows(claim, tree, step.formula or "", tolerance)
         except TimeLimitError:
             raise
         except HandcheckError:
             return None
-        if follows:
+        if following.follows:
             return None
-        return f"the claim is right, but the formula as written gives {format_value(recomputed, claim)}"
+        return f"the claim is right, but the formula as written gives {format_value(following.recomputed, claim)}"
 
     def notes(self) -> tuple[str, ...]:
         """Remarks on the analysis an engineer should not miss."""
@@ -537,27 +500,9 @@ class _Checker:
                 return claimed
         return claimed
 
-    def follows(self, claim_value: Claim, tree: Node, text: str, tolerance: Tolerance) -> tuple[Value, bool]:
-        """The formula on the author's numbers, and whether the claim follows from it
-        (from the rounded numbers as written, or from the unrounded ones)."""
-        recomputed = evaluate(tree, self.claimed_env, text)
-        if agrees(claim_value, to_complex(recomputed.expr), tolerance):
-            return recomputed, True
-        try:
-            unrounded = evaluate(tree, self.full_env, text)
-        except TimeLimitError:
-            raise
-        except HandcheckError:
-            return recomputed, False
-        return recomputed, agrees(claim_value, to_complex(unrounded.expr), tolerance)
-
-    def root_cause(self, tree: Node) -> str | None:
-        for name in names_in(tree):
-            finding = self.findings.get(name)
-            if finding is None or finding.verdict in ("agrees", "unchecked"):
-                continue
-            return finding.caused_by if finding.verdict == "carried" and finding.caused_by else name
-        return None
+    def follows(self, claim: Claim, tree: Node, text: str, tolerance: Tolerance) -> Following:
+        """The formula on the author's numbers, and whether the claim follows from it."""
+        return follows(claim, tolerance, tree, text, (self.claimed_env, self.full_env))
 
     @staticmethod
     def diagnosed(finding: StepFinding, context: Context, only: tuple[str, ...] | None = None) -> StepFinding:
