@@ -38,7 +38,7 @@ from handcheck.verify.carried import without_true_formula
 from handcheck.verify.claims import Claim, Tolerance, agrees, read_claim, read_tolerance, relative_error, to_complex
 from handcheck.verify.cycles import expected_text, measure_note
 from handcheck.verify.findings import Diagnosis, Report, Shown, StepBase, StepFinding
-from handcheck.verify.following import Following, follows, root_cause, rounded
+from handcheck.verify.following import Following, follows, follows_note, root_cause, rounded
 from handcheck.verify.harmonics import other_frequencies_note
 from handcheck.verify.mistakes import Context, diagnose, worksheet_frequencies
 from handcheck.verify.present import describe_frequency, format_value
@@ -409,7 +409,8 @@ class _Checker:
             return method
         cause = root_cause(tree, self.findings)
         if cause is not None:
-            return StepFinding(**base, **shown, verdict="carried", caused_by=cause)
+            note = follows_note(following, claim)
+            return StepFinding(**base, **shown, verdict="carried", caused_by=cause, message=note)
         finding, carried = rounded(
             StepFinding(**base, **shown, verdict="agrees"),
             tree,
@@ -502,7 +503,7 @@ class _Checker:
 
     def follows(self, claim: Claim, tree: Node, text: str, tolerance: Tolerance) -> Following:
         """The formula on the author's numbers, and whether the claim follows from it."""
-        return follows(claim, tolerance, tree, text, (self.claimed_env, self.full_env))
+        return follows(claim, tolerance, tree, text, (self.claimed_env, self.full_env), self.written)
 
     @staticmethod
     def diagnosed(finding: StepFinding, context: Context, only: tuple[str, ...] | None = None) -> StepFinding:

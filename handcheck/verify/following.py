@@ -1,8 +1,13 @@
 """Whether a claim follows from the author's own earlier numbers, and what rounding explains.
 
 A step's claim *follows* when it is what the step's formula gives from the numbers
-the author wrote for earlier steps: on those numbers as written, or on the author's
-unrounded values where they can be known, the claim read within its own digits.
+the author wrote for earlier steps: on those numbers as written, on the author's
+unrounded values where they can be known, or on any values those written numbers
+stand for (their intervals carried through the formula with ball arithmetic,
+module :mod:`handcheck.verify.rounding`), the claim read within its own digits. An
+author who carries unrounded values through a chain writes claims that differ from
+the formula on the rounded numbers by more than their last digit; the propagated
+ball covers that, so the step is judged on its method, not on the rounding.
 
 Then, for a claim that follows: ``carried`` from the earliest wrong step it uses
 (never from a step that agrees), or, where every input agrees, ``agrees`` when the
@@ -25,6 +30,7 @@ from handcheck.verify.rounding import (
     Written,
     by_size,
     describe,
+    holds_claim,
     inside_claim,
     propagate,
     widened,
@@ -33,15 +39,27 @@ from handcheck.verify.rounding import (
 from handcheck.worksheet.evaluate import Value, evaluate
 from handcheck.worksheet.expr import Node, names_in
 
-__all__ = ["Following", "follows", "root_cause", "rounded"]
+__all__ = ["Following", "follows", "follows_note", "root_cause", "rounded"]
 
 
 @dataclasses.dataclass(frozen=True)
 class Following:
-    """The formula on the author's numbers, and whether the claim follows from them."""
+    """The formula on the author's numbers, and whether the claim follows from them.
+
+    ``ball`` is the propagated ball when only the written digits of the earlier steps
+    explain the claim (the formula on the numbers as written, and on the unrounded
+    ones, misses the claim's own digits), with ``inputs`` the earlier steps it carries.
+    """
 
     recomputed: Value
     follows: bool
+    ball: Any = None
+    inputs: tuple[str, ...] = ()
+
+
+def _earlier(tree: Node, written: Mapping[str, Written]) -> dict[str, Written]:
+    """The earlier steps the formula uses, as written (each carrying only its own digits)."""
+    return {n: dataclasses.replace(written[n], carried=None) for n in names_in(tree) if n in written}
 
 
 def follows(
@@ -50,6 +68,7 @@ def follows(
     tree: Node,
     text: str,
     envs: tuple[Mapping[str, Value], Mapping[str, Value]],
+    written: Mapping[str, Written],
 ) -> Following:
     """Whether ``claim`` follows from the step's formula on the author's earlier numbers.
 
@@ -62,12 +81,15 @@ def follows(
     envs
         The author's numbers as written, and as unrounded as they can be known
         (name -> value; part values, ``f`` and ``w`` in both).
+    written
+        The earlier steps' claims as written, used only for the names in ``tree``.
 
     Returns
     -------
     Following
         The formula on the numbers as written (the recomputation shown), and whether
-        the claim follows: on those, or on the unrounded ones.
+        the claim follows: on those, on the unrounded ones, or inside the ball the
+        written digits allow widened by the claim's own digits.
     """
     claimed_env, full_env = envs
     recomputed = evaluate(tree, claimed_env, text)
@@ -80,7 +102,28 @@ def follows(
         raise
     except HandcheckError:
         unrounded = None
-    return Following(recomputed, unrounded is not None and agrees(claim, to_complex(unrounded.expr), tolerance))
+    if unrounded is not None and agrees(claim, to_complex(unrounded.expr), tolerance):
+        return Following(recomputed, True)
+    inputs = _earlier(tree, written)
+    if not inputs:
+        return Following(recomputed, False)  # nothing rounded goes in: the numbers are exact
+    ball = propagate(tree, claimed_env, inputs)
+    if ball is None or not holds_claim(Written(claim, tolerance), ball, by_size(claim, point)):
+        return Following(recomputed, False)
+    return Following(recomputed, True, ball, tuple(inputs))
+
+
+def follows_note(following: Following, claim: Claim) -> str | None:
+    """The note of a claim that follows only through the written digits of earlier steps."""
+    if following.ball is None:
+        return None
+    names = ", ".join(following.inputs)
+    dim = following.recomputed.dim
+    allowed = describe(following.ball, lambda z: _show(z, dim, claim), lambda x: _size(x, claim))
+    return (
+        f"follows from the numbers written for {names}: their digits (or stated tolerance), carried through "
+        f"the formula, allow {allowed} here, and the claim lies inside within its own digits"
+    )
 
 
 def _show(z: complex, dim: Any, claim: Claim) -> str:

@@ -29,7 +29,17 @@ from handcheck.verify.claims import SLACK, Claim, Tolerance, to_complex
 from handcheck.worksheet.evaluate import Value, unit_of
 from handcheck.worksheet.expr import Binary, Call, Name, Node, Number, Unary
 
-__all__ = ["Written", "by_size", "claim_ball", "describe", "inside_claim", "propagate", "widened", "within"]
+__all__ = [
+    "Written",
+    "by_size",
+    "claim_ball",
+    "describe",
+    "holds_claim",
+    "inside_claim",
+    "propagate",
+    "widened",
+    "within",
+]
 
 #: Working precision of the balls, in bits (about 38 decimal digits).
 PRECISION = 128
@@ -337,6 +347,23 @@ def within(written: Written, ball: Any, truth: complex) -> bool:
     angle = ball.arg()
     target = math.atan2(truth.imag, truth.real)
     return any(_reaches(abs(angle + k * 2 * flint.arb.pi() - target), res_b + 1e-12) for k in (-1, 0, 1))
+
+
+def holds_claim(written: Written, ball: Any, by_magnitude: bool) -> bool:
+    """True when the claim as written lies inside ``ball`` widened by its own digits (or
+    tolerance): some value of the ball rounds to the claim.
+
+    With ``by_magnitude`` (a plain number claimed for a complex value) the claim is
+    read as the size of the ball's values, as :func:`handcheck.verify.claims.agrees`
+    reads it.
+    """
+    claim, tolerance = written.claim, written.tolerance
+    value = to_complex(claim.value.expr)
+    if not by_magnitude:
+        return within(written, ball, value)
+    size = abs(value)
+    limit = (tolerance.relative * size if tolerance.relative is not None else claim.resolution[0]) + SLACK * size
+    return _reaches(abs(abs(ball) - size), limit + 1e-300)
 
 
 def describe(ball: Any, show: Callable[[complex], str], size: Callable[[float], str]) -> str:
