@@ -488,11 +488,16 @@ class _Checker:
         return ()
 
     def unrounded(self, step: StepSpec, finding: StepFinding) -> Value:
-        """The author's value of a step before rounding, as well as it can be known."""
+        """The author's value of a step before rounding, as well as it can be known.
+
+        A carried step keeps its claim as written: the written digits of what it
+        carries already hold the author's unrounded numbers (module following), and
+        its formula on a polar claim's exact value, step after step, is a sympy tree
+        that doubles with each step."""
         claimed = self.claimed_env[step.name]
         if finding.verdict == "agrees" and step.name in self.true_env:
             return self.true_env[step.name]
-        if finding.verdict in ("formula", "carried") and step.formula:
+        if finding.verdict == "formula" and step.formula:
             try:
                 return evaluate(parse(step.formula, self.names), self.full_env, step.formula)
             except TimeLimitError:
