@@ -60,7 +60,7 @@ def _misses(claim: mpmath.mpc, formula: mpmath.mpc, form: str) -> bool:
     return part_misses(claim.real, formula.real) or part_misses(claim.imag, formula.imag)
 
 
-def chain(form: str, slips: dict[int, str]) -> tuple[str, list[int]]:
+def chain(form: str, slips: dict[int, str], steps: int = STEPS) -> tuple[str, list[int]]:
     """The worksheet of the chain with the steps in ``slips`` multiplied by their factor,
     and the later steps whose claim misses the formula on the rounded numbers."""
     write = _polar if form == "polar" else _rectangular
@@ -88,8 +88,8 @@ def chain(form: str, slips: dict[int, str]) -> tuple[str, list[int]]:
             f'claim = "{R} ohm"',
         ]
         z, written, missing = mpmath.mpc(r), mpmath.mpc(r), []
-        first = min(slips, default=STEPS + 1)
-        for k in range(1, STEPS + 1):
+        first = min(slips, default=steps + 1)
+        for k in range(1, steps + 1):
             z = r + z * (1j * xc) / (z + 1j * xc)
             z *= mpmath.mpf(slips.get(k, "1"))
             text, value = write(z)
