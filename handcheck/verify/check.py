@@ -43,7 +43,7 @@ from handcheck.verify.harmonics import other_frequencies_note
 from handcheck.verify.mistakes import Context, diagnose, worksheet_frequencies
 from handcheck.verify.present import describe_frequency, format_value
 from handcheck.verify.rebuild import Agreed
-from handcheck.verify.responses import check_function_of_s, check_list
+from handcheck.verify.responses import S_IN_FORMULAS, check_function_of_s, check_list
 from handcheck.verify.rounding import Written
 from handcheck.verify.safety import cautions
 from handcheck.verify.waveform import check_waveform, comparison_span
@@ -141,8 +141,9 @@ class _Checker:
         """The closed-form complete response (computed on first use)."""
         return self.exact.transient
 
-    def check_response(self, base: StepBase, claim: Claim, quantity: Quantity, tolerance: Tolerance) -> StepFinding:
+    def check_response(self, read: _Read, quantity: Quantity) -> StepFinding:
         """A claimed network function (in s) or a claimed list (poles, zeros, band edges)."""
+        base, claim, tolerance = read.base, read.claim, read.tolerance
         if quantity.name in LIST_QUANTITIES:
             truths = evaluate_values(self.solution, quantity)
             return check_list(base, claim, truths, tolerance)
@@ -165,7 +166,20 @@ class _Checker:
             return StepFinding(
                 **base, verdict="unit", message=f"a function of s is claimed, but {quantity} is no network function"
             )
-        return check_function_of_s(base, claim, truth, tolerance)
+        return check_function_of_s(base, claim, truth, tolerance, self.formula_of_s(read))
+
+    def formula_of_s(self, read: _Read) -> Value | UnitError | None:
+        """The step's formula as a function of s (in 1/s) on the true part values; None
+        without one, the error where its units do not add up."""
+        if read.step.formula is None:
+            return None
+        try:
+            tree = parse(read.step.formula, self.names | {"s"})
+            return evaluate(tree, {**self.true_env, "s": S_IN_FORMULAS}, read.step.formula)
+        except UnitError as exc:
+            return exc
+        except HandcheckError as exc:
+            raise self.located(exc, read.step, "formula") from None
 
     @property
     def solution(self) -> Solution:
@@ -303,7 +317,7 @@ class _Checker:
             ):
                 self.function_steps.add(step.name)
                 self.true_env[step.name] = claim.value
-                return quantity, self.check_response(base, claim, quantity, tolerance)
+                return quantity, self.check_response(read, quantity)
             if quantity.name in TIME_DOMAIN:
                 truth = evaluate_time_quantity(self.transient, quantity, lambda q: evaluate_quantity(self.solution, q))
                 if quantity.name == "peak" and not to_complex(claim.value.expr).real < 0:

@@ -14,18 +14,24 @@ slip (s scaled by 2*pi, codes ``hertz-as-angular`` and ``angular-as-hertz``).
 
 from __future__ import annotations
 
+import dataclasses
 import math
 
 import mpmath
 import sympy
 
+from handcheck.errors import UnitError
 from handcheck.verify.claims import LAPLACE, Claim, Tolerance, agrees, relative_error, to_complex
 from handcheck.verify.findings import Diagnosis, Expected, StepBase, StepFinding
 from handcheck.verify.present import describe_rational, format_number, format_value
 from handcheck.worksheet.evaluate import Value
+from handcheck.worksheet.units import DIMENSIONLESS, dim_of
 
-__all__ = ["check_function_of_s", "check_list"]
+__all__ = ["S_IN_FORMULAS", "check_function_of_s", "check_list"]
 
+#: The s of a network function's formula: beside part values it is in 1/s (rad/s), so
+#: that s*R1*C1 has no unit.
+S_IN_FORMULAS = Value(LAPLACE, DIMENSIONLESS / dim_of("s"))
 #: Points of the comparison grid.
 GRID = 241
 
@@ -55,8 +61,50 @@ def _at(expr: sympy.Expr, w: float) -> complex:
     return complex(f(mpmath.mpc(0, w)))
 
 
-def check_function_of_s(base: StepBase, claim: Claim, truth: Value, tolerance: Tolerance) -> StepFinding:
-    """The verdict on a claimed network function against the exact one."""
+def check_function_of_s(
+    base: StepBase, claim: Claim, truth: Value, tolerance: Tolerance, formula: Value | UnitError | None = None
+) -> StepFinding:
+    """The verdict on a claimed network function against the exact one, and on the step's
+    ``formula`` (evaluated on the true part values, or the unit error it raised) where it
+    has one."""
+    found = _claimed_function(base, claim, truth, tolerance)
+    if formula is None or found.verdict == "unit":
+        return found
+    if isinstance(formula, UnitError):
+        message = f"the formula is not consistent in its units: {formula.message}"
+        return dataclasses.replace(found, verdict="unit", message=message)
+    return _with_formula(found, claim, truth, tolerance, formula)
+
+
+def _same_function(a: sympy.Expr, b: sympy.Expr, limit: float) -> bool:
+    """Whether two functions of s are the same exactly, or within ``limit`` over the grid."""
+    if sympy.cancel(sympy.together(a - b)) == 0:
+        return True
+    return _largest_difference(a, b, _grid(a, b))[0] <= limit
+
+
+def _with_formula(found: StepFinding, claim: Claim, truth: Value, tolerance: Tolerance, formula: Value) -> StepFinding:
+    """The finding of the claim, judged again with the step's formula (worksheet format 1:
+    ``formula`` when the formula on true inputs is not the quantity, ``arithmetic`` when the
+    claim does not follow from a right formula)."""
+    written = f"{describe_rational(formula.expr)} {claim.unit_text}".strip()
+    if formula.dim != truth.dim:
+        message = f"the formula is in {formula.dim or 'no unit'}, but the quantity is in {truth.dim or 'no unit'}"
+        return dataclasses.replace(found, recomputed=written, verdict="unit", message=message)
+    limit = tolerance.relative if tolerance.relative is not None else max(claim.resolution[0], 1e-12)
+    right = _same_function(formula.expr, truth.expr, limit)
+    if found.verdict == "agrees":
+        notes = () if right else (f"the claim is right, but the formula as written gives {written}",)
+        return dataclasses.replace(found, recomputed=written, notes=found.notes + notes)
+    if right:
+        message = f"the formula is right, but the claim does not follow from it: it gives {written}"
+        return dataclasses.replace(found, recomputed=written, verdict="arithmetic", message=message)
+    message = f"the formula, on the true part values, is not the circuit's network function: it gives {written}"
+    return dataclasses.replace(found, recomputed=written, verdict="formula", message=message)
+
+
+def _claimed_function(base: StepBase, claim: Claim, truth: Value, tolerance: Tolerance) -> StepFinding:
+    """The verdict on the claimed function alone."""
     shown: Expected = {
         "expected": f"{describe_rational(truth.expr)} {claim.unit_text}".strip(),
         "exact": truth.expr,
