@@ -29,6 +29,10 @@ import pytest
 
 from handcheck.cli import main
 
+#: one worker runs this file, so that its module fixtures (the subprocess runs above all,
+#: 7 s) are made once, not once a worker (pyproject.toml: --dist loadgroup)
+pytestmark = pytest.mark.xdist_group("contract")
+
 REPO = Path(__file__).resolve().parent.parent
 CONTRACT = REPO / "tests" / "contract"
 CASES = CONTRACT / "cases"
