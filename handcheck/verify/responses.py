@@ -76,6 +76,12 @@ def check_function_of_s(
     return _with_formula(found, claim, truth, tolerance, formula)
 
 
+def _allowed(claim: Claim, tolerance: Tolerance) -> float:
+    """The largest relative difference a claimed function may have: the step's percentage,
+    or the claim's own digits."""
+    return tolerance.relative if tolerance.relative is not None else max(claim.resolution[0], 1e-12)
+
+
 def _same_function(a: sympy.Expr, b: sympy.Expr, limit: float) -> bool:
     """Whether two functions of s are the same exactly, or within ``limit`` over the grid."""
     if sympy.cancel(sympy.together(a - b)) == 0:
@@ -91,7 +97,7 @@ def _with_formula(found: StepFinding, claim: Claim, truth: Value, tolerance: Tol
     if formula.dim != truth.dim:
         message = f"the formula is in {formula.dim or 'no unit'}, but the quantity is in {truth.dim or 'no unit'}"
         return dataclasses.replace(found, recomputed=written, verdict="unit", message=message)
-    limit = tolerance.relative if tolerance.relative is not None else max(claim.resolution[0], 1e-12)
+    limit = _allowed(claim, tolerance)
     right = _same_function(formula.expr, truth.expr, limit)
     if found.verdict == "agrees":
         notes = () if right else (f"the claim is right, but the formula as written gives {written}",)
@@ -123,7 +129,7 @@ def _claimed_function(base: StepBase, claim: Claim, truth: Value, tolerance: Tol
         )
     grid = _grid(truth.expr, claim.value.expr)
     error, worst = _largest_difference(truth.expr, claim.value.expr, grid)
-    limit = tolerance.relative if tolerance.relative is not None else max(claim.resolution[0], 1e-12)
+    limit = _allowed(claim, tolerance)
     message = (
         f"compared at {GRID} frequencies from {format_number(grid[0], 4)} to {format_number(grid[-1], 4)} rad/s; "
         f"largest relative difference {error:.3g} at {format_number(worst, 4)} rad/s (allowed {limit:.3g})"

@@ -311,18 +311,20 @@ class _Evaluator:
         hint = f"; known names: {known}" if known else ""
         raise ParseError(f'unknown name "{ident}"{hint}', self.text, node.start + 1)
 
-    def combined(self, op: str, left: sympy.Expr, right: sympy.Expr) -> sympy.Expr | None:
-        """``left op right`` when an operand is large (None: not done so).
+    def arithmetic(self, op: str, left: sympy.Expr, right: sympy.Expr) -> sympy.Expr:
+        """``left op right`` for ``op`` one of + - * / ||.
 
-        In canonical form where both operands have one; else by sympy, on the large
-        operands held by name (a canonical form of pi times sqrt(2) has none, and
-        sympy's division asks the assumptions of its every term).
+        When an operand is large: in canonical form where both operands have one; else by
+        sympy, on the large operands held by name (a canonical form of pi times sqrt(2) has
+        none, and sympy's division asks the assumptions of its every term).
         """
         if not (_large(left) or _large(right)):
-            return None
+            return _SYMPY[op](left, right)
         fast = self.fast(pifraction.combine(op, left, right, _MAX_BITS))
-        if fast is not None or (pifraction.from_expr(left) is not None and pifraction.from_expr(right) is not None):
-            return fast  # None: no value, or too wide; sympy does it and reports what it finds
+        if fast is not None:
+            return fast
+        if pifraction.from_expr(left) is not None and pifraction.from_expr(right) is not None:
+            return _SYMPY[op](left, right)  # no value, or too wide: sympy does it and reports what it finds
         return _SYMPY[op](held(left), held(right))
 
     def binary(self, node: Binary) -> Value:
@@ -336,24 +338,15 @@ class _Evaluator:
                     f'cannot {what} "{self.quote(node.left)}" ({left.dim or "no unit"}) and '
                     f'"{self.quote(node.right)}" ({right.dim or "no unit"}) in "{self.quote(node)}"'
                 )
-            fast = self.combined(op, left.expr, right.expr)
-            if fast is not None:
-                return Value(fast, left.dim)
-            if op == "+":
-                return Value(left.expr + right.expr, left.dim)
-            if op == "-":
-                return Value(left.expr - right.expr, left.dim)
-            return Value(_parallel(left.expr, right.expr), left.dim)
+            return Value(self.arithmetic(op, left.expr, right.expr), left.dim)
         if op == "*":
-            fast = self.combined(op, left.expr, right.expr)
-            return Value(left.expr * right.expr if fast is None else fast, left.dim * right.dim)
+            return Value(self.arithmetic(op, left.expr, right.expr), left.dim * right.dim)
         if op == "/":
             if right.expr == 0:
                 raise ParseError(
                     f'division by zero: "{self.quote(node.right)}" is exactly 0', self.text, node.right.start + 1
                 )
-            fast = self.combined(op, left.expr, right.expr)
-            return Value(left.expr / right.expr if fast is None else fast, left.dim / right.dim)
+            return Value(self.arithmetic(op, left.expr, right.expr), left.dim / right.dim)
         if op == "^":
             return self.power(node, left, right)
         if op == "angle":
